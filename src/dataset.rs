@@ -1,0 +1,141 @@
+//! Measurements in the internal SI system, grouped into series and temperatures.
+//! Nothing here knows about files or polars: the input module produces these.
+
+use std::collections::HashMap;
+
+/// Where a measurement came from, for messages.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Origin {
+    /// Index into the list of input files.
+    pub file: usize,
+    /// 1-based line in that file.
+    pub line: usize,
+}
+
+/// One osmotic-pressure reading.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Measurement {
+    /// Series (polymer–solvent pair or sample) the reading belongs to.
+    pub series: String,
+    /// Temperature T in K.
+    pub temperature_k: f64,
+    /// Polymer mass concentration c in kg/m³.
+    pub concentration_kg_per_m3: f64,
+    /// Osmotic pressure Π in Pa.
+    pub pressure_pa: f64,
+    /// Standard deviation of Π in Pa, when the lab gave one.
+    pub pressure_sd_pa: Option<f64>,
+    /// File and line.
+    pub origin: Origin,
+}
+
+/// Readings of one series at one temperature.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct TemperatureSet {
+    /// Mean temperature of the grouped readings, K.
+    pub temperature_k: f64,
+    /// Concentrations c, kg/m³.
+    pub concentration_kg_per_m3: Vec<f64>,
+    /// Osmotic pressures Π, Pa.
+    pub pressure_pa: Vec<f64>,
+    /// Standard deviations of Π, Pa (`None` where not given).
+    pub pressure_sd_pa: Vec<Option<f64>>,
+    /// Origin of each reading.
+    pub origins: Vec<Origin>,
+}
+
+impl TemperatureSet {
+    /// Number of readings.
+    pub fn len(&self) -> usize {
+        self.concentration_kg_per_m3.len()
+    }
+
+    /// True when there are no readings.
+    pub fn is_empty(&self) -> bool {
+        self.concentration_kg_per_m3.is_empty()
+    }
+
+    /// Number of distinct concentrations (readings within 1e-9 relative are one).
+    pub fn distinct_concentrations(&self) -> usize {
+        let mut c = self.concentration_kg_per_m3.clone();
+        c.sort_by(f64::total_cmp);
+        c.dedup_by(|a, b| (*a - *b).abs() <= 1e-9 * b.abs());
+        c.len()
+    }
+}
+
+/// All readings of one series, temperatures ascending.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Series {
+    /// Series name.
+    pub name: String,
+    /// One entry per temperature, ascending.
+    pub temperatures: Vec<TemperatureSet>,
+}
+
+/// Readings closer than this in temperature are one temperature (thermostats report 0.1 K at best).
+pub const TEMPERATURE_GROUPING_K: f64 = 0.01;
+
+/// Groups readings into series (in order of first appearance) and temperatures (ascending).
+/// Readings within each temperature keep their input order.
+pub fn group(measurements: &[Measurement]) -> Vec<Series> {
+    let mut order: Vec<&str> = Vec::new();
+    let mut by_series: HashMap<&str, HashMap<i64, TemperatureSet>> = HashMap::new();
+    for m in measurements {
+        let sets = by_series.entry(m.series.as_str()).or_insert_with(|| {
+            order.push(m.series.as_str());
+            HashMap::new()
+        });
+        let key = (m.temperature_k / TEMPERATURE_GROUPING_K).round() as i64;
+        let set = sets.entry(key).or_default();
+        set.temperature_k += m.temperature_k;
+        set.concentration_kg_per_m3.push(m.concentration_kg_per_m3);
+        set.pressure_pa.push(m.pressure_pa);
+        set.pressure_sd_pa.push(m.pressure_sd_pa);
+        set.origins.push(m.origin);
+    }
+    order
+        .into_iter()
+        .map(|name| {
+            let mut temperatures: Vec<(i64, TemperatureSet)> =
+                by_series.remove(name).unwrap_or_default().into_iter().collect();
+            temperatures.sort_by_key(|(key, _)| *key);
+            let temperatures = temperatures
+                .into_iter()
+                .map(|(_, mut set)| {
+                    set.temperature_k /= set.len() as f64;
+                    set
+                })
+                .collect();
+            Series { name: name.to_string(), temperatures }
+        })
+        .collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn m(series: &str, t: f64, c: f64) -> Measurement {
+        Measurement {
+            series: series.into(),
+            temperature_k: t,
+            concentration_kg_per_m3: c,
+            pressure_pa: 1.0,
+            pressure_sd_pa: None,
+            origin: Origin { file: 0, line: 2 },
+        }
+    }
+
+    #[test]
+    fn series_keep_first_seen_order_and_temperatures_sort_ascending() {
+        let data = [m("b", 310.0, 1.0), m("a", 300.0, 1.0), m("b", 300.0, 2.0), m("b", 310.001, 3.0)];
+        let series = group(&data);
+        assert_eq!(series.iter().map(|s| s.name.as_str()).collect::<Vec<_>>(), ["b", "a"]);
+        let b = &series[0];
+        assert_eq!(b.temperatures.len(), 2);
+        assert_eq!(b.temperatures[0].temperature_k, 300.0);
+        assert_eq!(b.temperatures[1].concentration_kg_per_m3, vec![1.0, 3.0]);
+        assert!((b.temperatures[1].temperature_k - 310.0005).abs() < 1e-9);
+    }
+}

@@ -1,0 +1,102 @@
+//! Header cells: a name matched case-insensitively, and a unit in `( )` or `[ ]` after it.
+
+/// What a column holds.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub enum Role {
+    /// Name of the series (polymer–solvent pair or sample); `series` or `sample`.
+    Series,
+    /// Temperature of the measurement.
+    Temperature,
+    /// Polymer mass concentration.
+    Concentration,
+    /// Osmotic pressure.
+    Pressure,
+    /// Standard deviation of one osmotic-pressure reading.
+    PressureSd,
+    /// Height of the solvent column (hydrostatic head).
+    Head,
+    /// Density of the solvent, for converting a head to a pressure.
+    SolventDensity,
+}
+
+impl Role {
+    /// The canonical header name, as shown in messages.
+    pub fn name(self) -> &'static str {
+        match self {
+            Role::Series => "series",
+            Role::Temperature => "temperature",
+            Role::Concentration => "concentration",
+            Role::Pressure => "pressure",
+            Role::PressureSd => "pressure sd",
+            Role::Head => "head",
+            Role::SolventDensity => "solvent density",
+        }
+    }
+
+    /// Whether the column carries a physical unit.
+    pub fn has_unit(self) -> bool {
+        !matches!(self, Role::Series)
+    }
+
+    fn from_name(name: &str) -> Option<Role> {
+        Some(match name {
+            "series" | "sample" => Role::Series,
+            "temperature" => Role::Temperature,
+            "concentration" => Role::Concentration,
+            "pressure" | "osmotic pressure" => Role::Pressure,
+            "pressure sd" | "osmotic pressure sd" => Role::PressureSd,
+            "head" => Role::Head,
+            "solvent density" => Role::SolventDensity,
+            _ => return None,
+        })
+    }
+}
+
+/// One header cell, split into its name and unit.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct HeaderCell {
+    /// The cell exactly as written (trimmed).
+    pub raw: String,
+    /// Lower-case name with runs of white space folded to one space.
+    pub name: String,
+    /// The text inside the trailing brackets, if any.
+    pub unit: Option<String>,
+    /// The role the name maps to; `None` for columns we do not use.
+    pub role: Option<Role>,
+}
+
+/// Parses `temperature (C)`, `Concentration [g/L]`, `series`, ...
+pub fn parse_header_cell(raw: &str) -> HeaderCell {
+    let raw = raw.trim().to_string();
+    let (name, unit) = split_unit(&raw);
+    let name = name.split_whitespace().collect::<Vec<_>>().join(" ").to_lowercase();
+    let role = Role::from_name(&name);
+    HeaderCell { raw, name, unit, role }
+}
+
+fn split_unit(cell: &str) -> (&str, Option<String>) {
+    for (open, close) in [('(', ')'), ('[', ']')] {
+        if let Some(stripped) = cell.strip_suffix(close) {
+            if let Some(at) = stripped.rfind(open) {
+                return (&cell[..at], Some(stripped[at + 1..].trim().to_string()));
+            }
+        }
+    }
+    (cell, None)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn names_are_case_insensitive_and_units_sit_in_either_bracket() {
+        let c = parse_header_cell(" Temperature  (C) ");
+        assert_eq!((c.name.as_str(), c.unit.as_deref(), c.role), ("temperature", Some("C"), Some(Role::Temperature)));
+        let c = parse_header_cell("Pressure   SD [kPa]");
+        assert_eq!((c.name.as_str(), c.unit.as_deref(), c.role), ("pressure sd", Some("kPa"), Some(Role::PressureSd)));
+        let c = parse_header_cell("Sample");
+        assert_eq!((c.unit, c.role), (None, Some(Role::Series)));
+        assert_eq!(parse_header_cell("notes").role, None);
+    }
+}

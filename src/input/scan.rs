@@ -1,0 +1,124 @@
+//! A quote-aware pass over the raw bytes that finds the header and the line number of every
+//! record, so that messages can name lines (polars itself reports only byte offsets).
+
+/// One record (data row) of the file, as the CSV reader will see it.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct RecordLine {
+    /// 1-based line on which the record starts.
+    pub line: usize,
+    /// Number of comma-separated fields (quotes respected).
+    pub n_fields: usize,
+    /// The record holds nothing but white space.
+    pub blank: bool,
+}
+
+/// The structure of a CSV file: its header fields and the records after it.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Layout {
+    /// 1-based line of the header.
+    pub header_line: usize,
+    /// Header fields, unquoted and trimmed.
+    pub header: Vec<String>,
+    /// Every record after the header, blank ones included (the reader yields them as nulls).
+    pub records: Vec<RecordLine>,
+}
+
+/// The UTF-8 byte-order mark, which spreadsheet exports often put first.
+pub const BOM: &[u8] = b"\xef\xbb\xbf";
+
+/// Splits `bytes` into records: `#` at the start of a line makes a comment, the first other
+/// line is the header. Returns `None` when there is no header at all.
+pub fn scan(bytes: &[u8]) -> Option<Layout> {
+    let bytes = bytes.strip_prefix(BOM).unwrap_or(bytes);
+    let mut header: Option<(usize, Vec<String>)> = None;
+    let mut records = Vec::new();
+    let mut line = 1usize;
+    let mut pos = 0usize;
+    while pos < bytes.len() {
+        let start_line = line;
+        let (end, next, newlines) = record_end(bytes, pos);
+        let text = &bytes[pos..end];
+        let text = text.strip_suffix(b"\r").unwrap_or(text);
+        pos = next;
+        line += newlines;
+        if text.first() == Some(&b'#') {
+            continue;
+        }
+        let fields = split_fields(text);
+        match header {
+            None => {
+                if text.iter().all(u8::is_ascii_whitespace) {
+                    continue;
+                }
+                header = Some((start_line, fields));
+            }
+            Some(_) => records.push(RecordLine {
+                line: start_line,
+                n_fields: fields.len(),
+                blank: fields.iter().all(|f| f.trim().is_empty()),
+            }),
+        }
+    }
+    header.map(|(header_line, header)| Layout { header_line, header, records })
+}
+
+/// End of the record starting at `pos` (exclusive, before the newline), the start of the next
+/// one, and how many line breaks were consumed (quoted fields may span lines).
+fn record_end(bytes: &[u8], pos: usize) -> (usize, usize, usize) {
+    let mut in_quotes = false;
+    let mut newlines = 0;
+    let mut i = pos;
+    while i < bytes.len() {
+        match bytes[i] {
+            b'"' => in_quotes = !in_quotes,
+            b'\n' if !in_quotes => return (i, i + 1, newlines + 1),
+            b'\n' => newlines += 1,
+            _ => {}
+        }
+        i += 1;
+    }
+    (bytes.len(), bytes.len(), newlines)
+}
+
+/// Comma-separated fields of one record, unquoted and trimmed.
+fn split_fields(text: &[u8]) -> Vec<String> {
+    let mut fields = Vec::new();
+    let mut current = Vec::new();
+    let mut in_quotes = false;
+    let mut i = 0;
+    while i < text.len() {
+        let b = text[i];
+        match b {
+            b'"' if in_quotes && text.get(i + 1) == Some(&b'"') => {
+                current.push(b'"');
+                i += 1;
+            }
+            b'"' => in_quotes = !in_quotes,
+            b',' if !in_quotes => fields.push(std::mem::take(&mut current)),
+            _ => current.push(b),
+        }
+        i += 1;
+    }
+    fields.push(current);
+    fields.into_iter().map(|f| String::from_utf8_lossy(&f).trim().to_string()).collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn comments_blank_lines_bom_and_crlf_keep_line_numbers_right() {
+        let layout = scan(b"\xef\xbb\xbf# note\r\na,b\r\n1,2\r\n\r\n# mid\r\n3,\"4\n5\"\r\n6,7").unwrap();
+        assert_eq!(layout.header_line, 2);
+        assert_eq!(layout.header, vec!["a", "b"]);
+        let lines: Vec<_> = layout.records.iter().map(|r| (r.line, r.n_fields, r.blank)).collect();
+        assert_eq!(lines, vec![(3, 2, false), (4, 1, true), (6, 2, false), (8, 2, false)]);
+    }
+
+    #[test]
+    fn a_file_of_comments_has_no_header() {
+        assert_eq!(scan(b"# only\n\n"), None);
+        assert_eq!(scan(b""), None);
+    }
+}

@@ -1,0 +1,21 @@
+//! thetaseek: polymer solution thermodynamics from dilute-solution series.
+//!
+//! The pipeline, one module per stage:
+//! [`input`] reads CSV bytes (polars) and converts every value to SI ([`units`]) →
+//! [`dataset`] groups readings into series and temperatures →
+//! [`virial`] fits Mn and A2 at each temperature ([`regression`] does the least squares) →
+//! [`analysis`] runs that for every series in parallel →
+//! [`report`] turns results into the JSON report, the CSV table and the terminal table.
+//! File I/O lives only in the binary's `commands` and in [`output`].
+
+pub mod analysis;
+pub mod dataset;
+pub mod error;
+pub mod input;
+pub mod output;
+pub mod regression;
+pub mod report;
+pub mod simulate;
+pub mod thermo;
+pub mod units;
+pub mod virial;

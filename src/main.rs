@@ -1,0 +1,21 @@
+//! thetaseek command line: parse → run the subcommand → exit code.
+
+mod cli;
+mod commands;
+
+use clap::Parser;
+use std::process::ExitCode;
+
+fn main() -> ExitCode {
+    let cli = cli::Cli::parse();
+    let result = match &cli.command {
+        cli::Command::Analyze(args) => commands::analyze::run(args),
+    };
+    match result {
+        Ok(()) => ExitCode::SUCCESS,
+        Err(error) => {
+            eprintln!("thetaseek: {error}");
+            ExitCode::from(error.exit_code() as u8)
+        }
+    }
+}

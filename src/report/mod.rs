@@ -1,0 +1,303 @@
+//! The report: one struct tree that *is* the JSON schema (every field carries its unit in
+//! its name), built from the analysis results, plus the CSV table and the terminal table.
+
+mod table;
+mod terminal;
+
+pub use table::table_csv;
+pub use terminal::render_terminal;
+
+use crate::analysis::{SeriesResult, Status};
+use crate::units::{
+    A2_MOL_ML_PER_G2_PER_SI, A3_MOL_ML2_PER_G3_PER_SI, CELSIUS_OFFSET_K, GAS_CONSTANT_J_PER_MOL_K,
+    G_PER_ML_PER_KG_PER_M3, G_PER_MOL_PER_KG_PER_MOL,
+};
+use crate::virial::{Candidate, FitWarning, SkippedTemperature, TemperatureFit, VirialForm};
+use serde::Serialize;
+use sha2::{Digest, Sha256};
+
+/// Version of the report layout; raised when a stable key changes meaning or goes away.
+pub const SCHEMA_VERSION: u32 = 1;
+
+/// The whole report.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Report {
+    /// Report layout version.
+    pub schema_version: u32,
+    /// thetaseek version that wrote it.
+    pub tool_version: String,
+    /// Input files with their SHA-256.
+    pub inputs: Vec<InputFile>,
+    /// Settings used.
+    pub settings: ReportSettings,
+    /// Warnings about the run as a whole (ignored columns, ...).
+    pub warnings: Vec<String>,
+    /// One entry per series, in input order.
+    pub series: Vec<SeriesReport>,
+}
+
+/// One input file.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct InputFile {
+    /// Path as given on the command line.
+    pub path: String,
+    /// SHA-256 of the file's bytes, lower-case hex.
+    pub sha256: String,
+}
+
+impl InputFile {
+    /// Records a file and hashes its bytes.
+    pub fn new(path: &str, bytes: &[u8]) -> Self {
+        let digest = Sha256::digest(bytes);
+        InputFile { path: path.to_string(), sha256: digest.iter().map(|b| format!("{b:02x}")).collect() }
+    }
+}
+
+/// Settings that shaped the results.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ReportSettings {
+    /// `auto`, `linear`, `quadratic` or `sqrt`.
+    pub virial: String,
+    /// Unit assumed for headers without one, if given.
+    pub temperature_unit: Option<String>,
+    /// Unit assumed for headers without one, if given.
+    pub concentration_unit: Option<String>,
+    /// Unit assumed for headers without one, if given.
+    pub pressure_unit: Option<String>,
+    /// Solvent density for head columns, g/mL.
+    pub solvent_density_g_per_ml: Option<f64>,
+    /// Gas constant used, J/(mol K).
+    pub gas_constant_j_per_mol_k: f64,
+}
+
+impl ReportSettings {
+    /// Settings with the constants filled in.
+    pub fn new(virial: &str) -> Self {
+        ReportSettings {
+            virial: virial.to_string(),
+            temperature_unit: None,
+            concentration_unit: None,
+            pressure_unit: None,
+            solvent_density_g_per_ml: None,
+            gas_constant_j_per_mol_k: GAS_CONSTANT_J_PER_MOL_K,
+        }
+    }
+}
+
+/// One series.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct SeriesReport {
+    /// Series name.
+    pub name: String,
+    /// `ok`, `partial` or `refused`.
+    pub status: Status,
+    /// Why the series is partial or refused.
+    pub reason: Option<String>,
+    /// Series-level warnings.
+    pub warnings: Vec<String>,
+    /// Per-temperature fits, ascending temperature.
+    pub fits: Vec<FitReport>,
+    /// Temperatures that were not fitted.
+    pub skipped_temperatures: Vec<SkippedReport>,
+}
+
+/// A skipped temperature.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct SkippedReport {
+    /// Temperature, K.
+    pub temperature_k: f64,
+    /// Readings at it.
+    pub n_points: usize,
+    /// Why.
+    pub reason: String,
+}
+
+/// One warning: a stable code and a sentence for people.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct WarningReport {
+    /// Stable machine-readable code.
+    pub code: String,
+    /// What it means and what to do.
+    pub message: String,
+}
+
+impl From<&FitWarning> for WarningReport {
+    fn from(w: &FitWarning) -> Self {
+        let code = serde_json::to_value(w)
+            .ok()
+            .and_then(|v| v.get("code").and_then(|c| c.as_str()).map(str::to_string))
+            .unwrap_or_default();
+        WarningReport { code, message: w.to_string() }
+    }
+}
+
+/// One temperature's fit, in report units.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct FitReport {
+    /// Temperature, K.
+    pub temperature_k: f64,
+    /// Temperature, °C.
+    pub temperature_c: f64,
+    /// Readings used.
+    pub n_points: usize,
+    /// Form used.
+    pub virial_form: VirialForm,
+    /// Why that form.
+    pub virial_form_reason: String,
+    /// Forms considered by `--virial auto`, with their AICc.
+    pub virial_candidates: Vec<Candidate>,
+    /// Whether per-point SDs weighted the fit.
+    pub weighted: bool,
+    /// Number-average molar mass Mn, g/mol.
+    pub mn_g_per_mol: f64,
+    /// SE of Mn, g/mol.
+    pub mn_se_g_per_mol: f64,
+    /// Second virial coefficient A2, mol mL/g².
+    pub a2_mol_ml_per_g2: f64,
+    /// SE of A2, mol mL/g².
+    pub a2_se_mol_ml_per_g2: f64,
+    /// Third virial coefficient A3, mol mL²/g³ (null unless the quadratic form was used).
+    pub a3_mol_ml2_per_g3: Option<f64>,
+    /// SE of A3, mol mL²/g³.
+    pub a3_se_mol_ml2_per_g3: Option<f64>,
+    /// Intercept 1/Mn of the reduced pressure, mol/g.
+    pub inverse_mn_mol_per_g: f64,
+    /// Covariance of (1/Mn, A2), mol² mL/g³.
+    pub cov_inverse_mn_a2_mol2_ml_per_g3: f64,
+    /// Residual degrees of freedom.
+    pub dof: usize,
+    /// Σ w e² / dof for weighted fits (≈ 1 when the SDs are right); null when unweighted.
+    pub reduced_chi2: Option<f64>,
+    /// Residual SD of the unweighted reduced pressure, mol/g (null when weighted or for sqrt).
+    pub residual_sd_mol_per_g: Option<f64>,
+    /// Coefficient of determination on the form's own response.
+    pub r_squared: f64,
+    /// Diagnostics.
+    pub warnings: Vec<WarningReport>,
+    /// Every reading with its fitted value and residual.
+    pub points: Vec<PointReport>,
+}
+
+/// One reading in a fit.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct PointReport {
+    /// Line in its input file.
+    pub line: usize,
+    /// c, g/mL.
+    pub concentration_g_per_ml: f64,
+    /// Π, Pa.
+    pub pressure_pa: f64,
+    /// Π/(cRT), mol/g.
+    pub reduced_pressure_mol_per_g: f64,
+    /// Fitted Π/(cRT), mol/g.
+    pub fitted_mol_per_g: f64,
+    /// Internally studentised residual (on the fitted form's own scale).
+    pub studentized_residual: Option<f64>,
+}
+
+/// Reduced pressure: report unit (mol/g) per SI unit (mol/kg).
+const MOL_PER_G_PER_MOL_PER_KG: f64 = 1.0e-3;
+
+fn finite(x: f64) -> Option<f64> {
+    x.is_finite().then_some(x)
+}
+
+impl FitReport {
+    /// Converts one fit (SI) into report units.
+    pub fn new(t: &TemperatureFit, series_set: &crate::dataset::TemperatureSet) -> Self {
+        let f = &t.fit;
+        let y: Vec<f64> = crate::virial::Readings {
+            temperature_k: t.temperature_k,
+            concentration: &series_set.concentration_kg_per_m3,
+            pressure: &series_set.pressure_pa,
+            pressure_sd: None,
+        }
+        .reduced();
+        let points = (0..series_set.len())
+            .map(|i| PointReport {
+                line: series_set.origins[i].line,
+                concentration_g_per_ml: series_set.concentration_kg_per_m3[i] * G_PER_ML_PER_KG_PER_M3,
+                pressure_pa: series_set.pressure_pa[i],
+                reduced_pressure_mol_per_g: y[i] * MOL_PER_G_PER_MOL_PER_KG,
+                fitted_mol_per_g: f.fitted_reduced[i] * MOL_PER_G_PER_MOL_PER_KG,
+                studentized_residual: finite(f.lsq.studentized[i]),
+            })
+            .collect();
+        let unweighted_reduced = !t.weighted && f.form != VirialForm::Sqrt;
+        FitReport {
+            temperature_k: t.temperature_k,
+            temperature_c: t.temperature_k - CELSIUS_OFFSET_K,
+            n_points: t.n_points,
+            virial_form: f.form,
+            virial_form_reason: t.choice_reason.clone(),
+            virial_candidates: t.candidates.clone(),
+            weighted: t.weighted,
+            mn_g_per_mol: f.mn() * G_PER_MOL_PER_KG_PER_MOL,
+            mn_se_g_per_mol: f.mn_se() * G_PER_MOL_PER_KG_PER_MOL,
+            a2_mol_ml_per_g2: f.a2 * A2_MOL_ML_PER_G2_PER_SI,
+            a2_se_mol_ml_per_g2: f.a2_se * A2_MOL_ML_PER_G2_PER_SI,
+            a3_mol_ml2_per_g3: f.a3.map(|(a, _)| a * A3_MOL_ML2_PER_G3_PER_SI),
+            a3_se_mol_ml2_per_g3: f.a3.map(|(_, s)| s * A3_MOL_ML2_PER_G3_PER_SI),
+            inverse_mn_mol_per_g: f.inverse_mn * MOL_PER_G_PER_MOL_PER_KG,
+            // mol² m³/kg³ → mol² mL/g³: 10⁶ mL/m³ over 10⁹ g³/kg³.
+            cov_inverse_mn_a2_mol2_ml_per_g3: f.cov_inverse_mn_a2 * 1.0e-3,
+            dof: f.lsq.dof,
+            reduced_chi2: t.weighted.then(|| f.lsq.rss_weighted / f.lsq.dof as f64).and_then(finite),
+            residual_sd_mol_per_g: unweighted_reduced
+                .then_some(f.lsq.residual_sd * MOL_PER_G_PER_MOL_PER_KG)
+                .and_then(finite),
+            r_squared: f.lsq.r_squared,
+            warnings: t.warnings.iter().map(WarningReport::from).collect(),
+            points,
+        }
+    }
+}
+
+impl SeriesReport {
+    /// Converts one series' results; `series` supplies the readings behind each fit.
+    pub fn new(result: &SeriesResult, series: &crate::dataset::Series) -> Self {
+        let fits = result
+            .fits
+            .iter()
+            .map(|fit| {
+                let set = series
+                    .temperatures
+                    .iter()
+                    .find(|s| s.temperature_k == fit.temperature_k)
+                    .expect("every fit comes from one of the series' temperatures");
+                FitReport::new(fit, set)
+            })
+            .collect();
+        let skipped_temperatures: Vec<SkippedReport> = result.skipped.iter().map(SkippedReport::from).collect();
+        let reason = match result.status {
+            Status::Ok => None,
+            Status::Partial => Some(format!(
+                "{} of {} temperatures could not be fitted",
+                result.skipped.len(),
+                series.temperatures.len()
+            )),
+            Status::Refused => Some(match result.skipped.first() {
+                Some(s) if result.skipped.len() == 1 => {
+                    format!("its only temperature could not be fitted: {}", s.reason)
+                }
+                _ => "no temperature could be fitted (see skipped_temperatures)".to_string(),
+            }),
+        };
+        let warnings =
+            skipped_temperatures.iter().map(|s| format!("{:.2} K skipped: {}", s.temperature_k, s.reason)).collect();
+        SeriesReport { name: result.name.clone(), status: result.status, reason, warnings, fits, skipped_temperatures }
+    }
+}
+
+impl From<&SkippedTemperature> for SkippedReport {
+    fn from(s: &SkippedTemperature) -> Self {
+        SkippedReport { temperature_k: s.temperature_k, n_points: s.n_points, reason: s.reason.clone() }
+    }
+}
+
+/// The report as pretty-printed JSON with a trailing newline.
+pub fn to_json(report: &Report) -> Vec<u8> {
+    let mut bytes = serde_json::to_vec_pretty(report).expect("the report holds only serialisable values");
+    bytes.push(b'\n');
+    bytes
+}

@@ -1,0 +1,64 @@
+//! The per-temperature results as a CSV table (written by polars), one row per fitted
+//! temperature, the unit in every header.
+
+use super::Report;
+use polars::prelude::*;
+
+/// Renders the table: series, temperature, form, Mn, A2, A3 with SEs, dof, reduced χ², warnings.
+pub fn table_csv(report: &Report) -> PolarsResult<Vec<u8>> {
+    let rows = report.series.iter().flat_map(|s| s.fits.iter().map(move |f| (s, f)));
+    let mut series = Vec::new();
+    let mut status = Vec::new();
+    let mut t_k = Vec::new();
+    let mut t_c = Vec::new();
+    let mut n = Vec::new();
+    let mut form = Vec::new();
+    let mut mn = Vec::new();
+    let mut mn_se = Vec::new();
+    let mut a2 = Vec::new();
+    let mut a2_se = Vec::new();
+    let mut a3 = Vec::new();
+    let mut a3_se = Vec::new();
+    let mut dof = Vec::new();
+    let mut chi2 = Vec::new();
+    let mut warnings = Vec::new();
+    for (s, f) in rows {
+        series.push(s.name.clone());
+        status.push(format!("{:?}", s.status).to_lowercase());
+        t_k.push(f.temperature_k);
+        t_c.push(f.temperature_c);
+        n.push(f.n_points as u32);
+        form.push(f.virial_form.name().to_string());
+        mn.push(f.mn_g_per_mol);
+        mn_se.push(f.mn_se_g_per_mol);
+        a2.push(f.a2_mol_ml_per_g2);
+        a2_se.push(f.a2_se_mol_ml_per_g2);
+        a3.push(f.a3_mol_ml2_per_g3);
+        a3_se.push(f.a3_se_mol_ml2_per_g3);
+        dof.push(f.dof as u32);
+        chi2.push(f.reduced_chi2);
+        warnings.push(f.warnings.iter().map(|w| w.code.as_str()).collect::<Vec<_>>().join(";"));
+    }
+    let height = series.len();
+    let columns = vec![
+        Column::new("series".into(), series),
+        Column::new("series status".into(), status),
+        Column::new("temperature (K)".into(), t_k),
+        Column::new("temperature (C)".into(), t_c),
+        Column::new("points".into(), n),
+        Column::new("virial form".into(), form),
+        Column::new("Mn (g/mol)".into(), mn),
+        Column::new("Mn se (g/mol)".into(), mn_se),
+        Column::new("A2 (mol mL/g2)".into(), a2),
+        Column::new("A2 se (mol mL/g2)".into(), a2_se),
+        Column::new("A3 (mol mL2/g3)".into(), a3),
+        Column::new("A3 se (mol mL2/g3)".into(), a3_se),
+        Column::new("dof".into(), dof),
+        Column::new("reduced chi2".into(), chi2),
+        Column::new("warnings".into(), warnings),
+    ];
+    let mut frame = DataFrame::new(height, columns)?;
+    let mut bytes = Vec::new();
+    CsvWriter::new(&mut bytes).include_header(true).finish(&mut frame)?;
+    Ok(bytes)
+}

@@ -1,0 +1,78 @@
+//! The terminal table: one block per series, one row per temperature.
+
+use super::Report;
+use std::fmt::Write;
+
+/// Formats `value ± se` with the SE to two significant figures and the value to match.
+pub fn plus_minus(value: f64, se: f64) -> String {
+    if !(se.is_finite() && se > 0.0) {
+        return format!("{value:.4e}");
+    }
+    let exponent = value.abs().max(se).log10().floor() as i32;
+    let se_exponent = se.log10().floor() as i32;
+    let decimals = (exponent - se_exponent + 1).max(0) as usize;
+    if (-2..5).contains(&exponent) {
+        let places = (1 - se_exponent).max(0) as usize;
+        format!("{value:.places$} ± {se:.places$}")
+    } else {
+        let scale = 10f64.powi(exponent);
+        format!("({:.decimals$} ± {:.decimals$})e{exponent}", value / scale, se / scale)
+    }
+}
+
+/// Renders the whole report as text for a terminal.
+pub fn render_terminal(report: &Report) -> String {
+    let mut out = String::new();
+    for s in &report.series {
+        let _ = writeln!(out, "series {}  [{}]", s.name, format!("{:?}", s.status).to_lowercase());
+        if let Some(reason) = &s.reason {
+            let _ = writeln!(out, "  {reason}");
+        }
+        if !s.fits.is_empty() {
+            let _ = writeln!(
+                out,
+                "  {:>7} {:>7} {:>3} {:>9} {:>24} {:>28}  notes",
+                "T (°C)", "T (K)", "n", "form", "Mn (g/mol)", "A2 (mol mL/g²)"
+            );
+        }
+        for f in &s.fits {
+            let codes: Vec<&str> = f.warnings.iter().map(|w| w.code.as_str()).collect();
+            let _ = writeln!(
+                out,
+                "  {:>7.2} {:>7.2} {:>3} {:>9} {:>24} {:>28}  {}",
+                f.temperature_c,
+                f.temperature_k,
+                f.n_points,
+                f.virial_form.name(),
+                plus_minus(f.mn_g_per_mol, f.mn_se_g_per_mol),
+                plus_minus(f.a2_mol_ml_per_g2, f.a2_se_mol_ml_per_g2),
+                codes.join(", ")
+            );
+        }
+        for f in &s.fits {
+            for w in &f.warnings {
+                let _ = writeln!(out, "  ! {:.2} °C: {}", f.temperature_c, w.message);
+            }
+        }
+        for w in &s.warnings {
+            let _ = writeln!(out, "  ! {w}");
+        }
+        out.push('\n');
+    }
+    for w in &report.warnings {
+        let _ = writeln!(out, "! {w}");
+    }
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::plus_minus;
+
+    #[test]
+    fn values_are_rounded_to_their_standard_error() {
+        assert_eq!(plus_minus(152345.6, 2345.0), "(1.523 ± 0.023)e5");
+        assert_eq!(plus_minus(1.234e-4, 5.6e-6), "(1.234 ± 0.056)e-4");
+        assert_eq!(plus_minus(12.346, 0.12), "12.35 ± 0.12");
+    }
+}

@@ -1,0 +1,196 @@
+//! The three virial forms fitted at one temperature, in SI units.
+//!
+//! Reduced osmotic pressure y = Π/(c R T) in mol/kg (Π in Pa, c in kg/m³, T in K):
+//! - linear:    y = 1/Mn + A2 c
+//! - quadratic: y = 1/Mn + A2 c + A3 c²
+//! - sqrt:      (Π/c)^½ = (RT/Mn)^½ (1 + Γ2 c/2), Γ2 = A2 Mn  (Stockmayer–Casassa, g = 1/4,
+//!   so that A3 = Γ2² /(4 Mn)); fitted as a straight line α + β c in z = (Π/c)^½, giving
+//!   Mn = RT/α², A2 = 2αβ/(RT).
+
+use crate::regression::{self, FitError, LinearFit, Weights};
+use crate::units::GAS_CONSTANT_J_PER_MOL_K;
+use serde::Serialize;
+
+/// A per-temperature virial form.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize, PartialOrd, Ord)]
+#[serde(rename_all = "snake_case")]
+pub enum VirialForm {
+    /// y = 1/Mn + A2 c.
+    Linear,
+    /// y = 1/Mn + A2 c + A3 c².
+    Quadratic,
+    /// (Π/c)^½ = (RT/Mn)^½ (1 + Γ2 c/2).
+    Sqrt,
+}
+
+impl VirialForm {
+    /// Every form, in the order they are tried.
+    pub const ALL: [VirialForm; 3] = [VirialForm::Linear, VirialForm::Sqrt, VirialForm::Quadratic];
+
+    /// Number of fitted coefficients p.
+    pub fn parameters(self) -> usize {
+        match self {
+            VirialForm::Linear | VirialForm::Sqrt => 2,
+            VirialForm::Quadratic => 3,
+        }
+    }
+
+    /// Name as used on the command line and in reports.
+    pub fn name(self) -> &'static str {
+        match self {
+            VirialForm::Linear => "linear",
+            VirialForm::Quadratic => "quadratic",
+            VirialForm::Sqrt => "sqrt",
+        }
+    }
+}
+
+/// One form fitted at one temperature, with estimates in SI units.
+#[derive(Debug, Clone, PartialEq)]
+pub struct FormFit {
+    /// Which form.
+    pub form: VirialForm,
+    /// 1/Mn in mol/kg.
+    pub inverse_mn: f64,
+    /// SE of 1/Mn, mol/kg.
+    pub inverse_mn_se: f64,
+    /// A2 in mol m³/kg².
+    pub a2: f64,
+    /// SE of A2.
+    pub a2_se: f64,
+    /// Cov(1/Mn, A2), mol² m³/kg³.
+    pub cov_inverse_mn_a2: f64,
+    /// A3 in mol m⁶/kg³ (quadratic form only).
+    pub a3: Option<(f64, f64)>,
+    /// Fitted reduced pressure ŷ_i, mol/kg, at each point.
+    pub fitted_reduced: Vec<f64>,
+    /// Weighted RSS on the reduced-pressure scale (what the forms are compared on).
+    pub rss_reduced: f64,
+    /// The underlying linear fit (on the form's own response scale).
+    pub lsq: LinearFit,
+}
+
+impl FormFit {
+    /// Mn in kg/mol.
+    pub fn mn(&self) -> f64 {
+        1.0 / self.inverse_mn
+    }
+
+    /// SE of Mn by the delta method: SE(1/Mn)/(1/Mn)², kg/mol.
+    pub fn mn_se(&self) -> f64 {
+        self.inverse_mn_se / (self.inverse_mn * self.inverse_mn)
+    }
+}
+
+/// Inputs of one temperature's fit, SI.
+#[derive(Debug, Clone, Copy)]
+pub struct Readings<'a> {
+    /// T in K.
+    pub temperature_k: f64,
+    /// c in kg/m³.
+    pub concentration: &'a [f64],
+    /// Π in Pa.
+    pub pressure: &'a [f64],
+    /// SD of Π in Pa, every point or none.
+    pub pressure_sd: Option<&'a [f64]>,
+}
+
+impl Readings<'_> {
+    /// y = Π/(c R T), mol/kg.
+    pub fn reduced(&self) -> Vec<f64> {
+        let rt = GAS_CONSTANT_J_PER_MOL_K * self.temperature_k;
+        self.pressure.iter().zip(self.concentration).map(|(p, c)| p / (c * rt)).collect()
+    }
+
+    /// Weights 1/σ_y² on the reduced scale, σ_y = σ_Π/(c R T).
+    pub fn reduced_weights(&self) -> Option<Vec<f64>> {
+        let rt = GAS_CONSTANT_J_PER_MOL_K * self.temperature_k;
+        self.pressure_sd.map(|sd| sd.iter().zip(self.concentration).map(|(s, c)| (c * rt / s).powi(2)).collect())
+    }
+}
+
+/// Why a form does not apply to the data.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum FormError {
+    /// The least-squares problem failed.
+    #[error(transparent)]
+    Fit(#[from] FitError),
+    /// The sqrt form describes good solvents only.
+    #[error("the sqrt form needs A2 ≥ 0, the fit gave A2 < 0")]
+    SqrtNeedsPositiveA2,
+    /// The sqrt form needs Π > 0 at every point.
+    #[error("the sqrt form needs a positive pressure at every point")]
+    SqrtNeedsPositivePressure,
+}
+
+/// Fits `form` to one temperature's readings.
+pub fn fit_form(form: VirialForm, r: &Readings) -> Result<FormFit, FormError> {
+    let kind = if r.pressure_sd.is_some() { Weights::Absolute } else { Weights::Relative };
+    let y = r.reduced();
+    let wy = r.reduced_weights();
+    match form {
+        VirialForm::Linear | VirialForm::Quadratic => {
+            let degree = form.parameters() - 1;
+            let lsq = regression::fit(
+                &regression::polynomial_design(r.concentration, degree),
+                form.parameters(),
+                &y,
+                wy.as_deref(),
+                kind,
+            )?;
+            let a3 = (form == VirialForm::Quadratic).then(|| (lsq.coefficients[2], lsq.standard_errors[2]));
+            Ok(FormFit {
+                form,
+                inverse_mn: lsq.coefficients[0],
+                inverse_mn_se: lsq.standard_errors[0],
+                a2: lsq.coefficients[1],
+                a2_se: lsq.standard_errors[1],
+                cov_inverse_mn_a2: lsq.cov(0, 1),
+                a3,
+                fitted_reduced: lsq.fitted.clone(),
+                rss_reduced: lsq.rss_weighted,
+                lsq,
+            })
+        }
+        VirialForm::Sqrt => {
+            if r.pressure.iter().any(|p| *p <= 0.0) {
+                return Err(FormError::SqrtNeedsPositivePressure);
+            }
+            let z: Vec<f64> = r.pressure.iter().zip(r.concentration).map(|(p, c)| (p / c).sqrt()).collect();
+            // σ_z = σ_Π / (2 c z) by first-order propagation of z = (Π/c)^½.
+            let wz: Option<Vec<f64>> = r.pressure_sd.map(|sd| {
+                sd.iter().zip(r.concentration).zip(&z).map(|((s, c), z)| (2.0 * c * z / s).powi(2)).collect()
+            });
+            let lsq = regression::fit(&regression::polynomial_design(r.concentration, 1), 2, &z, wz.as_deref(), kind)?;
+            let (alpha, beta) = (lsq.coefficients[0], lsq.coefficients[1]);
+            if beta < 0.0 {
+                return Err(FormError::SqrtNeedsPositiveA2);
+            }
+            let rt = GAS_CONSTANT_J_PER_MOL_K * r.temperature_k;
+            // 1/Mn = α²/RT, A2 = 2αβ/RT; Jacobian rows with respect to (α, β).
+            let g_inv = [2.0 * alpha / rt, 0.0];
+            let g_a2 = [2.0 * beta / rt, 2.0 * alpha / rt];
+            let quad = |g: &[f64; 2], h: &[f64; 2]| -> f64 {
+                (0..2).map(|i| (0..2).map(|j| g[i] * lsq.cov(i, j) * h[j]).sum::<f64>()).sum()
+            };
+            let fitted_reduced: Vec<f64> = lsq.fitted.iter().map(|zf| zf * zf / rt).collect();
+            let rss_reduced = rss(&y, &fitted_reduced, wy.as_deref());
+            Ok(FormFit {
+                form,
+                inverse_mn: alpha * alpha / rt,
+                inverse_mn_se: quad(&g_inv, &g_inv).sqrt(),
+                a2: 2.0 * alpha * beta / rt,
+                a2_se: quad(&g_a2, &g_a2).sqrt(),
+                cov_inverse_mn_a2: quad(&g_inv, &g_a2),
+                a3: None,
+                fitted_reduced,
+                rss_reduced,
+                lsq,
+            })
+        }
+    }
+}
+
+fn rss(y: &[f64], fitted: &[f64], w: Option<&[f64]>) -> f64 {
+    y.iter().zip(fitted).enumerate().map(|(i, (y, f))| w.map_or(1.0, |w| w[i]) * (y - f).powi(2)).sum()
+}
