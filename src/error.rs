@@ -6,6 +6,8 @@
 use std::fmt;
 use std::path::PathBuf;
 
+/// Exit code for a command line that does not fit the data (clap uses it for its own errors).
+pub const EXIT_USAGE: i32 = 2;
 /// Exit code for input data that was refused.
 pub const EXIT_DATA: i32 = 65;
 /// Exit code for a file that could not be read or written.
@@ -94,7 +96,8 @@ impl Error {
     /// The process exit code for this error.
     pub fn exit_code(&self) -> i32 {
         match self {
-            Error::Input(_) | Error::NothingAnalysed(_) | Error::Setting(_) => EXIT_DATA,
+            Error::Input(_) | Error::NothingAnalysed(_) => EXIT_DATA,
+            Error::Setting(_) => EXIT_USAGE,
             Error::Io { .. } | Error::OutputIsInput(_) => EXIT_IO,
         }
     }

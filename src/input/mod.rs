@@ -47,8 +47,18 @@ pub fn read_osmometry(
     bytes: &[u8],
     options: &ReadOptions,
 ) -> Result<FileContents, InputError> {
-    if std::str::from_utf8(bytes).is_err() {
-        return Err(InputError::file(name, "the file is not UTF-8 text; save it as UTF-8 CSV"));
+    if let Err(e) = std::str::from_utf8(bytes) {
+        let before = &bytes[..e.valid_up_to()];
+        let line = 1 + before.iter().filter(|b| **b == b'\n').count();
+        let line_start = before.iter().rposition(|b| *b == b'\n').map_or(0, |p| p + 1);
+        let field = 1 + before[line_start..].iter().filter(|b| **b == b',').count();
+        return Err(InputError::at(
+            name,
+            line,
+            Some(&format!("field {field}")),
+            None,
+            "the text is not UTF-8 (perhaps Latin-1 or UTF-16 from a spreadsheet); save it as UTF-8 CSV",
+        ));
     }
     let layout =
         scan(bytes).ok_or_else(|| InputError::file(name, "the file is empty: expected a header line and data rows"))?;
@@ -122,8 +132,8 @@ pub fn read_osmometry(
                 "a concentration must be greater than zero",
             ));
         }
-        let pressure_pa = match (columns.pressure, units.pressure) {
-            (PressureSource::Pressure(i), PressureScale::Pressure(unit)) => {
+        let pressure_pa = match units.pressure {
+            PressureScale::Pressure(i, unit) => {
                 let p = unit.to_si(value(&pressure, i)?);
                 if p < 0.0 {
                     return Err(refuse(
@@ -136,7 +146,7 @@ pub fn read_osmometry(
                 }
                 p
             }
-            (PressureSource::Head(i), PressureScale::Head(unit)) => {
+            PressureScale::Head(i, unit) => {
                 let h = unit.to_si(value(&pressure, i)?);
                 if h < 0.0 {
                     return Err(refuse(name, line, &cells[i], &pressure[row], "a head cannot be negative"));
@@ -150,12 +160,17 @@ pub fn read_osmometry(
                         rho
                     }
                     _ => options.solvent_density_kg_per_m3.ok_or_else(|| {
-                        InputError::file(name, "a 'head' column needs the solvent density: add a 'solvent density (g/mL)' column or give --solvent-density")
+                        InputError::at(
+                            name,
+                            layout.header_line,
+                            Some(&cells[i].raw),
+                            None,
+                            "a 'head' column needs the solvent density: add a 'solvent density (g/mL)' column or give --solvent-density",
+                        )
                     })?,
                 };
                 head_to_pressure_pa(rho, h)
             }
-            _ => unreachable!("pressure column and unit are resolved together"),
         };
         let pressure_sd_pa = match (&sd, columns.pressure_sd, units.pressure_sd) {
             (Some(sd), Some(j), Some(unit)) => match sd[row].as_deref().map(str::trim).filter(|s| !s.is_empty()) {
@@ -202,7 +217,7 @@ pub fn read_osmometry(
         });
     }
     if measurements.is_empty() {
-        return Err(InputError::file(name, "the header has no data rows under it"));
+        return Err(InputError::at(name, layout.header_line, None, None, "the header has no data rows under it"));
     }
     let ignored_columns = cells.iter().filter(|c| c.role.is_none()).map(|c| c.raw.clone()).collect();
     Ok(FileContents { measurements, ignored_columns })
@@ -240,18 +255,19 @@ fn number(file: &str, line: usize, column: &str, value: Option<&str>) -> Result<
 fn check_structure(name: &str, layout: &Layout) -> Result<(), InputError> {
     let width = layout.header.len();
     for record in &layout.records {
-        if !record.blank && record.n_fields != width {
-            return Err(InputError::at(
-                name,
-                record.line,
-                None,
-                None,
-                format!(
-                    "the row has {} fields but the header has {width}; a decimal comma or an unquoted comma inside a value splits a field",
-                    record.n_fields
-                ),
-            ));
+        if record.blank || record.n_fields == width {
+            continue;
         }
+        let message = format!(
+            "the row has {} fields but the header has {width}; a decimal comma or an unquoted comma inside a value splits a field",
+            record.n_fields
+        );
+        let column = if record.n_fields < width {
+            format!("{} (missing)", layout.header[record.n_fields])
+        } else {
+            format!("field {} (beyond the header)", width + 1)
+        };
+        return Err(InputError::at(name, record.line, Some(&column), None, message));
     }
     Ok(())
 }
@@ -319,9 +335,9 @@ impl Columns {
             InputError::at(
                 file,
                 header_line,
+                Some(what),
                 None,
-                None,
-                format!("no '{what}' column; the header needs temperature, concentration and pressure (or head), each with its unit, e.g. 'temperature (C),concentration (g/mL),pressure (Pa)'"),
+                format!("there is no such column; the header needs temperature, concentration and pressure (or head), each with its unit, e.g. 'temperature (C),concentration (g/mL),pressure (Pa)'"),
             )
         };
         let pressure = match (get(Role::Pressure), get(Role::Head)) {
@@ -351,8 +367,8 @@ impl Columns {
 
 #[derive(Debug, Clone, Copy)]
 enum PressureScale {
-    Pressure(PressureUnit),
-    Head(LengthUnit),
+    Pressure(usize, PressureUnit),
+    Head(usize, LengthUnit),
 }
 
 /// The unit of every value column, from the header or, where it has none, from the options.
@@ -374,13 +390,13 @@ impl Units {
     ) -> Result<Units, InputError> {
         let pressure = match columns.pressure {
             PressureSource::Pressure(i) => {
-                PressureScale::Pressure(unit_of(file, line, &cells[i], options.pressure_unit, "--pressure-unit")?)
+                PressureScale::Pressure(i, unit_of(file, line, &cells[i], options.pressure_unit, "--pressure-unit")?)
             }
-            PressureSource::Head(i) => PressureScale::Head(unit_of(file, line, &cells[i], None, "")?),
+            PressureSource::Head(i) => PressureScale::Head(i, unit_of(file, line, &cells[i], None, "")?),
         };
         // A `pressure sd` header without a unit takes the pressure column's unit.
         let pressure_sd = match (columns.pressure_sd, pressure) {
-            (Some(i), PressureScale::Pressure(p)) if cells[i].unit.is_none() && options.pressure_unit.is_none() => {
+            (Some(i), PressureScale::Pressure(_, p)) if cells[i].unit.is_none() && options.pressure_unit.is_none() => {
                 Some(p)
             }
             (Some(i), _) => Some(unit_of(file, line, &cells[i], options.pressure_unit, "--pressure-unit")?),

@@ -1,0 +1,164 @@
+//! The command line end to end: terminal table, JSON report keys, CSV table, exit codes.
+
+use assert_cmd::Command;
+use serde_json::Value;
+use std::path::{Path, PathBuf};
+
+fn demo() -> PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR")).join("data/px40-osmometry.csv")
+}
+
+fn thetaseek() -> Command {
+    Command::cargo_bin("thetaseek").unwrap()
+}
+
+fn write(dir: &Path, name: &str, text: &str) -> PathBuf {
+    let path = dir.join(name);
+    std::fs::write(&path, text).unwrap();
+    path
+}
+
+const SMALL: &str = "temperature (C),concentration (g/L),pressure (Pa)\n\
+    25,2,26.9\n25,4,53.0\n25,6,78.6\n25,8,103.9\n\
+    35,2,27.8\n35,4,55.2\n35,6,82.5\n35,8,109.6\n";
+
+#[test]
+fn analyze_prints_a_table_of_every_series_and_temperature() {
+    let out = thetaseek().arg("analyze").arg(demo()).assert().success().get_output().stdout.clone();
+    let text = String::from_utf8(out).unwrap();
+    assert!(text.contains("series PX-40 in mirane"), "{text}");
+    assert!(text.contains("series PX-40 in ostrol"), "{text}");
+    assert!(text.contains("Mn (g/mol)") && text.contains("A2 (mol mL/g²)"));
+    // 7 + 6 temperatures, each a row with T in °C and K.
+    assert_eq!(text.lines().filter(|l| l.contains(" 298.15 ") || l.contains(" 303.15 ")).count(), 3);
+}
+
+#[test]
+fn the_json_report_on_stdout_carries_the_stable_keys() {
+    let out = thetaseek().args(["analyze", "--report", "-"]).arg(demo()).assert().success().get_output().clone();
+    let report: Value = serde_json::from_slice(&out.stdout).unwrap();
+    for key in ["schema_version", "tool_version", "inputs", "settings", "warnings", "series"] {
+        assert!(report.get(key).is_some(), "missing {key}");
+    }
+    assert_eq!(report["inputs"][0]["sha256"].as_str().unwrap().len(), 64);
+    let series = report["series"].as_array().unwrap();
+    assert_eq!(series.len(), 2);
+    for s in series {
+        for key in ["name", "status", "warnings", "fits"] {
+            assert!(s.get(key).is_some(), "series missing {key}");
+        }
+        for fit in s["fits"].as_array().unwrap() {
+            for key in [
+                "temperature_k",
+                "n_points",
+                "virial_form",
+                "mn_g_per_mol",
+                "mn_se_g_per_mol",
+                "a2_mol_ml_per_g2",
+                "a2_se_mol_ml_per_g2",
+                "a3_mol_ml2_per_g3",
+                "dof",
+                "reduced_chi2",
+                "warnings",
+            ] {
+                assert!(fit.get(key).is_some(), "fit missing {key}");
+            }
+            let mn = fit["mn_g_per_mol"].as_f64().unwrap();
+            // The demo's invented truth is Mn = 185 000 g/mol (see data/px40-osmometry.csv).
+            assert!((mn - 185_000.0).abs() < 5.0 * fit["mn_se_g_per_mol"].as_f64().unwrap(), "Mn {mn}");
+        }
+    }
+    // The terminal table moved to stderr so that stdout is pure JSON.
+    assert!(String::from_utf8_lossy(&out.stderr).contains("series PX-40 in mirane"));
+}
+
+#[test]
+fn the_csv_table_has_units_in_its_headers_and_one_row_per_temperature() {
+    let dir = tempfile::tempdir().unwrap();
+    let table = dir.path().join("fits.csv");
+    thetaseek().arg("analyze").arg(demo()).arg("--table").arg(&table).arg("--quiet").assert().success().stdout("");
+    let text = std::fs::read_to_string(&table).unwrap();
+    let header = text.lines().next().unwrap();
+    for column in
+        ["temperature (K)", "Mn (g/mol)", "Mn se (g/mol)", "A2 (mol mL/g2)", "A2 se (mol mL/g2)", "A3 (mol mL2/g3)"]
+    {
+        assert!(header.contains(column), "{header}");
+    }
+    assert_eq!(text.lines().count(), 1 + 7 + 6);
+}
+
+#[test]
+fn an_output_path_equal_to_an_input_is_refused_with_74_and_the_input_is_untouched() {
+    let dir = tempfile::tempdir().unwrap();
+    let input = write(dir.path(), "run.csv", SMALL);
+    thetaseek().arg("analyze").arg(&input).arg("--report").arg(&input).assert().code(74);
+    assert_eq!(std::fs::read_to_string(&input).unwrap(), SMALL);
+    // Through another spelling of the same path, too.
+    let other = dir.path().join(".").join("run.csv");
+    thetaseek().arg("analyze").arg(&input).arg("--table").arg(&other).assert().code(74);
+    assert_eq!(std::fs::read_to_string(&input).unwrap(), SMALL);
+}
+
+#[test]
+fn an_unwritable_destination_exits_74_and_writes_nothing_else() {
+    let dir = tempfile::tempdir().unwrap();
+    let input = write(dir.path(), "run.csv", SMALL);
+    let missing = dir.path().join("no-such-folder").join("r.json");
+    thetaseek().arg("analyze").arg(&input).arg("--report").arg(&missing).assert().code(74);
+    assert_eq!(std::fs::read_dir(dir.path()).unwrap().count(), 1);
+}
+
+#[test]
+fn a_series_without_a_series_column_is_named_after_its_file_and_files_combine() {
+    let dir = tempfile::tempdir().unwrap();
+    let a = write(dir.path(), "batch-7.csv", SMALL);
+    let b = write(dir.path(), "more.csv", &SMALL.replace("25,", "45,").replace("35,", "55,"));
+    let out =
+        thetaseek().arg("analyze").arg(&a).arg(&b).args(["--report", "-"]).assert().success().get_output().clone();
+    let report: Value = serde_json::from_slice(&out.stdout).unwrap();
+    let names: Vec<&str> = report["series"].as_array().unwrap().iter().map(|s| s["name"].as_str().unwrap()).collect();
+    assert_eq!(names, ["batch-7", "more"]);
+    assert_eq!(report["inputs"].as_array().unwrap().len(), 2);
+}
+
+#[test]
+fn a_temperature_with_too_few_concentrations_does_not_stop_the_other_series() {
+    let dir = tempfile::tempdir().unwrap();
+    let text = "series,temperature (C),concentration (g/L),pressure (Pa)\n\
+        good,25,2,26.9\ngood,25,4,53.0\ngood,25,6,78.6\ngood,25,8,103.9\n\
+        thin,25,2,26.9\nthin,25,4,53.0\n";
+    let input = write(dir.path(), "mixed.csv", text);
+    let out = thetaseek().arg("analyze").arg(&input).args(["--report", "-"]).assert().success().get_output().clone();
+    let report: Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(report["series"][0]["status"], "ok");
+    assert_eq!(report["series"][1]["status"], "refused");
+    assert!(report["series"][1]["reason"].as_str().unwrap().contains("2 distinct concentration"));
+}
+
+#[test]
+fn when_no_series_can_be_analysed_the_exit_code_is_65_and_nothing_is_written() {
+    let dir = tempfile::tempdir().unwrap();
+    let input =
+        write(dir.path(), "thin.csv", "temperature (C),concentration (g/L),pressure (Pa)\n25,2,26.9\n25,4,53.0\n");
+    let report = dir.path().join("r.json");
+    let assert = thetaseek().arg("analyze").arg(&input).arg("--report").arg(&report).assert().code(65);
+    assert!(String::from_utf8_lossy(&assert.get_output().stderr).contains("no series could be analysed"));
+    assert!(!report.exists());
+}
+
+#[test]
+fn a_unit_missing_from_the_header_can_be_given_by_a_flag_but_not_contradicted() {
+    let dir = tempfile::tempdir().unwrap();
+    let input = write(dir.path(), "bare.csv", &SMALL.replace("temperature (C)", "temperature"));
+    thetaseek().arg("analyze").arg(&input).assert().code(65);
+    thetaseek().arg("analyze").arg(&input).args(["--temperature-unit", "C"]).assert().success();
+    let with_unit = write(dir.path(), "unit.csv", SMALL);
+    thetaseek().arg("analyze").arg(&with_unit).args(["--temperature-unit", "K"]).assert().code(65);
+}
+
+#[test]
+fn usage_errors_exit_with_2() {
+    thetaseek().args(["analyze"]).assert().code(2);
+    thetaseek().arg("analyze").arg(demo()).args(["--virial", "cubic"]).assert().code(2);
+    thetaseek().arg("analyze").arg(demo()).args(["--pressure-unit", "furlong"]).assert().code(2);
+}
