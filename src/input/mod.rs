@@ -337,7 +337,7 @@ impl Columns {
                 header_line,
                 Some(what),
                 None,
-                format!("there is no such column; the header needs temperature, concentration and pressure (or head), each with its unit, e.g. 'temperature (C),concentration (g/mL),pressure (Pa)'"),
+                "there is no such column; the header needs temperature, concentration and pressure (or head), each with its unit, e.g. 'temperature (C),concentration (g/mL),pressure (Pa)'",
             )
         };
         let pressure = match (get(Role::Pressure), get(Role::Head)) {
