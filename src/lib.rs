@@ -12,6 +12,7 @@ pub mod analysis;
 pub mod dataset;
 pub mod error;
 pub mod input;
+pub mod nls;
 pub mod output;
 pub mod regression;
 pub mod report;
