@@ -1,7 +1,8 @@
-//! The per-series pipeline: per-temperature virial fits for every series, in parallel.
-//! Pure computation: no files, no printing.
+//! The per-series pipeline: per-temperature virial fits, then the across-temperature θ
+//! analysis, for every series in parallel. Pure computation: no files, no printing.
 
-use crate::dataset::Series;
+use crate::dataset::{Series, TabulatedSeries};
+use crate::theta::{theta_for_series, theta_from_points, Quantity, ThetaResult, ThetaSettings, Volumes};
 use crate::virial::{fit_temperature, FormChoice, SkippedTemperature, TemperatureFit};
 use rayon::prelude::*;
 use serde::Serialize;
@@ -11,11 +12,15 @@ use serde::Serialize;
 pub struct Settings {
     /// Virial form choice at each temperature.
     pub virial: FormChoice,
+    /// θ analysis.
+    pub theta: ThetaSettings,
+    /// v̄ and V1 for every series that does not give its own.
+    pub volumes: Option<Volumes>,
 }
 
 impl Default for Settings {
     fn default() -> Self {
-        Settings { virial: FormChoice::Auto }
+        Settings { virial: FormChoice::Auto, theta: ThetaSettings::default(), volumes: None }
     }
 }
 
@@ -38,14 +43,18 @@ pub struct SeriesResult {
     pub name: String,
     /// Outcome.
     pub status: Status,
-    /// Fitted temperatures, ascending.
+    /// Fitted temperatures, ascending (osmometry series).
     pub fits: Vec<TemperatureFit>,
     /// Temperatures that could not be fitted, and why.
     pub skipped: Vec<SkippedTemperature>,
+    /// What the across-temperature models were fitted to.
+    pub quantity: Quantity,
+    /// The θ analysis (absent for refused series).
+    pub theta: Option<ThetaResult>,
 }
 
-/// Fits every temperature of one series.
-pub fn analyze_series(series: &Series, settings: &Settings) -> SeriesResult {
+/// Fits every temperature of one osmometry series, then its θ.
+pub fn analyze_series(series: &Series, settings: &Settings, index: u64) -> SeriesResult {
     let mut fits = Vec::new();
     let mut skipped = Vec::new();
     for set in &series.temperatures {
@@ -59,10 +68,31 @@ pub fn analyze_series(series: &Series, settings: &Settings) -> SeriesResult {
         (false, true) => Status::Ok,
         (false, false) => Status::Partial,
     };
-    SeriesResult { name: series.name.clone(), status, fits, skipped }
+    let theta_settings = ThetaSettings { virial: settings.virial, ..settings.theta };
+    let volumes = series.volumes.or(settings.volumes);
+    let theta = (status != Status::Refused).then(|| theta_for_series(series, &fits, volumes, &theta_settings, index));
+    SeriesResult { name: series.name.clone(), status, fits, skipped, quantity: Quantity::SecondVirial, theta }
 }
 
-/// Analyses every series in parallel; results keep the input order.
-pub fn analyze(series: &[Series], settings: &Settings) -> Vec<SeriesResult> {
-    series.par_iter().map(|s| analyze_series(s, settings)).collect()
+/// θ of a series given as A2 (or χ) per temperature.
+pub fn analyze_tabulated(series: &TabulatedSeries, settings: &Settings) -> SeriesResult {
+    let volumes = series.volumes.or(settings.volumes);
+    let theta = theta_from_points(&series.points, series.quantity, volumes, &settings.theta);
+    SeriesResult {
+        name: series.name.clone(),
+        status: Status::Ok,
+        fits: Vec::new(),
+        skipped: Vec::new(),
+        quantity: series.quantity,
+        theta: Some(theta),
+    }
+}
+
+/// Analyses every series in parallel; results keep the input order (osmometry series first,
+/// then tabulated ones).
+pub fn analyze(series: &[Series], tabulated: &[TabulatedSeries], settings: &Settings) -> Vec<SeriesResult> {
+    let mut results: Vec<SeriesResult> =
+        series.par_iter().enumerate().map(|(i, s)| analyze_series(s, settings, i as u64)).collect();
+    results.extend(tabulated.par_iter().map(|s| analyze_tabulated(s, settings)).collect::<Vec<_>>());
+    results
 }

@@ -64,7 +64,49 @@ pub struct AnalyzeArgs {
     #[arg(long, value_name = "G_PER_ML")]
     pub solvent_density: Option<f64>,
 
+    /// Confidence level of the θ intervals.
+    #[arg(long, default_value_t = 0.95, value_parser = parse_confidence)]
+    pub confidence: f64,
+
+    /// Bootstrap replicates for the θ interval cross-check (0 turns it off).
+    #[arg(long, default_value_t = 2000, value_name = "N")]
+    pub bootstrap: usize,
+
+    /// Seed of the bootstrap (same seed, same numbers).
+    #[arg(long, default_value_t = 1)]
+    pub seed: u64,
+
+    /// Partial specific volume of the polymer v̄ in mL/g (for ψ1, κ1, χ).
+    #[arg(long, value_name = "ML_PER_G", value_parser = parse_positive)]
+    pub polymer_specific_volume: Option<f64>,
+
+    /// Molar volume of the solvent V1 in mL/mol (for ψ1, κ1, χ).
+    #[arg(long, value_name = "ML_PER_MOL", value_parser = parse_positive)]
+    pub solvent_molar_volume: Option<f64>,
+
+    /// |A2| tolerance in mol mL/g² for the temperature-stability advice.
+    #[arg(long, default_value_t = 1.0e-5, value_name = "MOL_ML_PER_G2", value_parser = parse_positive)]
+    pub a2_tolerance: f64,
+
     /// Print nothing on the terminal but errors.
     #[arg(long, short)]
     pub quiet: bool,
+}
+
+fn parse_confidence(text: &str) -> Result<f64, String> {
+    let v: f64 = text.parse().map_err(|_| format!("'{text}' is not a number"))?;
+    if v > 0.0 && v < 1.0 {
+        Ok(v)
+    } else {
+        Err(format!("{v} is not between 0 and 1 (e.g. 0.95)"))
+    }
+}
+
+fn parse_positive(text: &str) -> Result<f64, String> {
+    let v: f64 = text.parse().map_err(|_| format!("'{text}' is not a number"))?;
+    if v.is_finite() && v > 0.0 {
+        Ok(v)
+    } else {
+        Err(format!("{v} is not a positive number"))
+    }
 }

@@ -1,6 +1,7 @@
 //! Measurements in the internal SI system, grouped into series and temperatures.
 //! Nothing here knows about files or polars: the input module produces these.
 
+use crate::theta::{Quantity, TemperaturePoint, Volumes};
 use std::collections::HashMap;
 
 /// Where a measurement came from, for messages.
@@ -71,6 +72,81 @@ pub struct Series {
     pub name: String,
     /// One entry per temperature, ascending.
     pub temperatures: Vec<TemperatureSet>,
+    /// v̄ and V1 given in the file for this series.
+    pub volumes: Option<Volumes>,
+}
+
+/// One row of a table that already holds A2 (or χ) at a temperature.
+#[derive(Debug, Clone, PartialEq)]
+pub struct TabulatedRow {
+    /// Series name.
+    pub series: String,
+    /// The value: A2 in mol m³/kg², or 1/2 − χ.
+    pub point: TemperaturePoint,
+    /// File and line.
+    pub origin: Origin,
+}
+
+/// A series given as A2 (or χ) per temperature, temperatures ascending.
+#[derive(Debug, Clone, PartialEq)]
+pub struct TabulatedSeries {
+    /// Series name.
+    pub name: String,
+    /// What the values are.
+    pub quantity: Quantity,
+    /// One point per row.
+    pub points: Vec<TemperaturePoint>,
+    /// v̄ and V1 given in the file for this series.
+    pub volumes: Option<Volumes>,
+}
+
+/// Every series of a run: osmometry series and tabulated ones, with v̄/V1 attached.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct Dataset {
+    /// Osmometry series, first-seen order.
+    pub series: Vec<Series>,
+    /// Tabulated A2 and χ series, first-seen order (A2 tables first).
+    pub tabulated: Vec<TabulatedSeries>,
+}
+
+impl Dataset {
+    /// Groups readings and rows into series and attaches each series' v̄ and V1 (the first
+    /// value given for a series name is used).
+    pub fn new(
+        measurements: &[Measurement],
+        a2_rows: &[TabulatedRow],
+        chi_rows: &[TabulatedRow],
+        volumes: &[(String, Volumes)],
+    ) -> Self {
+        let find = |name: &str| volumes.iter().find(|(s, _)| s == name).map(|(_, v)| *v);
+        let mut series = group(measurements);
+        for s in &mut series {
+            s.volumes = find(&s.name);
+        }
+        let mut tabulated = group_tabulated(a2_rows, Quantity::SecondVirial);
+        tabulated.extend(group_tabulated(chi_rows, Quantity::HalfMinusChi));
+        for s in &mut tabulated {
+            s.volumes = find(&s.name);
+        }
+        Dataset { series, tabulated }
+    }
+}
+
+/// Groups tabulated rows into series (first-seen order), temperatures ascending.
+pub fn group_tabulated(rows: &[TabulatedRow], quantity: Quantity) -> Vec<TabulatedSeries> {
+    let mut out: Vec<TabulatedSeries> = Vec::new();
+    let mut index: HashMap<&str, usize> = HashMap::new();
+    for row in rows {
+        let i = *index.entry(row.series.as_str()).or_insert_with(|| {
+            out.push(TabulatedSeries { name: row.series.clone(), quantity, points: Vec::new(), volumes: None });
+            out.len() - 1
+        });
+        out[i].points.push(row.point);
+    }
+    for s in &mut out {
+        s.points.sort_by(|a, b| a.temperature_k.total_cmp(&b.temperature_k));
+    }
+    out
 }
 
 /// Readings closer than this in temperature are one temperature (thermostats report 0.1 K at best).
@@ -107,7 +183,7 @@ pub fn group(measurements: &[Measurement]) -> Vec<Series> {
                     set
                 })
                 .collect();
-            Series { name: name.to_string(), temperatures }
+            Series { name: name.to_string(), temperatures, volumes: None }
         })
         .collect()
 }

@@ -18,5 +18,7 @@ pub mod regression;
 pub mod report;
 pub mod simulate;
 pub mod thermo;
+pub mod theta;
+pub mod uncertainty;
 pub mod units;
 pub mod virial;

@@ -221,6 +221,59 @@ impl DensityUnit {
     }
 }
 
+unit_enum!(
+    /// Second virial coefficient A2 (tables of A2 per temperature).
+    A2Unit, "a2", "mol m3/kg2", {
+        /// mol mL/g² = 1 mol m³/kg².
+        MolMillilitrePerGramSquared => "mol mL/g2", ["mol cm3/g2", "mol ml g-2", "mol cm3 g-2"], 1.0;
+        /// mol m³/kg².
+        MolCubicMetrePerKilogramSquared => "mol m3/kg2", ["mol m3 kg-2"], 1.0;
+    }
+);
+
+impl A2Unit {
+    /// Value in this unit → mol m³/kg².
+    pub fn to_si(self, value: f64) -> f64 {
+        value * self.factor()
+    }
+}
+
+unit_enum!(
+    /// Partial specific volume of the polymer v̄.
+    SpecificVolumeUnit, "specific volume", "m3/kg", {
+        /// mL/g = 10⁻³ m³/kg.
+        MillilitrePerGram => "mL/g", ["cm3/g"], 1.0e-3;
+        /// m³/kg.
+        CubicMetrePerKilogram => "m3/kg", [], 1.0;
+    }
+);
+
+impl SpecificVolumeUnit {
+    /// Value in this unit → m³/kg.
+    pub fn to_si(self, value: f64) -> f64 {
+        value * self.factor()
+    }
+}
+
+unit_enum!(
+    /// Molar volume of the solvent V1.
+    MolarVolumeUnit, "molar volume", "m3/mol", {
+        /// mL/mol = 10⁻⁶ m³/mol.
+        MillilitrePerMole => "mL/mol", ["cm3/mol"], 1.0e-6;
+        /// L/mol = 10⁻³ m³/mol.
+        LitrePerMole => "L/mol", ["dm3/mol"], 1.0e-3;
+        /// m³/mol.
+        CubicMetrePerMole => "m3/mol", [], 1.0;
+    }
+);
+
+impl MolarVolumeUnit {
+    /// Value in this unit → m³/mol.
+    pub fn to_si(self, value: f64) -> f64 {
+        value * self.factor()
+    }
+}
+
 /// Hydrostatic osmotic pressure Π = ρ g_n h, in Pa, from ρ in kg/m³ and h in m.
 pub fn head_to_pressure_pa(density_kg_per_m3: f64, head_m: f64) -> f64 {
     density_kg_per_m3 * STANDARD_GRAVITY_M_PER_S2 * head_m

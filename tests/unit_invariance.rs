@@ -7,8 +7,9 @@ use rand_chacha::ChaCha8Rng;
 use std::fmt::Write;
 use thetaseek::analysis::{analyze, Settings};
 use thetaseek::dataset::group;
-use thetaseek::input::{read_osmometry, ReadOptions};
+use thetaseek::input::{read_file, ReadOptions};
 use thetaseek::simulate::{simulate, Noise, VirialTruth};
+use thetaseek::theta::ThetaSettings;
 use thetaseek::units::STANDARD_GRAVITY_M_PER_S2;
 
 const DENSITY_G_PER_ML: f64 = 0.8672;
@@ -33,8 +34,12 @@ fn two_files() -> (String, String) {
 fn celsius_g_per_ml_pascal_and_kelvin_g_per_l_head_give_the_same_results() {
     let (a, b) = two_files();
     let run = |text: &str| {
-        let contents = read_osmometry("x.csv", 0, text.as_bytes(), &ReadOptions::default()).unwrap();
-        analyze(&group(&contents.measurements), &Settings::default())
+        let contents = read_file("x.csv", 0, text.as_bytes(), &ReadOptions::default()).unwrap();
+        let settings = Settings {
+            theta: ThetaSettings { bootstrap_replicates: 0, ..ThetaSettings::default() },
+            ..Settings::default()
+        };
+        analyze(&group(&contents.measurements), &[], &settings)
     };
     let (ra, rb) = (run(&a), run(&b));
     assert_eq!(ra[0].fits.len(), 4);
@@ -45,4 +50,6 @@ fn celsius_g_per_ml_pascal_and_kelvin_g_per_l_head_give_the_same_results() {
         assert_relative_eq!(fa.fit.a2, fb.fit.a2, max_relative = 1e-9);
         assert_relative_eq!(fa.fit.a2_se, fb.fit.a2_se, max_relative = 1e-9);
     }
+    let (ta, tb) = (ra[0].theta.as_ref().unwrap(), rb[0].theta.as_ref().unwrap());
+    assert_relative_eq!(ta.theta_k.unwrap(), tb.theta_k.unwrap(), max_relative = 1e-9);
 }

@@ -1,44 +1,46 @@
-//! `thetaseek analyze`: read → group → fit → report.
+//! `thetaseek analyze`: read → group → fit → θ → report.
 
 use super::{check_outputs, read_input, write_outputs, PendingOutput};
 use crate::cli::{AnalyzeArgs, VirialArg};
 use thetaseek::analysis::{self, Settings, Status};
-use thetaseek::dataset::{self, Measurement};
+use thetaseek::dataset::{Dataset, TabulatedRow};
 use thetaseek::error::Error;
 use thetaseek::input::{self, ReadOptions};
 use thetaseek::output::Destination;
 use thetaseek::report::{self, InputFile, Report, ReportSettings, SeriesReport};
+use thetaseek::theta::{Quantity, ThetaSettings, Volumes};
 use thetaseek::units::{ConcentrationUnit, PressureUnit, TemperatureUnit};
 use thetaseek::virial::{FormChoice, VirialForm};
 
-/// Runs the subcommand; returns the exit code on success paths (0).
+/// Runs the subcommand.
 pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
     let options = read_options(args)?;
-    let settings = Settings {
-        virial: match args.virial {
-            VirialArg::Auto => FormChoice::Auto,
-            VirialArg::Linear => FormChoice::Fixed(VirialForm::Linear),
-            VirialArg::Quadratic => FormChoice::Fixed(VirialForm::Quadratic),
-            VirialArg::Sqrt => FormChoice::Fixed(VirialForm::Sqrt),
-        },
-    };
+    let settings = settings(args)?;
 
     let mut inputs = Vec::new();
-    let mut measurements: Vec<Measurement> = Vec::new();
+    let mut measurements = Vec::new();
+    let (mut a2_rows, mut chi_rows): (Vec<TabulatedRow>, Vec<TabulatedRow>) = (Vec::new(), Vec::new());
+    let mut volumes = Vec::new();
     let mut run_warnings = Vec::new();
     for (index, path) in args.files.iter().enumerate() {
         let bytes = read_input(path)?;
         let name = path.display().to_string();
-        let contents = input::read_osmometry(&name, index, &bytes, &options)?;
+        let contents = input::read_file(&name, index, &bytes, &options)?;
         for column in &contents.ignored_columns {
             run_warnings.push(format!("{name}: column '{column}' is not used"));
         }
         measurements.extend(contents.measurements);
+        match contents.quantity {
+            Some(Quantity::SecondVirial) => a2_rows.extend(contents.tabulated),
+            Some(Quantity::HalfMinusChi) => chi_rows.extend(contents.tabulated),
+            None => {}
+        }
+        volumes.extend(contents.volumes);
         inputs.push(InputFile::new(&name, &bytes));
     }
 
-    let series = dataset::group(&measurements);
-    let results = analysis::analyze(&series, &settings);
+    let dataset = Dataset::new(&measurements, &a2_rows, &chi_rows, &volumes);
+    let results = analysis::analyze(&dataset.series, &dataset.tabulated, &settings);
     let report = Report {
         schema_version: report::SCHEMA_VERSION,
         tool_version: env!("CARGO_PKG_VERSION").to_string(),
@@ -48,10 +50,19 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
             concentration_unit: options.concentration_unit.map(|u| u.to_string()),
             pressure_unit: options.pressure_unit.map(|u| u.to_string()),
             solvent_density_g_per_ml: args.solvent_density,
+            confidence: args.confidence,
+            bootstrap_replicates: args.bootstrap,
+            seed: args.seed,
+            polymer_specific_volume_ml_per_g: args.polymer_specific_volume,
+            solvent_molar_volume_ml_per_mol: args.solvent_molar_volume,
+            a2_tolerance_mol_ml_per_g2: args.a2_tolerance,
             ..ReportSettings::new(&format!("{:?}", args.virial).to_lowercase())
         },
         warnings: run_warnings,
-        series: results.iter().zip(&series).map(|(r, s)| SeriesReport::new(r, s)).collect(),
+        series: results
+            .iter()
+            .map(|r| SeriesReport::new(r, dataset.series.iter().find(|s| s.name == r.name)))
+            .collect(),
     };
 
     let terminal = report::render_terminal(&report);
@@ -85,6 +96,37 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
         }
     }
     Ok(())
+}
+
+fn settings(args: &AnalyzeArgs) -> Result<Settings, Error> {
+    let virial = match args.virial {
+        VirialArg::Auto => FormChoice::Auto,
+        VirialArg::Linear => FormChoice::Fixed(VirialForm::Linear),
+        VirialArg::Quadratic => FormChoice::Fixed(VirialForm::Quadratic),
+        VirialArg::Sqrt => FormChoice::Fixed(VirialForm::Sqrt),
+    };
+    let volumes = match (args.polymer_specific_volume, args.solvent_molar_volume) {
+        // mL/g → m³/kg and mL/mol → m³/mol.
+        (Some(v), Some(m)) => Some(Volumes { specific_volume: v * 1e-3, molar_volume: m * 1e-6 }),
+        (None, None) => None,
+        _ => {
+            return Err(Error::Setting(
+                "give both --polymer-specific-volume and --solvent-molar-volume, or neither".into(),
+            ))
+        }
+    };
+    Ok(Settings {
+        virial,
+        theta: ThetaSettings {
+            confidence: args.confidence,
+            bootstrap_replicates: args.bootstrap,
+            seed: args.seed,
+            // mol mL/g² is numerically mol m³/kg² (see units).
+            a2_tolerance: args.a2_tolerance,
+            virial,
+        },
+        volumes,
+    })
 }
 
 fn read_options(args: &AnalyzeArgs) -> Result<ReadOptions, Error> {

@@ -17,6 +17,18 @@ pub enum Role {
     Head,
     /// Density of the solvent, for converting a head to a pressure.
     SolventDensity,
+    /// A2 already fitted at a temperature.
+    A2,
+    /// Standard deviation of A2.
+    A2Sd,
+    /// Flory–Huggins χ at a temperature.
+    Chi,
+    /// Standard deviation of χ.
+    ChiSd,
+    /// Partial specific volume of the polymer v̄.
+    SpecificVolume,
+    /// Molar volume of the solvent V1.
+    MolarVolume,
 }
 
 impl Role {
@@ -30,12 +42,18 @@ impl Role {
             Role::PressureSd => "pressure sd",
             Role::Head => "head",
             Role::SolventDensity => "solvent density",
+            Role::A2 => "a2",
+            Role::A2Sd => "a2 sd",
+            Role::Chi => "chi",
+            Role::ChiSd => "chi sd",
+            Role::SpecificVolume => "polymer specific volume",
+            Role::MolarVolume => "solvent molar volume",
         }
     }
 
     /// Whether the column carries a physical unit.
     pub fn has_unit(self) -> bool {
-        !matches!(self, Role::Series)
+        !matches!(self, Role::Series | Role::Chi | Role::ChiSd)
     }
 
     fn from_name(name: &str) -> Option<Role> {
@@ -47,6 +65,12 @@ impl Role {
             "pressure sd" | "osmotic pressure sd" => Role::PressureSd,
             "head" => Role::Head,
             "solvent density" => Role::SolventDensity,
+            "a2" | "second virial coefficient" => Role::A2,
+            "a2 sd" | "second virial coefficient sd" => Role::A2Sd,
+            "chi" | "χ" => Role::Chi,
+            "chi sd" | "χ sd" => Role::ChiSd,
+            "polymer specific volume" | "specific volume" => Role::SpecificVolume,
+            "solvent molar volume" | "molar volume" => Role::MolarVolume,
             _ => return None,
         })
     }

@@ -3,6 +3,9 @@
 //! The bytes are scanned once for structure (header, line numbers, ragged rows, duplicated
 //! columns), then parsed by polars with every column as text, and each value is validated
 //! here so that a refusal can name the file, the line, the column and the value.
+//!
+//! The kind of file is recognised from its columns: `pressure` or `head` → osmometry
+//! readings; `a2` → A2 already fitted at each temperature; `chi` → χ at each temperature.
 
 mod columns;
 mod scan;
@@ -10,10 +13,15 @@ mod scan;
 pub use columns::{parse_header_cell, HeaderCell, Role};
 pub use scan::{scan, Layout, RecordLine};
 
-use crate::dataset::{Measurement, Origin};
+use crate::dataset::{Measurement, Origin, TabulatedRow};
 use crate::error::InputError;
-use crate::units::{head_to_pressure_pa, ConcentrationUnit, DensityUnit, LengthUnit, PressureUnit, TemperatureUnit};
+use crate::theta::{Quantity, TemperaturePoint, Volumes};
+use crate::units::{
+    head_to_pressure_pa, A2Unit, ConcentrationUnit, DensityUnit, LengthUnit, MolarVolumeUnit, PressureUnit,
+    SpecificVolumeUnit, TemperatureUnit, UnknownUnit,
+};
 use polars::prelude::*;
+use std::collections::HashMap;
 use std::io::Cursor;
 use std::str::FromStr;
 
@@ -31,41 +39,34 @@ pub struct ReadOptions {
 }
 
 /// What one file held, in SI units.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, PartialEq, Default)]
 pub struct FileContents {
-    /// Readings, in file order (blank lines dropped).
+    /// Osmometry readings, in file order (blank lines dropped).
     pub measurements: Vec<Measurement>,
+    /// A2 or χ per temperature, for tables of those.
+    pub tabulated: Vec<TabulatedRow>,
+    /// What `tabulated` holds.
+    pub quantity: Option<Quantity>,
+    /// v̄ and V1 per series, where the file gives them.
+    pub volumes: Vec<(String, Volumes)>,
     /// Header cells that were not recognised and so were not used.
     pub ignored_columns: Vec<String>,
 }
 
-/// Reads one osmometry CSV from memory. `name` is how the file is named in messages and is
-/// the series name when there is no `series` column; `file_index` goes into each [`Origin`].
-pub fn read_osmometry(
+/// Reads one CSV from memory. `name` is how the file is named in messages and is the series
+/// name when there is no `series` column; `file_index` goes into each [`Origin`].
+pub fn read_file(
     name: &str,
     file_index: usize,
     bytes: &[u8],
     options: &ReadOptions,
 ) -> Result<FileContents, InputError> {
-    if let Err(e) = std::str::from_utf8(bytes) {
-        let before = &bytes[..e.valid_up_to()];
-        let line = 1 + before.iter().filter(|b| **b == b'\n').count();
-        let line_start = before.iter().rposition(|b| *b == b'\n').map_or(0, |p| p + 1);
-        let field = 1 + before[line_start..].iter().filter(|b| **b == b',').count();
-        return Err(InputError::at(
-            name,
-            line,
-            Some(&format!("field {field}")),
-            None,
-            "the text is not UTF-8 (perhaps Latin-1 or UTF-16 from a spreadsheet); save it as UTF-8 CSV",
-        ));
-    }
+    check_utf8(name, bytes)?;
     let layout =
         scan(bytes).ok_or_else(|| InputError::file(name, "the file is empty: expected a header line and data rows"))?;
     let cells: Vec<HeaderCell> = layout.header.iter().map(|h| parse_header_cell(h)).collect();
-    let columns = Columns::locate(name, layout.header_line, &cells)?;
+    let roles = locate_roles(name, layout.header_line, &cells)?;
     check_structure(name, &layout)?;
-
     let frame = parse_with_polars(name, bytes)?;
     if frame.height() != layout.records.len() {
         return Err(InputError::file(
@@ -77,150 +78,32 @@ pub fn read_osmometry(
             ),
         ));
     }
-    let text = |index: usize| -> Result<Vec<Option<String>>, InputError> {
-        let column = &frame.columns()[index];
-        let values = column
-            .as_materialized_series()
-            .str()
-            .map_err(|e| {
-                InputError::file(name, format!("column '{}' could not be read as text: {e}", cells[index].raw))
-            })?
-            .iter()
-            .map(|v| v.map(str::to_string))
-            .collect();
-        Ok(values)
-    };
-
-    let units = Units::resolve(name, layout.header_line, &cells, &columns, options)?;
-    let series_name = file_stem(name);
-    let series_col = columns.series.map(text).transpose()?;
-    let temperature = text(columns.temperature)?;
-    let concentration = text(columns.concentration)?;
-    let pressure = match columns.pressure {
-        PressureSource::Pressure(i) => text(i)?,
-        PressureSource::Head(i) => text(i)?,
-    };
-    let sd = columns.pressure_sd.map(text).transpose()?;
-    let density = columns.solvent_density.map(text).transpose()?;
-
-    let mut measurements = Vec::with_capacity(layout.records.len());
-    for (row, record) in layout.records.iter().enumerate() {
-        if record.blank {
-            continue;
-        }
-        let line = record.line;
-        let value = |values: &[Option<String>], index: usize| -> Result<f64, InputError> {
-            number(name, line, &cells[index].raw, values[row].as_deref())
-        };
-        let t_k = units.temperature.to_kelvin(value(&temperature, columns.temperature)?);
-        if t_k <= 0.0 {
-            return Err(refuse(
-                name,
-                line,
-                &cells[columns.temperature],
-                &temperature[row],
-                "a temperature must lie above absolute zero (0 K)",
-            ));
-        }
-        let c = units.concentration.to_si(value(&concentration, columns.concentration)?);
-        if c <= 0.0 {
-            return Err(refuse(
-                name,
-                line,
-                &cells[columns.concentration],
-                &concentration[row],
-                "a concentration must be greater than zero",
-            ));
-        }
-        let pressure_pa = match units.pressure {
-            PressureScale::Pressure(i, unit) => {
-                let p = unit.to_si(value(&pressure, i)?);
-                if p < 0.0 {
-                    return Err(refuse(
-                        name,
-                        line,
-                        &cells[i],
-                        &pressure[row],
-                        "an osmotic pressure cannot be negative",
-                    ));
-                }
-                p
-            }
-            PressureScale::Head(i, unit) => {
-                let h = unit.to_si(value(&pressure, i)?);
-                if h < 0.0 {
-                    return Err(refuse(name, line, &cells[i], &pressure[row], "a head cannot be negative"));
-                }
-                let rho = match (&density, columns.solvent_density, units.density) {
-                    (Some(d), Some(j), Some(unit)) => {
-                        let rho = unit.to_si(value(d, j)?);
-                        if rho <= 0.0 {
-                            return Err(refuse(name, line, &cells[j], &d[row], "a density must be greater than zero"));
-                        }
-                        rho
-                    }
-                    _ => options.solvent_density_kg_per_m3.ok_or_else(|| {
-                        InputError::at(
-                            name,
-                            layout.header_line,
-                            Some(&cells[i].raw),
-                            None,
-                            "a 'head' column needs the solvent density: add a 'solvent density (g/mL)' column or give --solvent-density",
-                        )
-                    })?,
-                };
-                head_to_pressure_pa(rho, h)
-            }
-        };
-        let pressure_sd_pa = match (&sd, columns.pressure_sd, units.pressure_sd) {
-            (Some(sd), Some(j), Some(unit)) => match sd[row].as_deref().map(str::trim).filter(|s| !s.is_empty()) {
-                None => None,
-                Some(_) => {
-                    let s = unit.to_si(value(sd, j)?);
-                    if s <= 0.0 {
-                        return Err(refuse(
-                            name,
-                            line,
-                            &cells[j],
-                            &sd[row],
-                            "a standard deviation must be greater than zero (leave it empty if unknown)",
-                        ));
-                    }
-                    Some(s)
-                }
-            },
-            _ => None,
-        };
-        let series = match &series_col {
-            Some(values) => {
-                let s = values[row].as_deref().map(str::trim).unwrap_or("");
-                if s.is_empty() {
-                    return Err(InputError::at(
-                        name,
-                        line,
-                        Some(&cells[columns.series.unwrap_or(0)].raw),
-                        None,
-                        "the series name is empty",
-                    ));
-                }
-                s.to_string()
-            }
-            None => series_name.clone(),
-        };
-        measurements.push(Measurement {
-            series,
-            temperature_k: t_k,
-            concentration_kg_per_m3: c,
-            pressure_pa,
-            pressure_sd_pa,
-            origin: Origin { file: file_index, line },
-        });
-    }
-    if measurements.is_empty() {
+    let columns = frame
+        .columns()
+        .iter()
+        .map(|c| c.as_materialized_series().str().cloned())
+        .collect::<Result<Vec<_>, _>>()
+        .map_err(|e| InputError::file(name, format!("a column could not be read as text: {e}")))?;
+    let table = Table { name, file_index, cells: &cells, layout: &layout, columns, roles };
+    if table.layout.records.iter().all(|r| r.blank) {
         return Err(InputError::at(name, layout.header_line, None, None, "the header has no data rows under it"));
     }
-    let ignored_columns = cells.iter().filter(|c| c.role.is_none()).map(|c| c.raw.clone()).collect();
-    Ok(FileContents { measurements, ignored_columns })
+    let mut contents = if table.has(Role::Pressure) || table.has(Role::Head) {
+        read_osmometry(&table, options)?
+    } else if table.has(Role::A2) || table.has(Role::Chi) {
+        read_tabulated(&table, options)?
+    } else {
+        return Err(InputError::at(
+            name,
+            layout.header_line,
+            Some("pressure"),
+            None,
+            "there is no such column; the header needs temperature, concentration and pressure (or head), each with its unit, e.g. 'temperature (C),concentration (g/mL),pressure (Pa)' — or temperature and 'a2 (mol mL/g2)' or 'chi'",
+        ));
+    };
+    contents.volumes = table.volumes()?;
+    contents.ignored_columns = cells.iter().filter(|c| c.role.is_none()).map(|c| c.raw.clone()).collect();
+    Ok(contents)
 }
 
 /// The series name used when a file has no `series` column: the file name without folders
@@ -229,27 +112,19 @@ pub fn file_stem(name: &str) -> String {
     std::path::Path::new(name).file_stem().map(|s| s.to_string_lossy().into_owned()).unwrap_or_else(|| name.to_string())
 }
 
-fn refuse(file: &str, line: usize, cell: &HeaderCell, value: &Option<String>, message: &str) -> InputError {
-    InputError::at(file, line, Some(&cell.raw), value.as_deref().map(str::trim), message)
-}
-
-/// Parses one value as a finite number, or says why not.
-fn number(file: &str, line: usize, column: &str, value: Option<&str>) -> Result<f64, InputError> {
-    let text = value.map(str::trim).unwrap_or("");
-    if text.is_empty() {
-        return Err(InputError::at(file, line, Some(column), None, "the value is missing: expected a number"));
-    }
-    match f64::from_str(text) {
-        Ok(v) if v.is_finite() => Ok(v),
-        Ok(_) => Err(InputError::at(file, line, Some(column), Some(text), "expected a finite number")),
-        Err(_) => Err(InputError::at(
-            file,
-            line,
-            Some(column),
-            Some(text),
-            "expected a number with a decimal point (e.g. 1.5 or 2.5e-3), without thousands separators",
-        )),
-    }
+fn check_utf8(name: &str, bytes: &[u8]) -> Result<(), InputError> {
+    let Err(e) = std::str::from_utf8(bytes) else { return Ok(()) };
+    let before = &bytes[..e.valid_up_to()];
+    let line = 1 + before.iter().filter(|b| **b == b'\n').count();
+    let line_start = before.iter().rposition(|b| *b == b'\n').map_or(0, |p| p + 1);
+    let field = 1 + before[line_start..].iter().filter(|b| **b == b',').count();
+    Err(InputError::at(
+        name,
+        line,
+        Some(&format!("field {field}")),
+        None,
+        "the text is not UTF-8 (perhaps Latin-1 or UTF-16 from a spreadsheet); save it as UTF-8 CSV",
+    ))
 }
 
 fn check_structure(name: &str, layout: &Layout) -> Result<(), InputError> {
@@ -282,189 +157,393 @@ fn parse_with_polars(name: &str, bytes: &[u8]) -> Result<DataFrame, InputError> 
         .map_err(|e| InputError::file(name, format!("the CSV reader refused the file: {e}")))
 }
 
-/// Where the osmotic pressure comes from.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-enum PressureSource {
-    Pressure(usize),
-    Head(usize),
-}
-
-/// Column indices of every role found in the header.
-#[derive(Debug, Clone, Copy)]
-struct Columns {
-    series: Option<usize>,
-    temperature: usize,
-    concentration: usize,
-    pressure: PressureSource,
-    pressure_sd: Option<usize>,
-    solvent_density: Option<usize>,
-}
-
-impl Columns {
-    fn locate(file: &str, header_line: usize, cells: &[HeaderCell]) -> Result<Columns, InputError> {
-        let mut found: Vec<(Role, usize)> = Vec::new();
-        for (i, cell) in cells.iter().enumerate() {
-            if cell.raw.is_empty() {
-                return Err(InputError::at(
-                    file,
-                    header_line,
-                    None,
-                    None,
-                    format!("header field {} is empty: every column needs a name", i + 1),
-                ));
-            }
-            if let Some(role) = cell.role {
-                if let Some((_, first)) = found.iter().find(|(r, _)| *r == role) {
-                    return Err(InputError::at(
-                        file,
-                        header_line,
-                        Some(&cell.raw),
-                        None,
-                        format!(
-                            "the column '{}' appears twice (also as '{}'); keep one",
-                            role.name(),
-                            cells[*first].raw
-                        ),
-                    ));
-                }
-                found.push((role, i));
-            }
-        }
-        let get = |role: Role| found.iter().find(|(r, _)| *r == role).map(|(_, i)| *i);
-        let missing = |what: &str| {
-            InputError::at(
+fn locate_roles(file: &str, header_line: usize, cells: &[HeaderCell]) -> Result<HashMap<Role, usize>, InputError> {
+    let mut found: HashMap<Role, usize> = HashMap::new();
+    for (i, cell) in cells.iter().enumerate() {
+        if cell.raw.is_empty() {
+            return Err(InputError::at(
                 file,
                 header_line,
-                Some(what),
                 None,
-                "there is no such column; the header needs temperature, concentration and pressure (or head), each with its unit, e.g. 'temperature (C),concentration (g/mL),pressure (Pa)'",
-            )
-        };
-        let pressure = match (get(Role::Pressure), get(Role::Head)) {
-            (Some(i), None) => PressureSource::Pressure(i),
-            (None, Some(i)) => PressureSource::Head(i),
-            (Some(_), Some(i)) => {
+                None,
+                format!("header field {} is empty: every column needs a name", i + 1),
+            ));
+        }
+        if let Some(role) = cell.role {
+            if let Some(first) = found.get(&role) {
                 return Err(InputError::at(
                     file,
                     header_line,
-                    Some(&cells[i].raw),
+                    Some(&cell.raw),
                     None,
-                    "give either a 'pressure' or a 'head' column, not both",
-                ))
+                    format!("the column '{}' appears twice (also as '{}'); keep one", role.name(), cells[*first].raw),
+                ));
             }
-            (None, None) => return Err(missing("pressure")),
-        };
-        Ok(Columns {
-            series: get(Role::Series),
-            temperature: get(Role::Temperature).ok_or_else(|| missing("temperature"))?,
-            concentration: get(Role::Concentration).ok_or_else(|| missing("concentration"))?,
-            pressure,
-            pressure_sd: get(Role::PressureSd),
-            solvent_density: get(Role::SolventDensity),
+            found.insert(role, i);
+        }
+    }
+    let conflict = |a: Role, b: Role, what: &str| -> Result<(), InputError> {
+        match (found.get(&a), found.get(&b)) {
+            (Some(_), Some(&j)) => Err(InputError::at(file, header_line, Some(&cells[j].raw), None, what.to_string())),
+            _ => Ok(()),
+        }
+    };
+    conflict(Role::Pressure, Role::Head, "give either a 'pressure' or a 'head' column, not both")?;
+    conflict(Role::A2, Role::Chi, "give either an 'a2' or a 'chi' column, not both")?;
+    Ok(found)
+}
+
+/// One parsed file: its header cells, record lines and text columns.
+struct Table<'a> {
+    name: &'a str,
+    file_index: usize,
+    cells: &'a [HeaderCell],
+    layout: &'a Layout,
+    columns: Vec<StringChunked>,
+    roles: HashMap<Role, usize>,
+}
+
+impl Table<'_> {
+    fn has(&self, role: Role) -> bool {
+        self.roles.contains_key(&role)
+    }
+
+    fn column(&self, role: Role) -> Option<usize> {
+        self.roles.get(&role).copied()
+    }
+
+    fn require(&self, role: Role) -> Result<usize, InputError> {
+        self.column(role).ok_or_else(|| {
+            InputError::at(
+                self.name,
+                self.layout.header_line,
+                Some(role.name()),
+                None,
+                format!("there is no such column; this kind of file needs a '{}' column with its unit", role.name()),
+            )
         })
     }
-}
 
-#[derive(Debug, Clone, Copy)]
-enum PressureScale {
-    Pressure(usize, PressureUnit),
-    Head(usize, LengthUnit),
-}
-
-/// The unit of every value column, from the header or, where it has none, from the options.
-struct Units {
-    temperature: TemperatureUnit,
-    concentration: ConcentrationUnit,
-    pressure: PressureScale,
-    pressure_sd: Option<PressureUnit>,
-    density: Option<DensityUnit>,
-}
-
-impl Units {
-    fn resolve(
-        file: &str,
-        line: usize,
-        cells: &[HeaderCell],
-        columns: &Columns,
-        options: &ReadOptions,
-    ) -> Result<Units, InputError> {
-        let pressure = match columns.pressure {
-            PressureSource::Pressure(i) => {
-                PressureScale::Pressure(i, unit_of(file, line, &cells[i], options.pressure_unit, "--pressure-unit")?)
-            }
-            PressureSource::Head(i) => PressureScale::Head(i, unit_of(file, line, &cells[i], None, "")?),
-        };
-        // A `pressure sd` header without a unit takes the pressure column's unit.
-        let pressure_sd = match (columns.pressure_sd, pressure) {
-            (Some(i), PressureScale::Pressure(_, p)) if cells[i].unit.is_none() && options.pressure_unit.is_none() => {
-                Some(p)
-            }
-            (Some(i), _) => Some(unit_of(file, line, &cells[i], options.pressure_unit, "--pressure-unit")?),
-            (None, _) => None,
-        };
-        let density = match columns.solvent_density {
-            Some(i) => Some(unit_of(file, line, &cells[i], None, "")?),
-            None => None,
-        };
-        Ok(Units {
-            temperature: unit_of(
-                file,
-                line,
-                &cells[columns.temperature],
-                options.temperature_unit,
-                "--temperature-unit",
-            )?,
-            concentration: unit_of(
-                file,
-                line,
-                &cells[columns.concentration],
-                options.concentration_unit,
-                "--concentration-unit",
-            )?,
-            pressure,
-            pressure_sd,
-            density,
-        })
+    fn text(&self, col: usize, row: usize) -> &str {
+        self.columns[col].get(row).map(str::trim).unwrap_or("")
     }
-}
 
-/// The unit written in the header, or the one given by `flag` when the header has none.
-/// A header unit that disagrees with the flag is refused rather than silently preferred.
-fn unit_of<U>(file: &str, line: usize, cell: &HeaderCell, fallback: Option<U>, flag: &str) -> Result<U, InputError>
-where
-    U: FromStr<Err = crate::units::UnknownUnit> + Copy + PartialEq + std::fmt::Display,
-{
-    match (&cell.unit, fallback) {
-        (Some(text), fallback) => {
-            let unit = text
-                .parse::<U>()
-                .map_err(|e| InputError::at(file, line, Some(&cell.raw), Some(text), e.to_string()))?;
-            match fallback {
-                Some(f) if f != unit => Err(InputError::at(
-                    file,
+    fn line(&self, row: usize) -> usize {
+        self.layout.records[row].line
+    }
+
+    fn rows(&self) -> impl Iterator<Item = usize> + '_ {
+        self.layout.records.iter().enumerate().filter(|(_, r)| !r.blank).map(|(i, _)| i)
+    }
+
+    fn refuse(&self, col: usize, row: usize, message: &str) -> InputError {
+        let value = self.text(col, row);
+        InputError::at(
+            self.name,
+            self.line(row),
+            Some(&self.cells[col].raw),
+            (!value.is_empty()).then_some(value),
+            message,
+        )
+    }
+
+    /// A finite number, or a message that says what is wrong with the value.
+    fn number(&self, col: usize, row: usize) -> Result<f64, InputError> {
+        let text = self.text(col, row);
+        if text.is_empty() {
+            return Err(self.refuse(col, row, "the value is missing: expected a number"));
+        }
+        match f64::from_str(text) {
+            Ok(v) if v.is_finite() => Ok(v),
+            Ok(_) => Err(self.refuse(col, row, "expected a finite number")),
+            Err(_) => Err(self.refuse(
+                col,
+                row,
+                "expected a number with a decimal point (e.g. 1.5 or 2.5e-3), without thousands separators",
+            )),
+        }
+    }
+
+    /// A number that must be > 0 (or ≥ 0 when `zero_ok`), after conversion by `to_si`.
+    fn checked(
+        &self,
+        col: usize,
+        row: usize,
+        to_si: impl Fn(f64) -> f64,
+        zero_ok: bool,
+        what: &str,
+    ) -> Result<f64, InputError> {
+        let v = to_si(self.number(col, row)?);
+        if v < 0.0 || (!zero_ok && v == 0.0) {
+            return Err(self.refuse(col, row, what));
+        }
+        Ok(v)
+    }
+
+    /// The unit written in the header, or the one given by `flag` when the header has none.
+    /// A header unit that disagrees with the flag is refused rather than silently preferred.
+    fn unit<U>(&self, col: usize, fallback: Option<U>, flag: &str) -> Result<U, InputError>
+    where
+        U: FromStr<Err = UnknownUnit> + Copy + PartialEq + std::fmt::Display,
+    {
+        let cell = &self.cells[col];
+        let line = self.layout.header_line;
+        match (&cell.unit, fallback) {
+            (Some(text), fallback) => {
+                let unit = text
+                    .parse::<U>()
+                    .map_err(|e| InputError::at(self.name, line, Some(&cell.raw), Some(text), e.to_string()))?;
+                match fallback {
+                    Some(f) if f != unit => Err(InputError::at(
+                        self.name,
+                        line,
+                        Some(&cell.raw),
+                        Some(text),
+                        format!("the header says '{unit}' but {flag} says '{f}'; keep one"),
+                    )),
+                    _ => Ok(unit),
+                }
+            }
+            (None, Some(unit)) => Ok(unit),
+            (None, None) => {
+                let accepted = "".parse::<U>().err().map(|e| e.accepted).unwrap_or_default();
+                let first = accepted.split(", ").next().unwrap_or("");
+                let hint = if flag.is_empty() { String::new() } else { format!(" or give {flag}") };
+                Err(InputError::at(
+                    self.name,
                     line,
                     Some(&cell.raw),
-                    Some(text),
-                    format!("the header says '{unit}' but {flag} says '{f}'; keep one"),
-                )),
-                _ => Ok(unit),
+                    None,
+                    format!(
+                        "the column has no unit: write it after the name, e.g. '{} ({first})'{hint}; accepted: {accepted}",
+                        cell.name
+                    ),
+                ))
             }
         }
-        (None, Some(unit)) => Ok(unit),
-        (None, None) => {
-            let example = "".parse::<U>().err().map(|e| e.accepted).unwrap_or_default();
-            let hint = if flag.is_empty() { String::new() } else { format!(" or give {flag}") };
-            Err(InputError::at(
-                file,
-                line,
-                Some(&cell.raw),
-                None,
-                format!(
-                    "the column has no unit: write it after the name, e.g. '{} ({})'{hint}; accepted: {example}",
-                    cell.name,
-                    example.split(", ").next().unwrap_or("")
-                ),
-            ))
+    }
+
+    fn series(&self, row: usize) -> Result<String, InputError> {
+        match self.column(Role::Series) {
+            Some(col) => {
+                let s = self.text(col, row);
+                if s.is_empty() {
+                    return Err(InputError::at(
+                        self.name,
+                        self.line(row),
+                        Some(&self.cells[col].raw),
+                        None,
+                        "the series name is empty",
+                    ));
+                }
+                Ok(s.to_string())
+            }
+            None => Ok(file_stem(self.name)),
         }
     }
+
+    fn temperatures(&self, options: &ReadOptions) -> Result<Vec<f64>, InputError> {
+        let col = self.require(Role::Temperature)?;
+        let unit: TemperatureUnit = self.unit(col, options.temperature_unit, "--temperature-unit")?;
+        let mut out = vec![f64::NAN; self.layout.records.len()];
+        for row in self.rows() {
+            let t = unit.to_kelvin(self.number(col, row)?);
+            if t <= 0.0 {
+                return Err(self.refuse(col, row, "a temperature must lie above absolute zero (0 K)"));
+            }
+            out[row] = t;
+        }
+        Ok(out)
+    }
+
+    /// v̄ and V1 per series from `polymer specific volume` and `solvent molar volume` columns;
+    /// both are needed, and each series must give one value of each.
+    fn volumes(&self) -> Result<Vec<(String, Volumes)>, InputError> {
+        let (Some(vc), Some(mc)) = (self.column(Role::SpecificVolume), self.column(Role::MolarVolume)) else {
+            return match (self.column(Role::SpecificVolume), self.column(Role::MolarVolume)) {
+                (Some(c), None) | (None, Some(c)) => Err(InputError::at(
+                    self.name,
+                    self.layout.header_line,
+                    Some(&self.cells[c].raw),
+                    None,
+                    "give both 'polymer specific volume (mL/g)' and 'solvent molar volume (mL/mol)', or neither",
+                )),
+                _ => Ok(Vec::new()),
+            };
+        };
+        let v_unit: SpecificVolumeUnit = self.unit(vc, None, "")?;
+        let m_unit: MolarVolumeUnit = self.unit(mc, None, "")?;
+        let mut out: Vec<(String, Volumes)> = Vec::new();
+        for row in self.rows() {
+            let series = self.series(row)?;
+            let v = Volumes {
+                specific_volume: self.checked(
+                    vc,
+                    row,
+                    |x| v_unit.to_si(x),
+                    false,
+                    "a specific volume must be greater than zero",
+                )?,
+                molar_volume: self.checked(
+                    mc,
+                    row,
+                    |x| m_unit.to_si(x),
+                    false,
+                    "a molar volume must be greater than zero",
+                )?,
+            };
+            match out.iter().find(|(s, _)| *s == series) {
+                Some((_, first)) if first != &v => {
+                    return Err(self.refuse(
+                        vc,
+                        row,
+                        "a series must keep one specific volume and one molar volume on every row",
+                    ));
+                }
+                Some(_) => {}
+                None => out.push((series, v)),
+            }
+        }
+        Ok(out)
+    }
+}
+
+fn read_osmometry(table: &Table, options: &ReadOptions) -> Result<FileContents, InputError> {
+    let temperatures = table.temperatures(options)?;
+    let c_col = table.require(Role::Concentration)?;
+    let c_unit: ConcentrationUnit = table.unit(c_col, options.concentration_unit, "--concentration-unit")?;
+    enum Source {
+        Pressure(usize, PressureUnit),
+        Head(usize, LengthUnit, Option<(usize, DensityUnit)>),
+    }
+    let source = match table.column(Role::Pressure) {
+        Some(p) => Source::Pressure(p, table.unit(p, options.pressure_unit, "--pressure-unit")?),
+        None => {
+            let h = table.require(Role::Head)?;
+            let density = match table.column(Role::SolventDensity) {
+                Some(d) => Some((d, table.unit(d, None, "")?)),
+                None if options.solvent_density_kg_per_m3.is_some() => None,
+                None => {
+                    return Err(InputError::at(
+                        table.name,
+                        table.layout.header_line,
+                        Some(&table.cells[h].raw),
+                        None,
+                        "a 'head' column needs the solvent density: add a 'solvent density (g/mL)' column or give --solvent-density",
+                    ))
+                }
+            };
+            Source::Head(h, table.unit(h, None, "")?, density)
+        }
+    };
+    // A `pressure sd` header without a unit takes the pressure column's unit.
+    let sd = match (table.column(Role::PressureSd), &source) {
+        (Some(i), Source::Pressure(_, p)) if table.cells[i].unit.is_none() && options.pressure_unit.is_none() => {
+            Some((i, *p))
+        }
+        (Some(i), _) => Some((i, table.unit(i, options.pressure_unit, "--pressure-unit")?)),
+        (None, _) => None,
+    };
+    let mut measurements = Vec::with_capacity(table.layout.records.len());
+    for row in table.rows() {
+        let pressure_pa = match &source {
+            Source::Pressure(col, unit) => {
+                table.checked(*col, row, |x| unit.to_si(x), true, "an osmotic pressure cannot be negative")?
+            }
+            Source::Head(col, unit, density) => {
+                let h = table.checked(*col, row, |x| unit.to_si(x), true, "a head cannot be negative")?;
+                let rho = match density {
+                    Some((d, du)) => {
+                        table.checked(*d, row, |x| du.to_si(x), false, "a density must be greater than zero")?
+                    }
+                    None => options.solvent_density_kg_per_m3.unwrap_or(f64::NAN),
+                };
+                head_to_pressure_pa(rho, h)
+            }
+        };
+        let pressure_sd_pa = match sd {
+            Some((col, unit)) if !table.text(col, row).is_empty() => Some(table.checked(
+                col,
+                row,
+                |x| unit.to_si(x),
+                false,
+                "a standard deviation must be greater than zero (leave it empty if unknown)",
+            )?),
+            _ => None,
+        };
+        measurements.push(Measurement {
+            series: table.series(row)?,
+            temperature_k: temperatures[row],
+            concentration_kg_per_m3: table.checked(
+                c_col,
+                row,
+                |x| c_unit.to_si(x),
+                false,
+                "a concentration must be greater than zero",
+            )?,
+            pressure_pa,
+            pressure_sd_pa,
+            origin: Origin { file: table.file_index, line: table.line(row) },
+        });
+    }
+    Ok(FileContents { measurements, ..FileContents::default() })
+}
+
+fn read_tabulated(table: &Table, options: &ReadOptions) -> Result<FileContents, InputError> {
+    let temperatures = table.temperatures(options)?;
+    let (quantity, value_col, sd_col) = match table.column(Role::A2) {
+        Some(a) => (Quantity::SecondVirial, a, table.column(Role::A2Sd)),
+        None => (Quantity::HalfMinusChi, table.require(Role::Chi)?, table.column(Role::ChiSd)),
+    };
+    // A2 and its SD carry a unit; χ is a pure number.
+    let a2_units: Option<(A2Unit, A2Unit)> = match quantity {
+        Quantity::SecondVirial => {
+            let unit = table.unit(value_col, None, "")?;
+            let sd_unit = match sd_col {
+                Some(s) if table.cells[s].unit.is_some() => table.unit(s, None, "")?,
+                _ => unit,
+            };
+            Some((unit, sd_unit))
+        }
+        Quantity::HalfMinusChi => None,
+    };
+    let mut rows = Vec::new();
+    for row in table.rows() {
+        let raw = table.number(value_col, row)?;
+        let value = match a2_units {
+            Some((unit, _)) => unit.to_si(raw),
+            None => 0.5 - raw,
+        };
+        let se = match sd_col {
+            Some(col) if !table.text(col, row).is_empty() => {
+                let to_si = |x: f64| a2_units.map_or(x, |(_, u)| u.to_si(x));
+                Some(table.checked(
+                    col,
+                    row,
+                    to_si,
+                    false,
+                    "a standard deviation must be greater than zero (leave it empty if unknown)",
+                )?)
+            }
+            _ => None,
+        };
+        rows.push(TabulatedRow {
+            series: table.series(row)?,
+            point: TemperaturePoint { temperature_k: temperatures[row], value, se },
+            origin: Origin { file: table.file_index, line: table.line(row) },
+        });
+    }
+    // Weights must be all or nothing within a file, or the fit would silently mix them.
+    if rows.iter().any(|r| r.point.se.is_some()) {
+        if let (Some(missing), Some(col)) = (rows.iter().find(|r| r.point.se.is_none()), sd_col) {
+            return Err(InputError::at(
+                table.name,
+                missing.origin.line,
+                Some(&table.cells[col].raw),
+                None,
+                "the sd is missing here but given on other rows: give it on every row or on none",
+            ));
+        }
+    }
+    Ok(FileContents { tabulated: rows, quantity: Some(quantity), ..FileContents::default() })
 }

@@ -3,9 +3,11 @@
 
 mod table;
 mod terminal;
+mod theta;
 
 pub use table::table_csv;
-pub use terminal::render_terminal;
+pub use terminal::{plus_minus, render_terminal};
+pub use theta::ThetaReport;
 
 use crate::analysis::{SeriesResult, Status};
 use crate::units::{
@@ -68,6 +70,18 @@ pub struct ReportSettings {
     pub solvent_density_g_per_ml: Option<f64>,
     /// Gas constant used, J/(mol K).
     pub gas_constant_j_per_mol_k: f64,
+    /// Confidence level of the θ intervals.
+    pub confidence: f64,
+    /// Bootstrap replicates (0 = off).
+    pub bootstrap_replicates: usize,
+    /// Bootstrap seed.
+    pub seed: u64,
+    /// v̄ for every series without its own, mL/g.
+    pub polymer_specific_volume_ml_per_g: Option<f64>,
+    /// V1 for every series without its own, mL/mol.
+    pub solvent_molar_volume_ml_per_mol: Option<f64>,
+    /// |A2| tolerance of the stability advice, mol mL/g².
+    pub a2_tolerance_mol_ml_per_g2: f64,
 }
 
 impl ReportSettings {
@@ -80,6 +94,12 @@ impl ReportSettings {
             pressure_unit: None,
             solvent_density_g_per_ml: None,
             gas_constant_j_per_mol_k: GAS_CONSTANT_J_PER_MOL_K,
+            confidence: 0.95,
+            bootstrap_replicates: 0,
+            seed: 1,
+            polymer_specific_volume_ml_per_g: None,
+            solvent_molar_volume_ml_per_mol: None,
+            a2_tolerance_mol_ml_per_g2: crate::theta::DEFAULT_A2_TOLERANCE,
         }
     }
 }
@@ -99,6 +119,8 @@ pub struct SeriesReport {
     pub fits: Vec<FitReport>,
     /// Temperatures that were not fitted.
     pub skipped_temperatures: Vec<SkippedReport>,
+    /// The θ analysis (null for refused series).
+    pub theta: Option<ThetaReport>,
 }
 
 /// A skipped temperature.
@@ -255,27 +277,21 @@ impl FitReport {
 
 impl SeriesReport {
     /// Converts one series' results; `series` supplies the readings behind each fit.
-    pub fn new(result: &SeriesResult, series: &crate::dataset::Series) -> Self {
+    pub fn new(result: &SeriesResult, series: Option<&crate::dataset::Series>) -> Self {
+        let sets = series.map_or(&[][..], |s| &s.temperatures[..]);
         let fits = result
             .fits
             .iter()
-            .map(|fit| {
-                let set = series
-                    .temperatures
-                    .iter()
-                    .find(|s| s.temperature_k == fit.temperature_k)
-                    .expect("every fit comes from one of the series' temperatures");
-                FitReport::new(fit, set)
+            .filter_map(|fit| {
+                sets.iter().find(|s| s.temperature_k == fit.temperature_k).map(|set| FitReport::new(fit, set))
             })
             .collect();
         let skipped_temperatures: Vec<SkippedReport> = result.skipped.iter().map(SkippedReport::from).collect();
         let reason = match result.status {
             Status::Ok => None,
-            Status::Partial => Some(format!(
-                "{} of {} temperatures could not be fitted",
-                result.skipped.len(),
-                series.temperatures.len()
-            )),
+            Status::Partial => {
+                Some(format!("{} of {} temperatures could not be fitted", result.skipped.len(), sets.len()))
+            }
             Status::Refused => Some(match result.skipped.first() {
                 Some(s) if result.skipped.len() == 1 => {
                     format!("its only temperature could not be fitted: {}", s.reason)
@@ -283,9 +299,21 @@ impl SeriesReport {
                 _ => "no temperature could be fitted (see skipped_temperatures)".to_string(),
             }),
         };
-        let warnings =
+        let mut warnings: Vec<String> =
             skipped_temperatures.iter().map(|s| format!("{:.2} K skipped: {}", s.temperature_k, s.reason)).collect();
-        SeriesReport { name: result.name.clone(), status: result.status, reason, warnings, fits, skipped_temperatures }
+        if let Some(t) = &result.theta {
+            warnings.extend(t.warnings.iter().cloned());
+        }
+        let theta = result.theta.as_ref().map(|t| ThetaReport::new(t, result.quantity));
+        SeriesReport {
+            name: result.name.clone(),
+            status: result.status,
+            reason,
+            warnings,
+            fits,
+            skipped_temperatures,
+            theta,
+        }
     }
 }
 

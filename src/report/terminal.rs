@@ -20,6 +20,36 @@ pub fn plus_minus(value: f64, se: f64) -> String {
     }
 }
 
+/// One line: θ in °C and K, ± SE, the interval, the crossing.
+pub fn theta_line(t: &super::ThetaReport) -> String {
+    use crate::theta::IntervalKind;
+    let level = format!("{:.0} %", t.confidence * 100.0);
+    match (t.theta_k, t.se_k) {
+        (Some(k), se) => {
+            let se = se.map_or(String::new(), |s| format!(" ± {s:.2}"));
+            let interval = match (t.ci_kind, t.ci_low_k, t.ci_high_k) {
+                (IntervalKind::Bounded, Some(lo), Some(hi)) => {
+                    format!("{level} CI {lo:.2}–{hi:.2} K ({})", t.ci_method)
+                }
+                (_, Some(lo), None) => format!("{level} CI above {lo:.2} K, no upper bound ({})", t.ci_method),
+                (kind, _, _) => format!("{level} CI {kind:?} ({})", t.ci_method).to_lowercase(),
+            };
+            let sense =
+                t.sense.map_or(String::new(), |s| format!(", {s:?}-type").to_uppercase().replace("-TYPE", "-type"));
+            let crossing = match t.extrapolated_by_k {
+                Some(b) => format!("extrapolated {b:.1} K beyond the data"),
+                None => format!("{:?}", t.crossing).to_lowercase(),
+            };
+            format!(
+                "θ = {:.2} °C = {k:.2}{se} K, {interval}, {crossing}{sense}, model {}",
+                k - crate::units::CELSIUS_OFFSET_K,
+                t.model
+            )
+        }
+        (None, _) => format!("θ: none — {}", t.reason.as_deref().unwrap_or("no crossing")),
+    }
+}
+
 /// Renders the whole report as text for a terminal.
 pub fn render_terminal(report: &Report) -> String {
     let mut out = String::new();
@@ -53,6 +83,9 @@ pub fn render_terminal(report: &Report) -> String {
             for w in &f.warnings {
                 let _ = writeln!(out, "  ! {:.2} °C: {}", f.temperature_c, w.message);
             }
+        }
+        if let Some(t) = &s.theta {
+            let _ = writeln!(out, "  {}", theta_line(t));
         }
         for w in &s.warnings {
             let _ = writeln!(out, "  ! {w}");

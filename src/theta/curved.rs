@@ -1,0 +1,131 @@
+//! A2 quadratic in 1/T, for series that reach far above θ where A2(T) bends:
+//! A2 = c0 + c1 u + c2 u², u = 1/T − x̄. Its zero inside the measured range is found with
+//! argmin's Brent root finder; the SE of θ follows by the delta method through the implicit
+//! function theorem.
+
+use super::TemperaturePoint;
+use crate::regression::{self, Weights};
+use crate::uncertainty::critical_value;
+use argmin::core::{CostFunction, Error as ArgminError, Executor};
+use argmin::solver::brent::BrentRoot;
+
+/// The fitted curve.
+#[derive(Debug, Clone, PartialEq)]
+pub struct CurvedFit {
+    /// Centre of 1/T, 1/K.
+    pub x_centre: f64,
+    /// c0, c1, c2.
+    pub coefficients: [f64; 3],
+    /// Covariance, row-major 3×3.
+    pub covariance: [f64; 9],
+    /// n − 3.
+    pub dof: usize,
+    /// t statistic of c2.
+    pub curvature_t: f64,
+    /// AICc of this fit and of the straight line on the same weights.
+    pub aicc: Option<f64>,
+    /// AICc of the straight line.
+    pub line_aicc: Option<f64>,
+}
+
+/// Smallest number of temperatures for the curved model (3 parameters, 2 residual dof).
+pub const MIN_TEMPERATURES: usize = 5;
+
+impl CurvedFit {
+    /// Fits the curve; `None` with fewer than [`MIN_TEMPERATURES`] temperatures.
+    pub fn fit(points: &[TemperaturePoint]) -> Option<Self> {
+        let n = points.len();
+        if n < MIN_TEMPERATURES {
+            return None;
+        }
+        let weights = super::line::weights_of(points);
+        let x: Vec<f64> = points.iter().map(|p| 1.0 / p.temperature_k).collect();
+        let x_centre = x.iter().sum::<f64>() / n as f64;
+        let u: Vec<f64> = x.iter().map(|x| x - x_centre).collect();
+        let y: Vec<f64> = points.iter().map(|p| p.value).collect();
+        let quad = regression::fit(&regression::polynomial_design(&u, 2), 3, &y, weights.as_deref(), Weights::Relative)
+            .ok()?;
+        let line = regression::fit(&regression::polynomial_design(&u, 1), 2, &y, weights.as_deref(), Weights::Relative)
+            .ok()?;
+        let mut covariance = [0.0; 9];
+        covariance.copy_from_slice(&quad.covariance);
+        Some(CurvedFit {
+            x_centre,
+            coefficients: [quad.coefficients[0], quad.coefficients[1], quad.coefficients[2]],
+            covariance,
+            dof: quad.dof,
+            curvature_t: quad.coefficients[2] / quad.standard_errors[2],
+            aicc: crate::virial::aicc(quad.rss_weighted, n, 3),
+            line_aicc: crate::virial::aicc(line.rss_weighted, n, 2),
+        })
+    }
+
+    /// Whether the data support the curve over the line: the c2 term is significant at
+    /// `confidence` (t test, n − 3 dof) and, where both are defined, AICc prefers it.
+    pub fn supported(&self, confidence: f64) -> bool {
+        let significant = self.curvature_t.abs() > critical_value(confidence, Some(self.dof));
+        let aicc_prefers = match (self.aicc, self.line_aicc) {
+            (Some(q), Some(l)) => q < l,
+            _ => true,
+        };
+        significant && aicc_prefers
+    }
+
+    fn value(&self, u: f64) -> f64 {
+        let [c0, c1, c2] = self.coefficients;
+        c0 + c1 * u + c2 * u * u
+    }
+
+    /// θ (K) where the curve crosses zero between `t_min` and `t_max`, with its delta-method
+    /// SE; `None` when it does not change sign there.
+    pub fn theta_in(&self, t_min: f64, t_max: f64) -> Option<(f64, f64)> {
+        let (u_lo, u_hi) = (1.0 / t_max - self.x_centre, 1.0 / t_min - self.x_centre);
+        if self.value(u_lo).signum() == self.value(u_hi).signum() {
+            return None;
+        }
+        let u = brent_root(|u| self.value(u), u_lo, u_hi)?;
+        let [_, c1, c2] = self.coefficients;
+        let slope = c1 + 2.0 * c2 * u;
+        // du*/dc = −(1, u, u²)/f'(u*); θ = 1/(x̄ + u*), dθ/du = −θ².
+        let g = [1.0, u, u * u];
+        let var_u: f64 =
+            (0..3).map(|i| (0..3).map(|j| g[i] * self.covariance[i * 3 + j] * g[j]).sum::<f64>()).sum::<f64>()
+                / (slope * slope);
+        let theta = 1.0 / (self.x_centre + u);
+        Some((theta, theta * theta * var_u.max(0.0).sqrt()))
+    }
+}
+
+struct Scalar<F: Fn(f64) -> f64>(F);
+
+impl<F: Fn(f64) -> f64> CostFunction for Scalar<F> {
+    type Param = f64;
+    type Output = f64;
+    fn cost(&self, x: &f64) -> Result<f64, ArgminError> {
+        Ok((self.0)(*x))
+    }
+}
+
+/// The root of `f` in [lo, hi] (f(lo) and f(hi) of opposite sign) by argmin's Brent method.
+pub fn brent_root(f: impl Fn(f64) -> f64, lo: f64, hi: f64) -> Option<f64> {
+    let tolerance = 1e-15 * lo.abs().max(hi.abs()).max(f64::MIN_POSITIVE);
+    let solver = BrentRoot::new(lo, hi, tolerance);
+    let result = Executor::new(Scalar(f), solver).configure(|s| s.param((lo + hi) / 2.0).max_iters(200)).run().ok()?;
+    let state = result.state();
+    argmin::core::State::get_best_param(state).copied().or(argmin::core::State::get_param(state).copied())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::brent_root;
+
+    #[test]
+    fn brent_finds_known_roots() {
+        // √2 (x² − 2), cos x = x (Dottie number 0.739085133215160…, from memory), e^x = 3 (ln 3).
+        assert!((brent_root(|x| x * x - 2.0, 0.0, 2.0).unwrap() - 2f64.sqrt()).abs() < 1e-14);
+        assert!((brent_root(|x| x.cos() - x, 0.0, 1.0).unwrap() - 0.739_085_133_215_160_6).abs() < 1e-14);
+        assert!((brent_root(|x| x.exp() - 3.0, 0.0, 2.0).unwrap() - 3f64.ln()).abs() < 1e-14);
+        // A root on a scale of 1/T (about 3e-3) keeps full relative precision.
+        assert!((brent_root(|x| x - 3.2e-3, 3.0e-3, 3.5e-3).unwrap() - 3.2e-3).abs() < 1e-17);
+    }
+}

@@ -1,0 +1,21 @@
+//! Uncertainty machinery shared by the across-temperature models: Fieller sets, the seeded
+//! bootstrap resampler, and quantiles.
+
+mod bootstrap;
+mod fieller;
+
+pub use bootstrap::{percentile, replicate_rng, resample_indices};
+pub use fieller::{fieller_zero, FiellerSet};
+
+use statrs::distribution::{ContinuousCDF, Normal, StudentsT};
+
+/// Two-sided critical value for `confidence` (e.g. 0.95): Student's t with `dof` degrees of
+/// freedom, or the normal quantile when `dof` is `None`.
+pub fn critical_value(confidence: f64, dof: Option<usize>) -> f64 {
+    let p = 0.5 + confidence / 2.0;
+    match dof {
+        Some(d) if d > 0 => StudentsT::new(0.0, 1.0, d as f64).map(|t| t.inverse_cdf(p)).unwrap_or(f64::NAN),
+        Some(_) => f64::NAN,
+        None => Normal::new(0.0, 1.0).map(|n| n.inverse_cdf(p)).unwrap_or(f64::NAN),
+    }
+}
