@@ -168,7 +168,16 @@ fn every_series_carries_a_theta_object_with_the_stable_keys() {
     let out = thetaseek()
         .arg("analyze")
         .arg(demo())
-        .args(["--report", "-", "--bootstrap", "100", "--polymer-specific-volume", "0.92", "--solvent-molar-volume", "105"])
+        .args([
+            "--report",
+            "-",
+            "--bootstrap",
+            "100",
+            "--polymer-specific-volume",
+            "0.92",
+            "--solvent-molar-volume",
+            "105",
+        ])
         .assert()
         .success()
         .get_output()
@@ -178,8 +187,21 @@ fn every_series_carries_a_theta_object_with_the_stable_keys() {
     for s in report["series"].as_array().unwrap() {
         let t = &s["theta"];
         for key in [
-            "theta_k", "theta_c", "se_k", "ci_low_k", "ci_high_k", "ci_kind", "ci_method", "confidence", "crossing", "model",
-            "models", "fieller", "bootstrap", "mn_consistency", "flory",
+            "theta_k",
+            "theta_c",
+            "se_k",
+            "ci_low_k",
+            "ci_high_k",
+            "ci_kind",
+            "ci_method",
+            "confidence",
+            "crossing",
+            "model",
+            "models",
+            "fieller",
+            "bootstrap",
+            "mn_consistency",
+            "flory",
         ] {
             assert!(t.get(key).is_some(), "theta missing {key}");
         }
@@ -202,7 +224,8 @@ fn a_table_of_a2_per_temperature_goes_straight_into_the_theta_machinery() {
     let text = "series,temperature (K),a2 (mol mL/g2),a2 sd (mol mL/g2)\n\
         lit,290,-1.45e-4,1e-5\nlit,298,-6.5e-5,1e-5\nlit,306,9e-6,1e-5\nlit,314,8.1e-5,1e-5\nlit,322,1.46e-4,1e-5\n";
     let input = write(dir.path(), "a2.csv", text);
-    let out = thetaseek().arg("analyze").arg(&input).args(["--report", "-"]).assert().success().get_output().stdout.clone();
+    let out =
+        thetaseek().arg("analyze").arg(&input).args(["--report", "-"]).assert().success().get_output().stdout.clone();
     let report: Value = serde_json::from_slice(&out).unwrap();
     let theta = report["series"][0]["theta"]["theta_k"].as_f64().unwrap();
     assert!((theta - 305.0).abs() < 1.0, "{theta}");
@@ -213,13 +236,15 @@ fn a_table_of_a2_per_temperature_goes_straight_into_the_theta_machinery() {
 fn a_table_of_chi_with_volumes_in_columns_gives_psi1_directly() {
     let dir = tempfile::tempdir().unwrap();
     // χ = 1/2 − 0.3 (1 − 300/T): ψ1 = 0.3, θ = 300 K exactly (invented).
-    let mut text = String::from("series,temperature (C),chi,polymer specific volume (mL/g),solvent molar volume (mL/mol)\n");
+    let mut text =
+        String::from("series,temperature (C),chi,polymer specific volume (mL/g),solvent molar volume (mL/mol)\n");
     for t_c in [10.0, 20.0, 30.0, 40.0, 50.0] {
         let t = t_c + 273.15;
         text.push_str(&format!("q,{t_c},{},0.9,100\n", 0.5 - 0.3 * (1.0 - 300.0 / t)));
     }
     let input = write(dir.path(), "chi.csv", &text);
-    let out = thetaseek().arg("analyze").arg(&input).args(["--report", "-"]).assert().success().get_output().stdout.clone();
+    let out =
+        thetaseek().arg("analyze").arg(&input).args(["--report", "-"]).assert().success().get_output().stdout.clone();
     let report: Value = serde_json::from_slice(&out).unwrap();
     let t = &report["series"][0]["theta"];
     assert!((t["theta_k"].as_f64().unwrap() - 300.0).abs() < 1e-6);
