@@ -44,6 +44,10 @@ pub struct AnalyzeArgs {
     #[arg(long, value_name = "PATH")]
     pub table: Option<String>,
 
+    /// Write SVG figures into this folder (created if missing).
+    #[arg(long, value_name = "DIR")]
+    pub figures: Option<std::path::PathBuf>,
+
     /// Virial form at each temperature.
     #[arg(long, value_enum, default_value_t = VirialArg::Auto)]
     pub virial: VirialArg,

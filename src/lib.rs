@@ -5,7 +5,8 @@
 //! [`dataset`] groups readings into series and temperatures →
 //! [`virial`] fits Mn and A2 at each temperature ([`regression`] does the least squares) →
 //! [`analysis`] runs that for every series in parallel →
-//! [`report`] turns results into the JSON report, the CSV table and the terminal table.
+//! [`report`] turns results into the JSON report, the CSV table and the terminal table, and
+//! [`plot`] draws the figures from the report.
 //! File I/O lives only in the binary's `commands` and in [`output`].
 
 pub mod analysis;
@@ -14,6 +15,7 @@ pub mod error;
 pub mod input;
 pub mod nls;
 pub mod output;
+pub mod plot;
 pub mod regression;
 pub mod report;
 pub mod simulate;

@@ -32,6 +32,14 @@ pub fn write_atomic(path: &Path, bytes: &[u8]) -> io::Result<()> {
         _ => Path::new("."),
     };
     let mut temp = tempfile::Builder::new().prefix(".thetaseek-").suffix(".part").tempfile_in(dir)?;
+    // Temporary files are private (0600); a report is an ordinary file: keep the mode of the
+    // file it replaces, or rw-r--r-- for a new one.
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::PermissionsExt;
+        let mode = std::fs::metadata(path).map(|m| m.permissions().mode() & 0o777).unwrap_or(0o644);
+        temp.as_file().set_permissions(std::fs::Permissions::from_mode(mode))?;
+    }
     temp.write_all(bytes)?;
     temp.as_file().sync_all()?;
     temp.persist(path).map_err(|e| e.error)?;

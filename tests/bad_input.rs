@@ -55,6 +55,8 @@ fn every_file_in_the_catalogue_is_refused_with_its_line_and_column_and_writes_no
             .arg(&report)
             .arg("--table")
             .arg(&table)
+            .arg("--figures")
+            .arg(out.path().join("figures"))
             .assert()
             .code(65);
         let stderr = String::from_utf8_lossy(&assert.get_output().stderr).to_string();

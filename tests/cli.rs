@@ -253,3 +253,22 @@ fn a_table_of_chi_with_volumes_in_columns_gives_psi1_directly() {
     let slope = t["stability"]["da2_dt_at_theta_mol_ml_per_g2_k"].as_f64().unwrap();
     assert!((slope - 0.81e-2 * 0.3 / 300.0).abs() < 1e-12, "{slope}");
 }
+
+#[test]
+fn figures_go_into_the_folder_named_one_svg_per_series_and_kind() {
+    let dir = tempfile::tempdir().unwrap();
+    let figures = dir.path().join("figs");
+    thetaseek()
+        .arg("analyze")
+        .arg(demo())
+        .args(["--bootstrap", "0", "-q", "--figures"])
+        .arg(&figures)
+        .assert()
+        .success();
+    let mut names: Vec<String> =
+        std::fs::read_dir(&figures).unwrap().map(|e| e.unwrap().file_name().to_string_lossy().into_owned()).collect();
+    names.sort();
+    assert_eq!(names.len(), 2 * 4 + 1, "{names:?}");
+    assert!(names.iter().all(|n| n.ends_with(".svg") && !n.starts_with('.')));
+    assert!(names.contains(&"px-40-in-mirane-reduced-pressure.svg".to_string()));
+}

@@ -7,7 +7,8 @@ use thetaseek::dataset::{Dataset, TabulatedRow};
 use thetaseek::error::Error;
 use thetaseek::input::{self, ReadOptions};
 use thetaseek::output::Destination;
-use thetaseek::report::{self, InputFile, Report, ReportSettings, SeriesReport};
+use thetaseek::plot;
+use thetaseek::report::{self, InputFile, Report, ReportSettings};
 use thetaseek::theta::{Quantity, ThetaSettings, Volumes};
 use thetaseek::units::{ConcentrationUnit, PressureUnit, TemperatureUnit};
 use thetaseek::virial::{FormChoice, VirialForm};
@@ -41,29 +42,20 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
 
     let dataset = Dataset::new(&measurements, &a2_rows, &chi_rows, &volumes);
     let results = analysis::analyze(&dataset.series, &dataset.tabulated, &settings);
-    let report = Report {
-        schema_version: report::SCHEMA_VERSION,
-        tool_version: env!("CARGO_PKG_VERSION").to_string(),
-        inputs,
-        settings: ReportSettings {
-            temperature_unit: options.temperature_unit.map(|u| u.to_string()),
-            concentration_unit: options.concentration_unit.map(|u| u.to_string()),
-            pressure_unit: options.pressure_unit.map(|u| u.to_string()),
-            solvent_density_g_per_ml: args.solvent_density,
-            confidence: args.confidence,
-            bootstrap_replicates: args.bootstrap,
-            seed: args.seed,
-            polymer_specific_volume_ml_per_g: args.polymer_specific_volume,
-            solvent_molar_volume_ml_per_mol: args.solvent_molar_volume,
-            a2_tolerance_mol_ml_per_g2: args.a2_tolerance,
-            ..ReportSettings::new(&format!("{:?}", args.virial).to_lowercase())
-        },
-        warnings: run_warnings,
-        series: results
-            .iter()
-            .map(|r| SeriesReport::new(r, dataset.series.iter().find(|s| s.name == r.name)))
-            .collect(),
+    let report_settings = ReportSettings {
+        temperature_unit: options.temperature_unit.map(|u| u.to_string()),
+        concentration_unit: options.concentration_unit.map(|u| u.to_string()),
+        pressure_unit: options.pressure_unit.map(|u| u.to_string()),
+        solvent_density_g_per_ml: args.solvent_density,
+        confidence: args.confidence,
+        bootstrap_replicates: args.bootstrap,
+        seed: args.seed,
+        polymer_specific_volume_ml_per_g: args.polymer_specific_volume,
+        solvent_molar_volume_ml_per_mol: args.solvent_molar_volume,
+        a2_tolerance_mol_ml_per_g2: args.a2_tolerance,
+        ..ReportSettings::new(&format!("{:?}", args.virial).to_lowercase())
     };
+    let report = Report::new(inputs, report_settings, run_warnings, &results, &dataset);
 
     let terminal = report::render_terminal(&report);
     if results.iter().all(|r| r.status == Status::Refused) {
@@ -80,6 +72,20 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
     if let Some(path) = &args.table {
         let bytes = report::table_csv(&report).map_err(|e| Error::Setting(format!("cannot render the table: {e}")))?;
         outputs.push(PendingOutput { destination: Destination::parse(path), bytes });
+    }
+    if let Some(dir) = &args.figures {
+        let figures = plot::figures_for_report(&report).map_err(|e| Error::Setting(e.to_string()))?;
+        std::fs::create_dir_all(dir).map_err(|source| Error::Io {
+            action: "cannot create",
+            path: dir.clone(),
+            source,
+        })?;
+        for figure in figures {
+            outputs.push(PendingOutput {
+                destination: Destination::File(dir.join(figure.file_name)),
+                bytes: figure.svg.into_bytes(),
+            });
+        }
     }
     if outputs.iter().filter(|o| o.destination == Destination::Stdout).count() > 1 {
         return Err(Error::Setting("only one of --report and --table can go to standard output ('-')".into()));

@@ -7,7 +7,7 @@ mod theta;
 
 pub use table::table_csv;
 pub use terminal::{plus_minus, render_terminal};
-pub use theta::ThetaReport;
+pub use theta::{LineReport, ThetaPointReport, ThetaReport};
 
 use crate::analysis::{SeriesResult, Status};
 use crate::units::{
@@ -320,6 +320,30 @@ impl SeriesReport {
 impl From<&SkippedTemperature> for SkippedReport {
     fn from(s: &SkippedTemperature) -> Self {
         SkippedReport { temperature_k: s.temperature_k, n_points: s.n_points, reason: s.reason.clone() }
+    }
+}
+
+impl Report {
+    /// Assembles the report of a run: `results` in order, each matched by name to its series in
+    /// `dataset` (for the readings behind each fit).
+    pub fn new(
+        inputs: Vec<InputFile>,
+        settings: ReportSettings,
+        warnings: Vec<String>,
+        results: &[SeriesResult],
+        dataset: &crate::dataset::Dataset,
+    ) -> Self {
+        Report {
+            schema_version: SCHEMA_VERSION,
+            tool_version: env!("CARGO_PKG_VERSION").to_string(),
+            inputs,
+            settings,
+            warnings,
+            series: results
+                .iter()
+                .map(|r| SeriesReport::new(r, dataset.series.iter().find(|s| s.name == r.name)))
+                .collect(),
+        }
     }
 }
 

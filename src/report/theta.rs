@@ -51,8 +51,21 @@ pub struct ThetaReport {
     pub stability: Option<StabilityReport>,
     /// The fitted line A2 = a + b/T, to redraw it.
     pub line: Option<LineReport>,
+    /// The values the across-temperature models were fitted to, in the line's units.
+    pub points: Vec<ThetaPointReport>,
     /// Warnings.
     pub warnings: Vec<String>,
+}
+
+/// One temperature's value in the across-temperature fit.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ThetaPointReport {
+    /// T, K.
+    pub temperature_k: f64,
+    /// A2 (mol mL/g²) or 1/2 − χ, as `line.quantity` says.
+    pub value: f64,
+    /// The SE that weighted it (pooled across temperatures for unweighted fits).
+    pub se: Option<f64>,
 }
 
 /// Fieller's interval.
@@ -232,6 +245,11 @@ impl ThetaReport {
                     reduced_chi2: l.reduced_chi2,
                 }
             }),
+            points: t
+                .points
+                .iter()
+                .map(|p| ThetaPointReport { temperature_k: p.temperature_k, value: p.value, se: p.se })
+                .collect(),
             warnings: t.warnings.clone(),
         }
     }

@@ -287,6 +287,8 @@ pub struct ThetaResult {
     pub line: Option<InverseTemperatureLine>,
     /// The curved fit, when it was tried.
     pub curved: Option<CurvedFit>,
+    /// The points the across-temperature models were fitted to (SEs as weighted).
+    pub points: Vec<TemperaturePoint>,
     /// Warnings.
     pub warnings: Vec<String>,
 }
@@ -317,6 +319,7 @@ impl ThetaResult {
             stability: None,
             line: None,
             curved: None,
+            points: Vec::new(),
             warnings: Vec::new(),
         }
     }
@@ -342,10 +345,12 @@ pub fn theta_from_points(
 ) -> ThetaResult {
     let confidence = settings.confidence;
     if points.len() < 2 {
-        return ThetaResult::without(
+        let mut result = ThetaResult::without(
             format!("{} usable temperature(s): at least two are needed for a temperature trend", points.len()),
             confidence,
         );
+        result.points = points.to_vec();
+        return result;
     }
     let line = match InverseTemperatureLine::fit(points) {
         Ok(line) => line,
@@ -353,6 +358,7 @@ pub fn theta_from_points(
     };
     let mut result = ThetaResult::without(String::new(), confidence);
     result.reason = None;
+    result.points = points.to_vec();
     result.line_dof = line.dof;
     result.fieller_t = line.critical(confidence);
     result.fieller = line.fieller_theta(confidence).into();

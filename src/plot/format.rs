@@ -1,0 +1,66 @@
+//! Numbers for people: tick labels with only the digits the spacing needs, and a power of ten
+//! that axis labels state instead of long decimals.
+
+/// The exponent e such that values up to `max_abs` read as 1–999 after dividing by 10^e, in
+/// steps of 3 where that keeps them readable (0 for values already in 0.01–9999).
+pub fn power_of_ten(max_abs: f64) -> i32 {
+    if !(max_abs.is_finite() && max_abs > 0.0) {
+        return 0;
+    }
+    let e = max_abs.log10().floor() as i32;
+    if (-2..4).contains(&e) {
+        0
+    } else {
+        e
+    }
+}
+
+/// 10^e written with superscript digits, e.g. "10⁻⁴".
+pub fn superscript(e: i32) -> String {
+    let digits: String = e
+        .to_string()
+        .chars()
+        .map(|c| match c {
+            '-' => '⁻',
+            '0' => '⁰',
+            '1' => '¹',
+            '2' => '²',
+            '3' => '³',
+            '4' => '⁴',
+            '5' => '⁵',
+            '6' => '⁶',
+            '7' => '⁷',
+            '8' => '⁸',
+            _ => '⁹',
+        })
+        .collect();
+    format!("10{digits}")
+}
+
+/// A tick label for `value` on an axis spanning `span`: as many decimals as ~5 ticks need.
+pub fn tick(value: f64, span: f64) -> String {
+    let step = span.abs() / 5.0;
+    let decimals = if step > 0.0 && step.is_finite() { (-step.log10().floor()).max(0.0) as usize } else { 0 };
+    let text = format!("{value:.decimals$}");
+    // "-0" and "-0.00" read as zero.
+    if text.trim_start_matches('-').chars().all(|c| c == '0' || c == '.') {
+        text.trim_start_matches('-').to_string()
+    } else {
+        text
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn ticks_and_powers_are_short() {
+        assert_eq!(power_of_ten(1.4e-4), -4);
+        assert_eq!(power_of_ten(305.0), 0);
+        assert_eq!(superscript(-4), "10⁻⁴");
+        assert_eq!(tick(0.30000000000000004, 1.0), "0.3");
+        assert_eq!(tick(-0.0001, 1.0), "0.0");
+        assert_eq!(tick(305.0, 40.0), "305");
+    }
+}

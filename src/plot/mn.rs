@@ -1,0 +1,73 @@
+//! Mn at each temperature with the weighted mean and its ±1 SE band: the consistency check
+//! (a drift hints at association near θ or at membrane leakage).
+
+use super::format::tick;
+use super::{marker_element, series_colour, series_marker, FigureError, GREY, INK};
+use crate::report::SeriesReport;
+use plotters::coord::Shift;
+use plotters::prelude::*;
+
+/// The Mn(T) figure of one series.
+pub fn draw_mn(root: &DrawingArea<SVGBackend, Shift>, s: &SeriesReport, index: usize) -> Result<(), FigureError> {
+    let pts: Vec<(f64, f64, f64)> =
+        s.fits.iter().map(|f| (f.temperature_k, f.mn_g_per_mol / 1e3, f.mn_se_g_per_mol / 1e3)).collect();
+    let consistency = s.theta.as_ref().and_then(|t| t.mn_consistency.as_ref());
+    let (t_lo, t_hi) = pts.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), p| (a.min(p.0), b.max(p.0)));
+    let x_pad = ((t_hi - t_lo) * 0.08).max(2.0);
+    let (x_lo, x_hi) = (t_lo - x_pad, t_hi + x_pad);
+    let (y_min, y_max) =
+        pts.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), p| (a.min(p.1 - p.2), b.max(p.1 + p.2)));
+    let y_pad = ((y_max - y_min) * 0.25).max(y_max.abs() * 0.005).max(1e-9);
+    let (y_lo, y_hi) = (y_min - y_pad, y_max + y_pad * 1.6);
+    let mut chart = ChartBuilder::on(root)
+        .caption(format!("Mn at each temperature: {}", s.name), ("sans-serif", 22).into_font().color(&INK))
+        .margin(16)
+        .x_label_area_size(48)
+        .y_label_area_size(80)
+        .build_cartesian_2d(x_lo..x_hi, y_lo..y_hi)?;
+    chart
+        .configure_mesh()
+        .light_line_style(WHITE.mix(0.0))
+        .bold_line_style(INK.mix(0.08))
+        .x_desc("T (K)")
+        .y_desc("Mn (kg/mol)")
+        .x_label_formatter(&|v| tick(*v, x_hi - x_lo))
+        .y_label_formatter(&|v| tick(*v, y_hi - y_lo))
+        .axis_desc_style(("sans-serif", 16).into_font().color(&INK))
+        .label_style(("sans-serif", 13).into_font().color(&INK))
+        .draw()?;
+    if let Some(m) = consistency {
+        let (mean, se) = (m.mean_mn_g_per_mol / 1e3, m.mean_mn_se_g_per_mol / 1e3);
+        chart
+            .draw_series(std::iter::once(Rectangle::new(
+                [(x_lo, mean - se), (x_hi, mean + se)],
+                GREY.mix(0.18).filled(),
+            )))?
+            .label(format!(
+                "weighted mean {mean:.1} ± {se:.1} kg/mol; χ² = {:.1} on {} dof, p = {:.2}{}",
+                m.chi2,
+                m.dof,
+                m.p_value,
+                if m.drift { " (drift)" } else { "" }
+            ))
+            .legend(|(x, y)| Rectangle::new([(x, y - 5), (x + 18, y + 5)], GREY.mix(0.3).filled()));
+        chart.draw_series(std::iter::once(PathElement::new(vec![(x_lo, mean), (x_hi, mean)], INK.stroke_width(1))))?;
+    }
+    let colour = series_colour(index);
+    let marker = series_marker(index);
+    chart.draw_series(
+        pts.iter().map(|(t, m, se)| ErrorBar::new_vertical(*t, m - se, *m, m + se, colour.stroke_width(1), 8)),
+    )?;
+    chart
+        .draw_series(pts.iter().map(|(t, m, _)| marker_element(marker, (*t, *m), 5, colour)))?
+        .label("Mn ± 1 SE at each temperature")
+        .legend(move |(x, y)| marker_element(marker, (x + 9, y), 5, colour));
+    chart
+        .configure_series_labels()
+        .position(SeriesLabelPosition::UpperLeft)
+        .background_style(WHITE.mix(0.85))
+        .border_style(INK.mix(0.3))
+        .label_font(("sans-serif", 13).into_font().color(&INK))
+        .draw()?;
+    Ok(())
+}

@@ -1,0 +1,206 @@
+//! Figures for a report, drawn with plotters onto a drawing area they are given; nothing here
+//! opens a path. [`figures_for_report`] renders every figure of a report to SVG strings.
+//!
+//! Colours are the Okabe–Ito colour-blind-safe set (Okabe & Ito 2008, "Color Universal
+//! Design"); series are also told apart by marker shape, and extrapolated lines are dashed.
+
+mod a2_temperature;
+mod format;
+mod mn;
+mod panels;
+
+pub use a2_temperature::{draw_a2_overlay, draw_a2_temperature};
+pub use format::{power_of_ten, superscript, tick};
+pub use mn::draw_mn;
+pub use panels::{draw_reduced_pressure, draw_residuals};
+
+use crate::report::{Report, SeriesReport};
+use plotters::element::{Drawable, PointCollection};
+use plotters::prelude::*;
+use plotters_backend::DrawingErrorKind;
+
+/// A figure that could not be drawn.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+#[error("figure: {0}")]
+pub struct FigureError(pub String);
+
+impl<E: std::error::Error + Send + Sync> From<DrawingAreaErrorKind<E>> for FigureError {
+    fn from(e: DrawingAreaErrorKind<E>) -> Self {
+        FigureError(e.to_string())
+    }
+}
+
+/// Okabe–Ito: blue, vermillion, bluish green, reddish purple, orange, sky blue, yellow.
+pub const PALETTE: [RGBColor; 7] = [
+    RGBColor(0, 114, 178),
+    RGBColor(213, 94, 0),
+    RGBColor(0, 158, 115),
+    RGBColor(204, 121, 167),
+    RGBColor(230, 159, 0),
+    RGBColor(86, 180, 233),
+    RGBColor(240, 228, 66),
+];
+
+/// Text and axes.
+pub const INK: RGBColor = RGBColor(40, 40, 40);
+/// Neutral grey for "near θ" and bands.
+pub const GREY: RGBColor = RGBColor(120, 120, 120);
+
+/// Colour of the i-th series.
+pub fn series_colour(i: usize) -> RGBColor {
+    PALETTE[i % PALETTE.len()]
+}
+
+/// Marker shapes, in the order series get them.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Marker {
+    /// Filled circle.
+    Circle,
+    /// Filled triangle.
+    Triangle,
+    /// Filled square.
+    Square,
+    /// Diagonal cross.
+    Cross,
+}
+
+/// Marker of the i-th series.
+pub fn series_marker(i: usize) -> Marker {
+    [Marker::Circle, Marker::Triangle, Marker::Square, Marker::Cross][i % 4]
+}
+
+/// One marker at a point of a chart: a plotters element of its own, so that every shape has
+/// one type and can be drawn on any backend.
+#[derive(Debug, Clone)]
+pub struct MarkerElement<C> {
+    at: C,
+    marker: Marker,
+    size: i32,
+    colour: RGBColor,
+}
+
+/// A marker of `size` px (half-width) at `at`.
+pub fn marker_element<C>(marker: Marker, at: C, size: i32, colour: RGBColor) -> MarkerElement<C> {
+    MarkerElement { at, marker, size, colour }
+}
+
+impl<'a, C: 'a> PointCollection<'a, C> for &'a MarkerElement<C> {
+    type Point = &'a C;
+    type IntoIter = std::iter::Once<&'a C>;
+    fn point_iter(self) -> Self::IntoIter {
+        std::iter::once(&self.at)
+    }
+}
+
+impl<C, DB: DrawingBackend> Drawable<DB> for MarkerElement<C> {
+    fn draw<I: Iterator<Item = (i32, i32)>>(
+        &self,
+        mut points: I,
+        backend: &mut DB,
+        _: (u32, u32),
+    ) -> Result<(), DrawingErrorKind<DB::ErrorType>> {
+        let Some((x, y)) = points.next() else { return Ok(()) };
+        let s = self.size;
+        let fill = self.colour.filled();
+        match self.marker {
+            Marker::Circle => backend.draw_circle((x, y), s as u32, &fill, true),
+            Marker::Triangle => backend.fill_polygon([(x, y - s - 1), (x + s + 1, y + s), (x - s - 1, y + s)], &fill),
+            Marker::Square => backend.draw_rect((x - s, y - s), (x + s, y + s), &fill, true),
+            Marker::Cross => {
+                let line = self.colour.stroke_width(2);
+                backend.draw_line((x - s, y - s), (x + s, y + s), &line)?;
+                backend.draw_line((x - s, y + s), (x + s, y - s), &line)
+            }
+        }
+    }
+}
+
+/// Renders `draw` into an SVG document of `width`×`height` px.
+pub fn render_svg(
+    width: u32,
+    height: u32,
+    draw: impl FnOnce(&DrawingArea<SVGBackend, plotters::coord::Shift>) -> Result<(), FigureError>,
+) -> Result<String, FigureError> {
+    let mut svg = String::new();
+    {
+        let root = SVGBackend::with_string(&mut svg, (width, height)).into_drawing_area();
+        root.fill(&WHITE)?;
+        draw(&root)?;
+        root.present()?;
+    }
+    Ok(svg)
+}
+
+/// A file-name-safe form of a series name: lower case, runs of other characters as `-`.
+pub fn slug(name: &str) -> String {
+    let mut out = String::new();
+    for ch in name.chars().flat_map(char::to_lowercase) {
+        if ch.is_ascii_alphanumeric() {
+            out.push(ch);
+        } else if !out.ends_with('-') && !out.is_empty() {
+            out.push('-');
+        }
+    }
+    let out = out.trim_end_matches('-').to_string();
+    if out.is_empty() {
+        "series".into()
+    } else {
+        out
+    }
+}
+
+/// One rendered figure and the file name it should have.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Figure {
+    /// File name (no folder).
+    pub file_name: String,
+    /// The SVG document.
+    pub svg: String,
+}
+
+/// Every figure of a report: per series A2(T), reduced-pressure panels, Mn(T) and residuals
+/// (the last three for osmometry series), plus an overlay of all series when there are several.
+pub fn figures_for_report(report: &Report) -> Result<Vec<Figure>, FigureError> {
+    let mut figures = Vec::new();
+    let mut used: Vec<String> = Vec::new();
+    let analysed: Vec<(usize, &SeriesReport)> =
+        report.series.iter().enumerate().filter(|(_, s)| s.theta.is_some() || !s.fits.is_empty()).collect();
+    for (i, s) in &analysed {
+        let mut base = slug(&s.name);
+        if used.contains(&base) {
+            base = format!("{base}-{}", i + 1);
+        }
+        used.push(base.clone());
+        let mut push = |kind: &str, svg: String| figures.push(Figure { file_name: format!("{base}-{kind}.svg"), svg });
+        if s.theta.as_ref().is_some_and(|t| !t.points.is_empty()) {
+            push("a2-temperature", render_svg(900, 600, |root| draw_a2_temperature(root, s, *i))?);
+        }
+        if !s.fits.is_empty() {
+            let h = panels::panel_height(s.fits.len());
+            push("reduced-pressure", render_svg(900, h, |root| draw_reduced_pressure(root, s))?);
+            push("mn-temperature", render_svg(900, 500, |root| draw_mn(root, s, *i))?);
+            push("residuals", render_svg(900, h, |root| draw_residuals(root, s))?);
+        }
+    }
+    let overlay: Vec<(usize, &SeriesReport)> =
+        analysed.into_iter().filter(|(_, s)| s.theta.as_ref().is_some_and(|t| !t.points.is_empty())).collect();
+    if overlay.len() > 1 {
+        figures.push(Figure {
+            file_name: "all-series-a2-temperature.svg".into(),
+            svg: render_svg(900, 600, |root| draw_a2_overlay(root, &overlay))?,
+        });
+    }
+    Ok(figures)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::slug;
+
+    #[test]
+    fn slugs_are_safe_file_names() {
+        assert_eq!(slug("PX-40 in mirane"), "px-40-in-mirane");
+        assert_eq!(slug("<script>/../x"), "script-x");
+        assert_eq!(slug("∅"), "series");
+    }
+}

@@ -1,0 +1,143 @@
+//! Figures rendered to strings and parsed as XML: panels, axis labels with units, the θ marker,
+//! finite coordinates, escaped text; and the edge cases a lab file produces.
+
+use rand::SeedableRng;
+use rand_chacha::ChaCha8Rng;
+use thetaseek::analysis::{analyze, Settings};
+use thetaseek::dataset::{Dataset, Measurement, Origin};
+use thetaseek::plot::figures_for_report;
+use thetaseek::report::{Report, ReportSettings};
+use thetaseek::simulate::{simulate, Noise, VirialTruth};
+use thetaseek::thermo::flory_krigbaum_a2;
+use thetaseek::theta::ThetaSettings;
+
+fn readings(name: &str, temps: &[f64], theta: f64, concentrations: &[f64], rng: &mut ChaCha8Rng) -> Vec<Measurement> {
+    let mut rows = Vec::new();
+    for &t in temps {
+        let truth =
+            VirialTruth::with_good_solvent_curvature(t, 150.0, flory_krigbaum_a2(t, theta, 0.4, 0.9e-3, 100e-6));
+        for (c, p, _) in simulate(&truth, concentrations, Noise { absolute_pa: 0.3, relative: 0.003 }, rng) {
+            rows.push(Measurement {
+                series: name.into(),
+                temperature_k: t,
+                concentration_kg_per_m3: c,
+                pressure_pa: p,
+                pressure_sd_pa: None,
+                origin: Origin { file: 0, line: 2 },
+            });
+        }
+    }
+    rows
+}
+
+const C: [f64; 5] = [2.0, 4.0, 6.0, 8.0, 10.0];
+
+fn report_of(rows: &[Measurement]) -> Report {
+    let dataset = Dataset::new(rows, &[], &[], &[]);
+    let settings = Settings {
+        theta: ThetaSettings { bootstrap_replicates: 0, ..ThetaSettings::default() },
+        ..Settings::default()
+    };
+    let results = analyze(&dataset.series, &dataset.tabulated, &settings);
+    Report::new(Vec::new(), ReportSettings::new("auto"), Vec::new(), &results, &dataset)
+}
+
+/// Every text of an SVG document, after checking it parses and has only finite coordinates.
+fn texts(svg: &str) -> Vec<String> {
+    let doc = roxmltree::Document::parse(svg).expect("the SVG is well-formed XML");
+    for node in doc.descendants() {
+        for attr in node.attributes() {
+            let v = attr.value();
+            assert!(!v.contains("NaN") && !v.contains("inf"), "non-finite coordinate in {}=\"{v}\"", attr.name());
+        }
+    }
+    doc.descendants().filter(|n| n.has_tag_name("text")).map(|n| n.text().unwrap_or("").trim().to_string()).collect()
+}
+
+fn figure<'a>(figures: &'a [thetaseek::plot::Figure], name: &str) -> &'a str {
+    &figures.iter().find(|f| f.file_name == name).unwrap_or_else(|| panic!("no {name}")).svg
+}
+
+#[test]
+fn a_two_series_report_gives_every_figure_with_units_panels_and_theta() {
+    let mut rng = ChaCha8Rng::seed_from_u64(1);
+    let temps = [293.15, 298.15, 303.15, 308.15, 313.15, 318.15];
+    let mut rows = readings("Resin A in solvent 1", &temps, 305.0, &C, &mut rng);
+    rows.extend(readings("Resin A in solvent 2", &temps, 298.0, &C, &mut rng));
+    let figures = figures_for_report(&report_of(&rows)).unwrap();
+    let names: Vec<&str> = figures.iter().map(|f| f.file_name.as_str()).collect();
+    for kind in ["a2-temperature", "reduced-pressure", "mn-temperature", "residuals"] {
+        assert!(names.contains(&format!("resin-a-in-solvent-1-{kind}.svg").as_str()), "{names:?}");
+    }
+    assert!(names.contains(&"all-series-a2-temperature.svg"));
+
+    let a2 = texts(figure(&figures, "resin-a-in-solvent-1-a2-temperature.svg"));
+    for label in ["T (K)", "t (°C)", "A2 (10⁻⁴ mol mL/g²)", "θ"] {
+        assert!(a2.iter().any(|t| t == label), "missing '{label}' in {a2:?}");
+    }
+    assert!(a2.iter().any(|t| t.starts_with("θ = ") && t.contains(" K (")), "θ legend in {a2:?}");
+
+    let panels = texts(figure(&figures, "resin-a-in-solvent-1-reduced-pressure.svg"));
+    assert_eq!(panels.iter().filter(|t| t.contains(" K) · ") && t.contains("A2 = ")).count(), temps.len());
+    assert!(panels.iter().any(|t| t == "c (g/L)"));
+    assert!(panels.iter().any(|t| t.starts_with("Π/(cRT) (10") && t.ends_with("mol/g)")), "{panels:?}");
+    // Panels run in temperature order, top to bottom.
+    let order: Vec<&String> = panels.iter().filter(|t| t.contains(" K) · ")).collect();
+    assert!(order[0].starts_with("20.0 °C") && order[5].starts_with("45.0 °C"), "{order:?}");
+    // Solvent quality is named, so the sign of the slope is read, not guessed.
+    assert!(order[0].contains("poor solvent") && order[5].contains("good solvent"));
+
+    let residuals = texts(figure(&figures, "resin-a-in-solvent-1-residuals.svg"));
+    assert_eq!(residuals.iter().filter(|t| t.contains(" K) · ") && t.contains("dof")).count(), temps.len());
+    let mn = texts(figure(&figures, "resin-a-in-solvent-1-mn-temperature.svg"));
+    assert!(mn.iter().any(|t| t == "Mn (kg/mol)") && mn.iter().any(|t| t.starts_with("weighted mean")));
+}
+
+#[test]
+fn an_extrapolated_theta_is_drawn_inside_the_chart() {
+    let mut rng = ChaCha8Rng::seed_from_u64(2);
+    let rows = readings("far", &[310.0, 316.0, 322.0, 328.0, 334.0], 300.0, &C, &mut rng);
+    let figures = figures_for_report(&report_of(&rows)).unwrap();
+    let a2 = texts(figure(&figures, "far-a2-temperature.svg"));
+    assert!(a2.iter().any(|t| t.starts_with("θ = ") && t.contains("extrapolated")), "{a2:?}");
+}
+
+#[test]
+fn a_series_without_theta_and_one_with_a_refused_temperature_still_draw() {
+    let mut rng = ChaCha8Rng::seed_from_u64(3);
+    // A single temperature: no θ, but its fit figures exist.
+    let mut rows = readings("single", &[300.0], 305.0, &C, &mut rng);
+    // A temperature with two concentrations only is refused; the rest is drawn.
+    rows.extend(readings("gappy", &[295.0, 305.0, 315.0], 305.0, &C, &mut rng));
+    rows.extend(readings("gappy", &[325.0], 305.0, &C[..2], &mut rng));
+    // No trend at all: flat A2.
+    for t in [290.0, 300.0, 310.0, 320.0] {
+        let truth = VirialTruth { temperature_k: t, mn_kg_per_mol: 150.0, a2: 1e-4, a3: 0.0 };
+        for (c, p, _) in simulate(&truth, &C, Noise { absolute_pa: 0.3, relative: 0.003 }, &mut rng) {
+            rows.push(Measurement {
+                series: "flat <b>&</b>".into(),
+                temperature_k: t,
+                concentration_kg_per_m3: c,
+                pressure_pa: p,
+                pressure_sd_pa: None,
+                origin: Origin { file: 0, line: 2 },
+            });
+        }
+    }
+    let report = report_of(&rows);
+    let figures = figures_for_report(&report).unwrap();
+    for f in &figures {
+        texts(&f.svg);
+    }
+    let names: Vec<&str> = figures.iter().map(|f| f.file_name.as_str()).collect();
+    assert!(
+        names.contains(&"single-reduced-pressure.svg") && names.contains(&"single-a2-temperature.svg"),
+        "{names:?}"
+    );
+    let gappy = texts(figure(&figures, "gappy-reduced-pressure.svg"));
+    assert_eq!(gappy.iter().filter(|t| t.contains(" K) · ")).count(), 3);
+    // The hostile name is text in the SVG, not markup.
+    let flat = texts(figure(&figures, "flat-b-b-a2-temperature.svg"));
+    assert!(flat.iter().any(|t| t.contains("flat <b>&</b>")), "{flat:?}");
+    assert!(!flat.iter().any(|t| t.starts_with("θ = ")));
+}
