@@ -51,6 +51,10 @@ fn texts(svg: &str) -> Vec<String> {
             assert!(!v.contains("NaN") && !v.contains("inf"), "non-finite coordinate in {}=\"{v}\"", attr.name());
         }
     }
+    // Text stays text in the generic sans-serif family: it renders with no font files, in any browser.
+    for n in doc.descendants().filter(|n| n.has_tag_name("text")) {
+        assert_eq!(n.attribute("font-family"), Some("sans-serif"), "{:?}", n.text());
+    }
     doc.descendants().filter(|n| n.has_tag_name("text")).map(|n| n.text().unwrap_or("").trim().to_string()).collect()
 }
 
