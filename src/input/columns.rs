@@ -29,6 +29,16 @@ pub enum Role {
     SpecificVolume,
     /// Molar volume of the solvent V1.
     MolarVolume,
+    /// Solvent name.
+    Solvent,
+    /// Normal boiling point of a solvent.
+    BoilingPoint,
+    /// Melting point of a solvent.
+    MeltingPoint,
+    /// Refractive index of a solvent.
+    RefractiveIndex,
+    /// Free-text notes.
+    Notes,
 }
 
 impl Role {
@@ -48,12 +58,17 @@ impl Role {
             Role::ChiSd => "chi sd",
             Role::SpecificVolume => "polymer specific volume",
             Role::MolarVolume => "solvent molar volume",
+            Role::Solvent => "solvent",
+            Role::BoilingPoint => "boiling point",
+            Role::MeltingPoint => "melting point",
+            Role::RefractiveIndex => "refractive index",
+            Role::Notes => "notes",
         }
     }
 
     /// Whether the column carries a physical unit.
     pub fn has_unit(self) -> bool {
-        !matches!(self, Role::Series | Role::Chi | Role::ChiSd)
+        !matches!(self, Role::Series | Role::Chi | Role::ChiSd | Role::Solvent | Role::RefractiveIndex | Role::Notes)
     }
 
     fn from_name(name: &str) -> Option<Role> {
@@ -64,7 +79,12 @@ impl Role {
             "pressure" | "osmotic pressure" => Role::Pressure,
             "pressure sd" | "osmotic pressure sd" => Role::PressureSd,
             "head" => Role::Head,
-            "solvent density" => Role::SolventDensity,
+            "solvent density" | "density" => Role::SolventDensity,
+            "solvent" => Role::Solvent,
+            "boiling point" | "bp" => Role::BoilingPoint,
+            "melting point" | "mp" => Role::MeltingPoint,
+            "refractive index" | "n" => Role::RefractiveIndex,
+            "notes" | "note" => Role::Notes,
             "a2" | "second virial coefficient" => Role::A2,
             "a2 sd" | "second virial coefficient sd" => Role::A2Sd,
             "chi" | "χ" => Role::Chi,
@@ -121,6 +141,6 @@ mod tests {
         assert_eq!((c.name.as_str(), c.unit.as_deref(), c.role), ("pressure sd", Some("kPa"), Some(Role::PressureSd)));
         let c = parse_header_cell("Sample");
         assert_eq!((c.unit, c.role), (None, Some(Role::Series)));
-        assert_eq!(parse_header_cell("notes").role, None);
+        assert_eq!(parse_header_cell("operator").role, None);
     }
 }

@@ -49,6 +49,8 @@ pub struct FileContents {
     pub quantity: Option<Quantity>,
     /// v̄ and V1 per series, where the file gives them.
     pub volumes: Vec<(String, Volumes)>,
+    /// The solvent of each series, where a `solvent` column names it.
+    pub solvents: Vec<(String, String)>,
     /// Header cells that were not recognised and so were not used.
     pub ignored_columns: Vec<String>,
 }
@@ -61,33 +63,7 @@ pub fn read_file(
     bytes: &[u8],
     options: &ReadOptions,
 ) -> Result<FileContents, InputError> {
-    check_utf8(name, bytes)?;
-    let layout =
-        scan(bytes).ok_or_else(|| InputError::file(name, "the file is empty: expected a header line and data rows"))?;
-    let cells: Vec<HeaderCell> = layout.header.iter().map(|h| parse_header_cell(h)).collect();
-    let roles = locate_roles(name, layout.header_line, &cells)?;
-    check_structure(name, &layout)?;
-    let frame = parse_with_polars(name, bytes)?;
-    if frame.height() != layout.records.len() {
-        return Err(InputError::file(
-            name,
-            format!(
-                "the CSV reader found {} rows where {} were expected; check the quoting",
-                frame.height(),
-                layout.records.len()
-            ),
-        ));
-    }
-    let columns = frame
-        .columns()
-        .iter()
-        .map(|c| c.as_materialized_series().str().cloned())
-        .collect::<Result<Vec<_>, _>>()
-        .map_err(|e| InputError::file(name, format!("a column could not be read as text: {e}")))?;
-    let table = Table { name, file_index, cells: &cells, layout: &layout, columns, roles };
-    if table.layout.records.iter().all(|r| r.blank) {
-        return Err(InputError::at(name, layout.header_line, None, None, "the header has no data rows under it"));
-    }
+    let table = Table::parse(name, file_index, bytes)?;
     let mut contents = if table.has(Role::Pressure) || table.has(Role::Head) {
         read_osmometry(&table, options)?
     } else if table.has(Role::A2) || table.has(Role::Chi) {
@@ -95,15 +71,118 @@ pub fn read_file(
     } else {
         return Err(InputError::at(
             name,
-            layout.header_line,
+            table.layout.header_line,
             Some("pressure"),
             None,
             "there is no such column; the header needs temperature, concentration and pressure (or head), each with its unit, e.g. 'temperature (C),concentration (g/mL),pressure (Pa)' — or temperature and 'a2 (mol mL/g2)' or 'chi'",
         ));
     };
     contents.volumes = table.volumes()?;
-    contents.ignored_columns = cells.iter().filter(|c| c.role.is_none()).map(|c| c.raw.clone()).collect();
+    contents.solvents = table.solvents()?;
+    contents.ignored_columns = table.cells.iter().filter(|c| c.role.is_none()).map(|c| c.raw.clone()).collect();
     Ok(contents)
+}
+
+/// Properties of one solvent, from a solvents table (SI: K, m³/mol, kg/m³).
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct SolventProperties {
+    /// Name, as used in the data's `solvent` (or `series`) column.
+    pub name: String,
+    /// Normal boiling point, K.
+    pub boiling_point_k: Option<f64>,
+    /// Melting point, K.
+    pub melting_point_k: Option<f64>,
+    /// Molar volume V1, m³/mol.
+    pub molar_volume: Option<f64>,
+    /// Density, kg/m³.
+    pub density: Option<f64>,
+    /// Refractive index n_D.
+    pub refractive_index: Option<f64>,
+    /// Free text (hazards, supplier, ...).
+    pub notes: Option<String>,
+    /// Line in the solvents table.
+    pub line: usize,
+}
+
+/// Reads a solvents table: `solvent` (required), `boiling point`, `melting point` (C or K),
+/// `molar volume` (mL/mol), `density` (g/mL), `refractive index`, `notes`; empty cells are
+/// missing properties.
+pub fn read_solvents(name: &str, bytes: &[u8]) -> Result<Vec<SolventProperties>, InputError> {
+    let table = Table::parse(name, 0, bytes)?;
+    let solvent = table.require(Role::Solvent)?;
+    let temperature = |role: Role| -> Result<Option<(usize, TemperatureUnit)>, InputError> {
+        table.column(role).map(|c| table.unit(c, None, "").map(|u| (c, u))).transpose()
+    };
+    let (bp, mp) = (temperature(Role::BoilingPoint)?, temperature(Role::MeltingPoint)?);
+    let v1 = table
+        .column(Role::MolarVolume)
+        .map(|c| table.unit::<MolarVolumeUnit>(c, None, "").map(|u| (c, u)))
+        .transpose()?;
+    let rho = table
+        .column(Role::SolventDensity)
+        .map(|c| table.unit::<DensityUnit>(c, None, "").map(|u| (c, u)))
+        .transpose()?;
+    let mut out: Vec<SolventProperties> = Vec::new();
+    for row in table.rows() {
+        let present = |col: Option<usize>| -> Option<usize> { col.filter(|c| !table.text(*c, row).is_empty()) };
+        let solvent_name = table.text(solvent, row).to_string();
+        if solvent_name.is_empty() {
+            return Err(InputError::at(
+                name,
+                table.line(row),
+                Some(&table.cells[solvent].raw),
+                None,
+                "the solvent name is empty",
+            ));
+        }
+        if out.iter().any(|s| s.name == solvent_name) {
+            return Err(table.refuse(solvent, row, "this solvent is listed twice; keep one row per solvent"));
+        }
+        let temp_k = |spec: Option<(usize, TemperatureUnit)>| -> Result<Option<f64>, InputError> {
+            match spec {
+                Some((c, u)) if present(Some(c)).is_some() => Ok(Some(table.checked(
+                    c,
+                    row,
+                    |x| u.to_kelvin(x),
+                    false,
+                    "a temperature must lie above absolute zero (0 K)",
+                )?)),
+                _ => Ok(None),
+            }
+        };
+        let positive = |spec: Option<(usize, f64)>, what: &str| -> Result<Option<f64>, InputError> {
+            match spec {
+                Some((c, factor)) if present(Some(c)).is_some() => {
+                    Ok(Some(table.checked(c, row, |x| x * factor, false, what)?))
+                }
+                _ => Ok(None),
+            }
+        };
+        let properties = SolventProperties {
+            name: solvent_name,
+            boiling_point_k: temp_k(bp)?,
+            melting_point_k: temp_k(mp)?,
+            molar_volume: positive(v1.map(|(c, u)| (c, u.to_si(1.0))), "a molar volume must be greater than zero")?,
+            density: positive(rho.map(|(c, u)| (c, u.to_si(1.0))), "a density must be greater than zero")?,
+            refractive_index: positive(
+                table.column(Role::RefractiveIndex).map(|c| (c, 1.0)),
+                "a refractive index must be greater than zero",
+            )?,
+            notes: present(table.column(Role::Notes)).map(|c| table.text(c, row).to_string()),
+            line: table.line(row),
+        };
+        if let (Some(b), Some(m)) = (properties.boiling_point_k, properties.melting_point_k) {
+            if m >= b {
+                return Err(table.refuse(
+                    bp.map_or(solvent, |x| x.0),
+                    row,
+                    "the melting point must lie below the boiling point",
+                ));
+            }
+        }
+        out.push(properties);
+    }
+    Ok(out)
 }
 
 /// The series name used when a file has no `series` column: the file name without folders
@@ -197,13 +276,44 @@ fn locate_roles(file: &str, header_line: usize, cells: &[HeaderCell]) -> Result<
 struct Table<'a> {
     name: &'a str,
     file_index: usize,
-    cells: &'a [HeaderCell],
-    layout: &'a Layout,
+    cells: Vec<HeaderCell>,
+    layout: Layout,
     columns: Vec<StringChunked>,
     roles: HashMap<Role, usize>,
 }
 
-impl Table<'_> {
+impl<'a> Table<'a> {
+    /// Scans, checks and parses a CSV: header roles, ragged rows, UTF-8, at least one data row.
+    fn parse(name: &'a str, file_index: usize, bytes: &[u8]) -> Result<Self, InputError> {
+        check_utf8(name, bytes)?;
+        let layout = scan(bytes)
+            .ok_or_else(|| InputError::file(name, "the file is empty: expected a header line and data rows"))?;
+        let cells: Vec<HeaderCell> = layout.header.iter().map(|h| parse_header_cell(h)).collect();
+        let roles = locate_roles(name, layout.header_line, &cells)?;
+        check_structure(name, &layout)?;
+        if layout.records.iter().all(|r| r.blank) {
+            return Err(InputError::at(name, layout.header_line, None, None, "the header has no data rows under it"));
+        }
+        let frame = parse_with_polars(name, bytes)?;
+        if frame.height() != layout.records.len() {
+            return Err(InputError::file(
+                name,
+                format!(
+                    "the CSV reader found {} rows where {} were expected; check the quoting",
+                    frame.height(),
+                    layout.records.len()
+                ),
+            ));
+        }
+        let columns = frame
+            .columns()
+            .iter()
+            .map(|c| c.as_materialized_series().str().cloned())
+            .collect::<Result<Vec<_>, _>>()
+            .map_err(|e| InputError::file(name, format!("a column could not be read as text: {e}")))?;
+        Ok(Table { name, file_index, cells, layout, columns, roles })
+    }
+
     fn has(&self, role: Role) -> bool {
         self.roles.contains_key(&role)
     }
@@ -338,7 +448,11 @@ impl Table<'_> {
                 }
                 Ok(s.to_string())
             }
-            None => Ok(file_stem(self.name)),
+            // A file of one polymer in several solvents may name only the solvent.
+            None => match self.column(Role::Solvent) {
+                Some(col) if !self.text(col, row).is_empty() => Ok(self.text(col, row).to_string()),
+                _ => Ok(file_stem(self.name)),
+            },
         }
     }
 
@@ -352,6 +466,33 @@ impl Table<'_> {
                 return Err(self.refuse(col, row, "a temperature must lie above absolute zero (0 K)"));
             }
             out[row] = t;
+        }
+        Ok(out)
+    }
+
+    /// The solvent of each series from a `solvent` column (one solvent per series).
+    fn solvents(&self) -> Result<Vec<(String, String)>, InputError> {
+        let Some(col) = self.column(Role::Solvent) else { return Ok(Vec::new()) };
+        let mut out: Vec<(String, String)> = Vec::new();
+        for row in self.rows() {
+            let series = self.series(row)?;
+            let solvent = self.text(col, row).to_string();
+            if solvent.is_empty() {
+                return Err(InputError::at(
+                    self.name,
+                    self.line(row),
+                    Some(&self.cells[col].raw),
+                    None,
+                    "the solvent name is empty",
+                ));
+            }
+            match out.iter().find(|(s, _)| *s == series) {
+                Some((_, first)) if *first != solvent => {
+                    return Err(self.refuse(col, row, "a series must keep one solvent on every row"));
+                }
+                Some(_) => {}
+                None => out.push((series, solvent)),
+            }
         }
         Ok(out)
     }
