@@ -13,8 +13,106 @@ pub struct Cli {
 
 #[derive(Debug, Subcommand)]
 pub enum Command {
-    /// Fit Mn and A2 at every temperature of every series in the CSV file(s).
+    /// Fit Mn and A2 at every temperature of every series in the CSV file(s), then θ.
     Analyze(AnalyzeArgs),
+    /// Choose the solvent and temperature for a chain-dimension study.
+    Plan(PlanArgs),
+}
+
+/// What the study needs.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum GoalArg {
+    /// Unperturbed chains: measure at θ.
+    Unperturbed,
+    /// A chosen solvent quality: give --target-a2 or --target-expansion.
+    Expanded,
+}
+
+#[derive(Debug, Args)]
+pub struct PlanArgs {
+    /// Data files (as for analyze; one series per solvent) or JSON reports written by analyze.
+    #[arg(required = true, value_name = "DATA_OR_REPORT")]
+    pub inputs: Vec<PathBuf>,
+
+    /// CSV of solvent properties: solvent, boiling point (C), melting point (C), and optionally
+    /// molar volume (mL/mol), density (g/mL), refractive index, notes.
+    #[arg(long, value_name = "FILE")]
+    pub solvents: PathBuf,
+
+    /// Molar mass of the sample to be studied, g/mol.
+    #[arg(long, value_name = "G_PER_MOL", value_parser = parse_positive)]
+    pub molar_mass: f64,
+
+    /// Partial specific volume of the polymer v̄, mL/g.
+    #[arg(long, value_name = "ML_PER_G", value_parser = parse_positive)]
+    pub polymer_specific_volume: Option<f64>,
+
+    /// Unperturbed chains (T = θ) or a chosen solvent quality.
+    #[arg(long, value_enum, default_value_t = GoalArg::Unperturbed)]
+    pub goal: GoalArg,
+
+    /// With --goal expanded: the A2 to reach, mol mL/g².
+    #[arg(long, value_name = "MOL_ML_PER_G2")]
+    pub target_a2: Option<f64>,
+
+    /// With --goal expanded: the expansion factor α to reach (needs --unperturbed-dimension).
+    #[arg(long, value_name = "ALPHA", value_parser = parse_positive)]
+    pub target_expansion: Option<f64>,
+
+    /// Unperturbed dimension ⟨r²⟩0/M of the polymer, Å² mol/g.
+    #[arg(long, value_name = "A2_MOL_PER_G", value_parser = parse_positive)]
+    pub unperturbed_dimension: Option<f64>,
+
+    /// Temperatures the instrument can hold, °C, as LOW:HIGH.
+    #[arg(long, value_name = "LOW:HIGH", value_parser = parse_range)]
+    pub thermostat: Option<(f64, f64)>,
+
+    /// |A2| tolerance in mol mL/g² for the temperature stability.
+    #[arg(long, default_value_t = 1.0e-5, value_name = "MOL_ML_PER_G2", value_parser = parse_positive)]
+    pub a2_tolerance: f64,
+
+    /// Confidence level of the θ intervals (data inputs).
+    #[arg(long, default_value_t = 0.95, value_parser = parse_confidence)]
+    pub confidence: f64,
+
+    /// Write the JSON plan here ('-' for standard output).
+    #[arg(long, value_name = "PATH")]
+    pub report: Option<String>,
+
+    /// Write the planning figure (SVG) here.
+    #[arg(long, value_name = "PATH")]
+    pub figure: Option<PathBuf>,
+
+    #[command(flatten)]
+    pub read: ReadArgs,
+
+    /// Print nothing on the terminal but errors (the safety cautions still go to stderr).
+    #[arg(long, short)]
+    pub quiet: bool,
+}
+
+/// How data files are read (shared by analyze and plan).
+#[derive(Debug, Args)]
+pub struct ReadArgs {
+    /// Temperature unit for a header that has none (C or K).
+    #[arg(long, value_name = "UNIT")]
+    pub temperature_unit: Option<String>,
+
+    /// Concentration unit for a header that has none (g/mL, g/L, mg/mL, g/dL, kg/m3).
+    #[arg(long, value_name = "UNIT")]
+    pub concentration_unit: Option<String>,
+
+    /// Pressure unit for a header that has none (Pa, kPa, bar, atm, mmHg, torr, psi, dyn/cm2).
+    #[arg(long, value_name = "UNIT")]
+    pub pressure_unit: Option<String>,
+
+    /// Solvent density in g/mL, for 'head' columns when the file has no density column.
+    #[arg(long, value_name = "G_PER_ML")]
+    pub solvent_density: Option<f64>,
+
+    /// Virial form at each temperature.
+    #[arg(long, value_enum, default_value_t = VirialArg::Auto)]
+    pub virial: VirialArg,
 }
 
 /// Virial form used at each temperature.
@@ -48,25 +146,8 @@ pub struct AnalyzeArgs {
     #[arg(long, value_name = "DIR")]
     pub figures: Option<std::path::PathBuf>,
 
-    /// Virial form at each temperature.
-    #[arg(long, value_enum, default_value_t = VirialArg::Auto)]
-    pub virial: VirialArg,
-
-    /// Temperature unit for a header that has none (C or K).
-    #[arg(long, value_name = "UNIT")]
-    pub temperature_unit: Option<String>,
-
-    /// Concentration unit for a header that has none (g/mL, g/L, mg/mL, g/dL, kg/m3).
-    #[arg(long, value_name = "UNIT")]
-    pub concentration_unit: Option<String>,
-
-    /// Pressure unit for a header that has none (Pa, kPa, bar, atm, mmHg, torr, psi, dyn/cm2).
-    #[arg(long, value_name = "UNIT")]
-    pub pressure_unit: Option<String>,
-
-    /// Solvent density in g/mL, for 'head' columns when the file has no density column.
-    #[arg(long, value_name = "G_PER_ML")]
-    pub solvent_density: Option<f64>,
+    #[command(flatten)]
+    pub read: ReadArgs,
 
     /// Confidence level of the θ intervals.
     #[arg(long, default_value_t = 0.95, value_parser = parse_confidence)]
@@ -113,4 +194,17 @@ fn parse_positive(text: &str) -> Result<f64, String> {
     } else {
         Err(format!("{v} is not a positive number"))
     }
+}
+
+fn parse_range(text: &str) -> Result<(f64, f64), String> {
+    let (lo, hi) = text.split_once(':').ok_or_else(|| format!("'{text}' is not LOW:HIGH (e.g. 10:80)"))?;
+    let lo: f64 = lo.trim().parse().map_err(|_| format!("'{lo}' is not a number"))?;
+    let hi: f64 = hi.trim().parse().map_err(|_| format!("'{hi}' is not a number"))?;
+    if !(lo.is_finite() && hi.is_finite()) || lo >= hi {
+        return Err(format!("LOW must be below HIGH, got {lo}:{hi}"));
+    }
+    if lo <= -273.15 {
+        return Err(format!("{lo} °C is below absolute zero"));
+    }
+    Ok((lo, hi))
 }

@@ -107,6 +107,8 @@ pub struct Dataset {
     pub series: Vec<Series>,
     /// Tabulated A2 and χ series, first-seen order (A2 tables first).
     pub tabulated: Vec<TabulatedSeries>,
+    /// The solvent of each series that names one: (series, solvent).
+    pub solvents: Vec<(String, String)>,
 }
 
 impl Dataset {
@@ -117,6 +119,7 @@ impl Dataset {
         a2_rows: &[TabulatedRow],
         chi_rows: &[TabulatedRow],
         volumes: &[(String, Volumes)],
+        solvents: &[(String, String)],
     ) -> Self {
         let find = |name: &str| volumes.iter().find(|(s, _)| s == name).map(|(_, v)| *v);
         let mut series = group(measurements);
@@ -128,7 +131,7 @@ impl Dataset {
         for s in &mut tabulated {
             s.volumes = find(&s.name);
         }
-        Dataset { series, tabulated }
+        Dataset { series, tabulated, solvents: solvents.to_vec() }
     }
 }
 

@@ -15,6 +15,7 @@ pub mod error;
 pub mod input;
 pub mod nls;
 pub mod output;
+pub mod plan;
 pub mod plot;
 pub mod regression;
 pub mod report;

@@ -10,6 +10,7 @@ fn main() -> ExitCode {
     let cli = cli::Cli::parse();
     let result = match &cli.command {
         cli::Command::Analyze(args) => commands::analyze::run(args),
+        cli::Command::Plan(args) => commands::plan::run(args),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

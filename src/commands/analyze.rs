@@ -1,59 +1,36 @@
 //! `thetaseek analyze`: read → group → fit → θ → report.
 
-use super::{check_outputs, read_input, write_outputs, PendingOutput};
-use crate::cli::{AnalyzeArgs, VirialArg};
+use super::{check_outputs, load, write_outputs, Loaded, PendingOutput};
+use crate::cli::{AnalyzeArgs, ReadArgs, VirialArg};
 use thetaseek::analysis::{self, Settings, Status};
-use thetaseek::dataset::{Dataset, TabulatedRow};
 use thetaseek::error::Error;
-use thetaseek::input::{self, ReadOptions};
+use thetaseek::input::ReadOptions;
 use thetaseek::output::Destination;
 use thetaseek::plot;
-use thetaseek::report::{self, InputFile, Report, ReportSettings};
-use thetaseek::theta::{Quantity, ThetaSettings, Volumes};
+use thetaseek::report::{self, Report, ReportSettings};
+use thetaseek::theta::{ThetaSettings, Volumes};
 use thetaseek::units::{ConcentrationUnit, PressureUnit, TemperatureUnit};
 use thetaseek::virial::{FormChoice, VirialForm};
 
 /// Runs the subcommand.
 pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
-    let options = read_options(args)?;
+    let options = read_options(&args.read)?;
     let settings = settings(args)?;
 
-    let mut inputs = Vec::new();
-    let mut measurements = Vec::new();
-    let (mut a2_rows, mut chi_rows): (Vec<TabulatedRow>, Vec<TabulatedRow>) = (Vec::new(), Vec::new());
-    let mut volumes = Vec::new();
-    let mut run_warnings = Vec::new();
-    for (index, path) in args.files.iter().enumerate() {
-        let bytes = read_input(path)?;
-        let name = path.display().to_string();
-        let contents = input::read_file(&name, index, &bytes, &options)?;
-        for column in &contents.ignored_columns {
-            run_warnings.push(format!("{name}: column '{column}' is not used"));
-        }
-        measurements.extend(contents.measurements);
-        match contents.quantity {
-            Some(Quantity::SecondVirial) => a2_rows.extend(contents.tabulated),
-            Some(Quantity::HalfMinusChi) => chi_rows.extend(contents.tabulated),
-            None => {}
-        }
-        volumes.extend(contents.volumes);
-        inputs.push(InputFile::new(&name, &bytes));
-    }
-
-    let dataset = Dataset::new(&measurements, &a2_rows, &chi_rows, &volumes);
+    let Loaded { inputs, dataset, warnings: run_warnings } = load(&args.files, &options)?;
     let results = analysis::analyze(&dataset.series, &dataset.tabulated, &settings);
     let report_settings = ReportSettings {
         temperature_unit: options.temperature_unit.map(|u| u.to_string()),
         concentration_unit: options.concentration_unit.map(|u| u.to_string()),
         pressure_unit: options.pressure_unit.map(|u| u.to_string()),
-        solvent_density_g_per_ml: args.solvent_density,
+        solvent_density_g_per_ml: args.read.solvent_density,
         confidence: args.confidence,
         bootstrap_replicates: args.bootstrap,
         seed: args.seed,
         polymer_specific_volume_ml_per_g: args.polymer_specific_volume,
         solvent_molar_volume_ml_per_mol: args.solvent_molar_volume,
         a2_tolerance_mol_ml_per_g2: args.a2_tolerance,
-        ..ReportSettings::new(&format!("{:?}", args.virial).to_lowercase())
+        ..ReportSettings::new(&format!("{:?}", args.read.virial).to_lowercase())
     };
     let report = Report::new(inputs, report_settings, run_warnings, &results, &dataset);
 
@@ -104,13 +81,18 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
     Ok(())
 }
 
-fn settings(args: &AnalyzeArgs) -> Result<Settings, Error> {
-    let virial = match args.virial {
+/// The library's form choice for the command-line value.
+pub(crate) fn virial_choice(arg: VirialArg) -> FormChoice {
+    match arg {
         VirialArg::Auto => FormChoice::Auto,
         VirialArg::Linear => FormChoice::Fixed(VirialForm::Linear),
         VirialArg::Quadratic => FormChoice::Fixed(VirialForm::Quadratic),
         VirialArg::Sqrt => FormChoice::Fixed(VirialForm::Sqrt),
-    };
+    }
+}
+
+fn settings(args: &AnalyzeArgs) -> Result<Settings, Error> {
+    let virial = virial_choice(args.read.virial);
     let volumes = match (args.polymer_specific_volume, args.solvent_molar_volume) {
         // mL/g → m³/kg and mL/mol → m³/mol.
         (Some(v), Some(m)) => Some(Volumes { specific_volume: v * 1e-3, molar_volume: m * 1e-6 }),
@@ -135,7 +117,7 @@ fn settings(args: &AnalyzeArgs) -> Result<Settings, Error> {
     })
 }
 
-fn read_options(args: &AnalyzeArgs) -> Result<ReadOptions, Error> {
+pub(crate) fn read_options(args: &ReadArgs) -> Result<ReadOptions, Error> {
     fn unit<U: std::str::FromStr<Err = thetaseek::units::UnknownUnit>>(
         text: &Option<String>,
         flag: &str,

@@ -1,10 +1,15 @@
 //! One file per subcommand: orchestration and file I/O only; the science is in the library.
 
 pub mod analyze;
+pub mod plan;
 
 use std::path::{Path, PathBuf};
+use thetaseek::dataset::{Dataset, TabulatedRow};
 use thetaseek::error::Error;
+use thetaseek::input::{self, ReadOptions};
 use thetaseek::output::{same_file, write_atomic, write_stream, Destination};
+use thetaseek::report::InputFile;
+use thetaseek::theta::Quantity;
 
 /// An output rendered in memory, waiting to be written.
 pub struct PendingOutput {
@@ -48,4 +53,42 @@ pub fn write_outputs(outputs: Vec<PendingOutput>) -> Result<(), Error> {
         }
     }
     Ok(())
+}
+
+/// Every input file read, hashed and grouped into one dataset.
+pub struct Loaded {
+    /// The files with their SHA-256.
+    pub inputs: Vec<InputFile>,
+    /// Series of every file together.
+    pub dataset: Dataset,
+    /// Run-level warnings (columns not used, ...).
+    pub warnings: Vec<String>,
+}
+
+/// Reads every data file (osmometry, A2 or χ tables) into one dataset.
+pub fn load(files: &[PathBuf], options: &ReadOptions) -> Result<Loaded, Error> {
+    let mut inputs = Vec::new();
+    let mut measurements = Vec::new();
+    let (mut a2_rows, mut chi_rows): (Vec<TabulatedRow>, Vec<TabulatedRow>) = (Vec::new(), Vec::new());
+    let (mut volumes, mut solvents) = (Vec::new(), Vec::new());
+    let mut warnings = Vec::new();
+    for (index, path) in files.iter().enumerate() {
+        let bytes = read_input(path)?;
+        let name = path.display().to_string();
+        let contents = input::read_file(&name, index, &bytes, options)?;
+        for column in &contents.ignored_columns {
+            warnings.push(format!("{name}: column '{column}' is not used"));
+        }
+        measurements.extend(contents.measurements);
+        match contents.quantity {
+            Some(Quantity::SecondVirial) => a2_rows.extend(contents.tabulated),
+            Some(Quantity::HalfMinusChi) => chi_rows.extend(contents.tabulated),
+            None => {}
+        }
+        volumes.extend(contents.volumes);
+        solvents.extend(contents.solvents);
+        inputs.push(InputFile::new(&name, &bytes));
+    }
+    let dataset = Dataset::new(&measurements, &a2_rows, &chi_rows, &volumes, &solvents);
+    Ok(Loaded { inputs, dataset, warnings })
 }

@@ -1,6 +1,7 @@
 //! The report: one struct tree that *is* the JSON schema (every field carries its unit in
 //! its name), built from the analysis results, plus the CSV table and the terminal table.
 
+pub mod plan;
 mod table;
 mod terminal;
 mod theta;
@@ -109,6 +110,8 @@ impl ReportSettings {
 pub struct SeriesReport {
     /// Series name.
     pub name: String,
+    /// The solvent, where the data name it.
+    pub solvent: Option<String>,
     /// `ok`, `partial` or `refused`.
     pub status: Status,
     /// Why the series is partial or refused.
@@ -307,6 +310,7 @@ impl SeriesReport {
         let theta = result.theta.as_ref().map(|t| ThetaReport::new(t, result.quantity));
         SeriesReport {
             name: result.name.clone(),
+            solvent: None,
             status: result.status,
             reason,
             warnings,
@@ -347,8 +351,8 @@ impl Report {
     }
 }
 
-/// The report as pretty-printed JSON with a trailing newline.
-pub fn to_json(report: &Report) -> Vec<u8> {
+/// Any report as pretty-printed JSON with a trailing newline.
+pub fn to_json<T: Serialize>(report: &T) -> Vec<u8> {
     let mut bytes = serde_json::to_vec_pretty(report).expect("the report holds only serialisable values");
     bytes.push(b'\n');
     bytes

@@ -154,7 +154,7 @@ pub struct StabilityReport {
 }
 
 /// A2 (or 1/2 − χ) = a + b/T with covariance, in the input quantity's units.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
 pub struct LineReport {
     /// `second_virial` (mol mL/g²) or `half_minus_chi` (dimensionless).
     pub quantity: crate::theta::Quantity,

@@ -32,7 +32,7 @@ pub struct TemperaturePoint {
 }
 
 /// What [`TemperaturePoint::value`] holds. Both cross zero at θ.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, serde::Deserialize)]
 #[serde(rename_all = "snake_case")]
 pub enum Quantity {
     /// A2, mol m³/kg².
@@ -88,7 +88,7 @@ impl Volumes {
 }
 
 /// Where the crossing lies relative to the measurements.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, serde::Deserialize)]
 #[serde(rename_all = "snake_case")]
 pub enum Crossing {
     /// Inside the measured temperatures.
@@ -100,7 +100,7 @@ pub enum Crossing {
 }
 
 /// Which way solvent quality runs with temperature.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, serde::Deserialize)]
 #[serde(rename_all = "snake_case")]
 pub enum Sense {
     /// A2 rises with T (ψ1 > 0): poor below θ, phase separation on cooling.
@@ -110,7 +110,7 @@ pub enum Sense {
 }
 
 /// Shape of the headline interval.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, serde::Deserialize)]
 #[serde(rename_all = "snake_case")]
 pub enum IntervalKind {
     /// Finite low and high.

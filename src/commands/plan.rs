@@ -1,0 +1,116 @@
+//! `thetaseek plan`: θ of each solvent (from data or from analyze reports) → solvent checks →
+//! ranking and recommendation, with the safety cautions always shown.
+
+use super::{check_outputs, load, read_input, write_outputs, Loaded, PendingOutput};
+use crate::cli::{GoalArg, PlanArgs};
+use thetaseek::analysis::{self, Settings};
+use thetaseek::error::{Error, InputError};
+use thetaseek::input;
+use thetaseek::output::Destination;
+use thetaseek::plan::{self, Goal, PlanSeries, PlanSettings};
+use thetaseek::plot;
+use thetaseek::report::{self, plan::PlanReport, InputFile, Report, ReportSettings};
+use thetaseek::theta::ThetaSettings;
+use thetaseek::units::CELSIUS_OFFSET_K;
+
+/// Runs the subcommand.
+pub fn run(args: &PlanArgs) -> Result<(), Error> {
+    let settings = plan_settings(args)?;
+    let options = super::analyze::read_options(&args.read)?;
+
+    // JSON reports are read as they are; data files are analysed here (no bootstrap: the plan
+    // uses θ, its Fieller interval and the fitted line).
+    let (reports, data): (Vec<_>, Vec<_>) =
+        args.inputs.iter().cloned().partition(|p| p.extension().is_some_and(|e| e.eq_ignore_ascii_case("json")));
+    let mut inputs: Vec<InputFile> = Vec::new();
+    let mut series: Vec<PlanSeries> = Vec::new();
+    for path in &reports {
+        let bytes = read_input(path)?;
+        let name = path.display().to_string();
+        let value: serde_json::Value = serde_json::from_slice(&bytes)
+            .map_err(|e| InputError::at(&name, e.line(), None, None, format!("not a JSON report: {e}")))?;
+        series.extend(PlanSeries::from_report_json(&value).map_err(|e| InputError::file(&name, e))?);
+        inputs.push(InputFile::new(&name, &bytes));
+    }
+    if !data.is_empty() {
+        let Loaded { inputs: data_inputs, dataset, .. } = load(&data, &options)?;
+        let analysis_settings = Settings {
+            virial: super::analyze::virial_choice(args.read.virial),
+            theta: ThetaSettings { confidence: args.confidence, bootstrap_replicates: 0, ..ThetaSettings::default() },
+            volumes: None,
+        };
+        let results = analysis::analyze(&dataset.series, &dataset.tabulated, &analysis_settings);
+        let report = Report::new(data_inputs.clone(), ReportSettings::new("auto"), Vec::new(), &results, &dataset);
+        series.extend(report.series.iter().map(PlanSeries::from_series_report));
+        inputs.extend(data_inputs);
+    }
+
+    let solvents_name = args.solvents.display().to_string();
+    let solvents = input::read_solvents(&solvents_name, &read_input(&args.solvents)?)?;
+    for s in &series {
+        if !solvents.iter().any(|p| p.name == s.solvent) {
+            let known: Vec<&str> = solvents.iter().map(|p| p.name.as_str()).collect();
+            return Err(InputError::file(
+                &solvents_name,
+                format!(
+                    "solvent '{}' (series '{}') has no row here; add one, or name the solvent with a 'solvent' column in the data. Listed: {}",
+                    s.solvent,
+                    s.series,
+                    known.join(", ")
+                ),
+            )
+            .into());
+        }
+    }
+
+    let plan = plan::plan(&series, &solvents, &settings);
+    let plan_report = PlanReport::new(inputs, &settings, plan);
+    let mut outputs = Vec::new();
+    if let Some(path) = &args.report {
+        outputs.push(PendingOutput { destination: Destination::parse(path), bytes: report::to_json(&plan_report) });
+    }
+    if let Some(path) = &args.figure {
+        let svg =
+            plot::render_svg(1000, 640, |root| plot::draw_plan(root, &series, &solvents, &plan_report.plan, &settings))
+                .map_err(|e| Error::Setting(e.to_string()))?;
+        outputs.push(PendingOutput { destination: Destination::File(path.clone()), bytes: svg.into_bytes() });
+    }
+    let mut all_inputs = args.inputs.clone();
+    all_inputs.push(args.solvents.clone());
+    check_outputs(&outputs, &all_inputs)?;
+    let stdout_taken = outputs.iter().any(|o| o.destination == Destination::Stdout);
+    write_outputs(outputs)?;
+    let text = report::plan::render_terminal(&plan_report.plan);
+    if stdout_taken || args.quiet {
+        // The cautions are shown even then, on stderr.
+        eprint!("{}", if args.quiet { report::plan::render_cautions(&plan_report.plan) } else { text });
+    } else {
+        print!("{text}");
+    }
+    Ok(())
+}
+
+fn plan_settings(args: &PlanArgs) -> Result<PlanSettings, Error> {
+    let goal = match (args.goal, args.target_a2, args.target_expansion) {
+        (GoalArg::Unperturbed, None, None) => Goal::Unperturbed,
+        (GoalArg::Unperturbed, _, _) => {
+            return Err(Error::Setting("--target-a2 and --target-expansion go with --goal expanded".into()))
+        }
+        (GoalArg::Expanded, Some(a2), None) => Goal::TargetA2(a2),
+        (GoalArg::Expanded, None, Some(alpha)) => Goal::TargetExpansion(alpha),
+        (GoalArg::Expanded, _, _) => {
+            return Err(Error::Setting(
+                "--goal expanded needs exactly one of --target-a2 and --target-expansion".into(),
+            ))
+        }
+    };
+    Ok(PlanSettings {
+        // g/mol → kg/mol; mL/g → m³/kg; Å² mol/g → m² mol/kg (10⁻²⁰ m² × 10³ g/kg).
+        molar_mass: args.molar_mass * 1e-3,
+        specific_volume: args.polymer_specific_volume.map(|v| v * 1e-3),
+        goal,
+        thermostat: args.thermostat.map(|(lo, hi)| (lo + CELSIUS_OFFSET_K, hi + CELSIUS_OFFSET_K)),
+        a2_tolerance: args.a2_tolerance,
+        unperturbed_r2_over_m: args.unperturbed_dimension.map(|d| d * 1e-17),
+    })
+}

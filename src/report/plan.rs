@@ -1,0 +1,137 @@
+//! The plan's report: JSON (the struct is the schema) and the terminal text, whose last block
+//! is always the safety cautions.
+
+use super::InputFile;
+use crate::plan::{Goal, Plan, PlanSettings};
+use crate::units::CELSIUS_OFFSET_K;
+use serde::Serialize;
+use std::fmt::Write;
+
+/// The plan with its provenance.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct PlanReport {
+    /// Report layout version.
+    pub schema_version: u32,
+    /// thetaseek version.
+    pub tool_version: String,
+    /// Input files with their SHA-256.
+    pub inputs: Vec<InputFile>,
+    /// Settings, in report units.
+    pub settings: PlanReportSettings,
+    /// Recommendation, candidates and cautions.
+    #[serde(flatten)]
+    pub plan: Plan,
+}
+
+/// The plan's settings in report units.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct PlanReportSettings {
+    /// Sample molar mass, g/mol.
+    pub molar_mass_g_per_mol: f64,
+    /// v̄, mL/g.
+    pub polymer_specific_volume_ml_per_g: Option<f64>,
+    /// `unperturbed`, `target_a2` or `target_expansion`.
+    pub goal: &'static str,
+    /// Target A2, mol mL/g².
+    pub target_a2_mol_ml_per_g2: Option<f64>,
+    /// Target α.
+    pub target_expansion: Option<f64>,
+    /// Thermostat range, °C.
+    pub thermostat_c: Option<[f64; 2]>,
+    /// |A2| tolerance, mol mL/g².
+    pub a2_tolerance_mol_ml_per_g2: f64,
+    /// ⟨r²⟩0/M, Å² mol/g.
+    pub unperturbed_dimension_a2_mol_per_g: Option<f64>,
+    /// Margin kept below the boiling point, K.
+    pub boiling_margin_k: f64,
+    /// Margin to Tc below which a warning is given, K.
+    pub critical_margin_k: f64,
+}
+
+impl PlanReport {
+    /// Wraps a plan with its inputs and settings.
+    pub fn new(inputs: Vec<InputFile>, settings: &PlanSettings, plan: Plan) -> Self {
+        let (goal, target_a2, target_expansion) = match settings.goal {
+            Goal::Unperturbed => ("unperturbed", None, None),
+            Goal::TargetA2(a) => ("target_a2", Some(a), None),
+            Goal::TargetExpansion(x) => ("target_expansion", None, Some(x)),
+        };
+        PlanReport {
+            schema_version: super::SCHEMA_VERSION,
+            tool_version: env!("CARGO_PKG_VERSION").to_string(),
+            inputs,
+            settings: PlanReportSettings {
+                molar_mass_g_per_mol: settings.molar_mass * 1e3,
+                polymer_specific_volume_ml_per_g: settings.specific_volume.map(|v| v * 1e3),
+                goal,
+                target_a2_mol_ml_per_g2: target_a2,
+                target_expansion,
+                thermostat_c: settings.thermostat.map(|(lo, hi)| [lo - CELSIUS_OFFSET_K, hi - CELSIUS_OFFSET_K]),
+                a2_tolerance_mol_ml_per_g2: settings.a2_tolerance,
+                unperturbed_dimension_a2_mol_per_g: settings.unperturbed_r2_over_m.map(|d| d * 1e17),
+                boiling_margin_k: crate::plan::BOILING_MARGIN_K,
+                critical_margin_k: crate::plan::CRITICAL_MARGIN_K,
+            },
+            plan,
+        }
+    }
+}
+
+/// The safety block, as printed at the end of every plan.
+pub fn render_cautions(plan: &Plan) -> String {
+    let mut out = String::from("Safety cautions\n");
+    for c in &plan.cautions {
+        let _ = writeln!(out, "  - {c}");
+    }
+    out
+}
+
+/// The plan for a terminal: the recommendation, the ranking with reasons, then the cautions.
+pub fn render_terminal(plan: &Plan) -> String {
+    let mut out = String::new();
+    match &plan.recommendation {
+        Some(r) => {
+            let _ = writeln!(
+                out,
+                "Recommendation: {} at {:.1} °C (hold {:.1}–{:.1} °C)",
+                r.solvent, r.temperature_c, r.temperature_window_c[0], r.temperature_window_c[1]
+            );
+        }
+        None => {
+            let _ = writeln!(out, "No recommendation: {}", plan.no_recommendation_reason.as_deref().unwrap_or(""));
+        }
+    }
+    out.push('\n');
+    for c in &plan.candidates {
+        let theta = c.theta_k.map_or("no θ".to_string(), |t| format!("θ = {:.1} °C", t - CELSIUS_OFFSET_K));
+        let _ = writeln!(
+            out,
+            "{}. {} ({theta}) — {}",
+            c.rank,
+            c.solvent,
+            if c.suitable { "suitable" } else { "ruled out" }
+        );
+        for r in &c.reasons {
+            let _ = writeln!(out, "     {r}");
+        }
+        if let (Some(tc), Some(m)) = (c.critical_temperature_k, c.margin_k) {
+            let _ = writeln!(
+                out,
+                "     critical temperature of the sample {:.1} °C, margin {m:.1} K",
+                tc - CELSIUS_OFFSET_K
+            );
+        }
+        if let Some(cmax) = c.suggested_max_concentration_g_per_ml {
+            let _ = writeln!(out, "     keep c below {:.2} g/L for dilute work", cmax * 1e3);
+        }
+        for w in &c.warnings {
+            let _ = writeln!(out, "   ! {w}");
+        }
+        for u in &c.unchecked {
+            let _ = writeln!(out, "   ? not checked: {u}");
+        }
+    }
+    out.push('\n');
+    out.push_str(&render_cautions(plan));
+    out
+}
