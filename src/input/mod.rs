@@ -25,6 +25,13 @@ use std::collections::HashMap;
 use std::io::Cursor;
 use std::str::FromStr;
 
+/// Above this every temperature of a `(C)` column looks like kelvin: polymer solutions are not
+/// studied above 200 °C, and room temperature in kelvin (≈ 293) would read as such.
+pub const PLAUSIBLE_CELSIUS_MAX: f64 = 200.0;
+/// Above this every concentration of a `(g/mL)` column looks like g/L: dilute solutions are
+/// a few thousandths of a g/mL.
+pub const PLAUSIBLE_G_PER_ML_MAX: f64 = 0.5;
+
 /// Settings that supply what a file's header leaves out.
 #[derive(Debug, Clone, Default, PartialEq)]
 pub struct ReadOptions {
@@ -243,9 +250,9 @@ fn locate_roles(file: &str, header_line: usize, cells: &[HeaderCell]) -> Result<
             return Err(InputError::at(
                 file,
                 header_line,
+                Some(&format!("field {}", i + 1)),
                 None,
-                None,
-                format!("header field {} is empty: every column needs a name", i + 1),
+                "the header field is empty: every column needs a name",
             ));
         }
         if let Some(role) = cell.role {
@@ -364,14 +371,31 @@ impl<'a> Table<'a> {
             return Err(self.refuse(col, row, "the value is missing: expected a number"));
         }
         match f64::from_str(text) {
-            Ok(v) if v.is_finite() => Ok(v),
+            // Subnormal numbers (below 2.2e-308) are typing slips, and they lose precision.
+            Ok(v) if v.is_finite() && (v == 0.0 || v.is_normal()) => Ok(v),
+            Ok(v) if v.is_finite() => Err(self.refuse(col, row, "the number is too small to compute with (below 1e-307)")),
             Ok(_) => Err(self.refuse(col, row, "expected a finite number")),
+            Err(_) if text.contains(',') => Err(self.refuse(
+                col,
+                row,
+                "a comma inside a number: write decimals with a point (1.5, not 1,5) and no thousands separators",
+            )),
             Err(_) => Err(self.refuse(
                 col,
                 row,
                 "expected a number with a decimal point (e.g. 1.5 or 2.5e-3), without thousands separators",
             )),
         }
+    }
+
+    /// Refuses a column whose every value is implausible in its declared unit, which usually
+    /// means the header names the wrong unit: `limit` is exceeded by all (`above`) rows.
+    fn refuse_if_all_exceed(&self, col: usize, raw: &[f64], limit: f64, message: &str) -> Result<(), InputError> {
+        let rows: Vec<usize> = self.rows().collect();
+        if !rows.is_empty() && rows.iter().all(|&r| raw[r] > limit) {
+            return Err(self.refuse(col, rows[0], message));
+        }
+        Ok(())
     }
 
     /// A number that must be > 0 (or ≥ 0 when `zero_ok`), after conversion by `to_si`.
@@ -459,13 +483,23 @@ impl<'a> Table<'a> {
     fn temperatures(&self, options: &ReadOptions) -> Result<Vec<f64>, InputError> {
         let col = self.require(Role::Temperature)?;
         let unit: TemperatureUnit = self.unit(col, options.temperature_unit, "--temperature-unit")?;
+        let mut raw = vec![f64::NAN; self.layout.records.len()];
         let mut out = vec![f64::NAN; self.layout.records.len()];
         for row in self.rows() {
-            let t = unit.to_kelvin(self.number(col, row)?);
+            raw[row] = self.number(col, row)?;
+            let t = unit.to_kelvin(raw[row]);
             if t <= 0.0 {
                 return Err(self.refuse(col, row, "a temperature must lie above absolute zero (0 K)"));
             }
             out[row] = t;
+        }
+        if unit == TemperatureUnit::Celsius {
+            self.refuse_if_all_exceed(
+                col,
+                &raw,
+                PLAUSIBLE_CELSIUS_MAX,
+                "every temperature is above 200 °C: these look like kelvin; write 'temperature (K)'",
+            )?;
         }
         Ok(out)
     }
@@ -553,6 +587,17 @@ fn read_osmometry(table: &Table, options: &ReadOptions) -> Result<FileContents, 
     let temperatures = table.temperatures(options)?;
     let c_col = table.require(Role::Concentration)?;
     let c_unit: ConcentrationUnit = table.unit(c_col, options.concentration_unit, "--concentration-unit")?;
+    if c_unit == ConcentrationUnit::GramPerMillilitre {
+        let raw: Vec<f64> = (0..table.layout.records.len())
+            .map(|r| if table.layout.records[r].blank { f64::NAN } else { table.number(c_col, r).unwrap_or(f64::NAN) })
+            .collect();
+        table.refuse_if_all_exceed(
+            c_col,
+            &raw,
+            PLAUSIBLE_G_PER_ML_MAX,
+            "every concentration is above 0.5 g/mL, far from dilute: these look like g/L; write 'concentration (g/L)'",
+        )?;
+    }
     enum Source {
         Pressure(usize, PressureUnit),
         Head(usize, LengthUnit, Option<(usize, DensityUnit)>),
