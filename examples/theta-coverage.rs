@@ -53,7 +53,7 @@ fn main() {
             );
             let settings =
                 ThetaSettings { bootstrap_replicates: replicates, seed: d as u64, ..ThetaSettings::default() };
-            let th = theta_for_series(series, &r.fits, None, &settings, 0);
+            let th = theta_for_series(series, &r.fits, None, &settings, 0, &());
             let Some(est) = th.theta_k else { continue };
             found += 1;
             bias += est - theta;

@@ -7,6 +7,23 @@ use crate::virial::{fit_temperature, FormChoice, SkippedTemperature, Temperature
 use rayon::prelude::*;
 use serde::Serialize;
 
+/// Where long runs report how far they got (a terminal progress bar in the binary). Units of
+/// work: one per series, plus one per bootstrap replicate.
+pub trait Progress: Sync {
+    /// `n` more units are done.
+    fn advance(&self, n: u64);
+}
+
+/// No progress reporting.
+impl Progress for () {
+    fn advance(&self, _: u64) {}
+}
+
+/// Units of work [`analyze_with_progress`] will report for these series and settings.
+pub fn work_units(series: &[Series], tabulated: &[TabulatedSeries], settings: &Settings) -> u64 {
+    (series.len() as u64) * (1 + settings.theta.bootstrap_replicates as u64) + tabulated.len() as u64
+}
+
 /// Settings of the analysis itself (units and files are settled before this point).
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Settings {
@@ -55,6 +72,16 @@ pub struct SeriesResult {
 
 /// Fits every temperature of one osmometry series, then its θ.
 pub fn analyze_series(series: &Series, settings: &Settings, index: u64) -> SeriesResult {
+    analyze_series_with_progress(series, settings, index, &())
+}
+
+/// [`analyze_series`], reporting each bootstrap replicate and the series to `progress`.
+pub fn analyze_series_with_progress(
+    series: &Series,
+    settings: &Settings,
+    index: u64,
+    progress: &dyn Progress,
+) -> SeriesResult {
     let mut fits = Vec::new();
     let mut skipped = Vec::new();
     for set in &series.temperatures {
@@ -70,7 +97,11 @@ pub fn analyze_series(series: &Series, settings: &Settings, index: u64) -> Serie
     };
     let theta_settings = ThetaSettings { virial: settings.virial, ..settings.theta };
     let volumes = series.volumes.or(settings.volumes);
-    let theta = (status != Status::Refused).then(|| theta_for_series(series, &fits, volumes, &theta_settings, index));
+    let theta =
+        (status != Status::Refused).then(|| theta_for_series(series, &fits, volumes, &theta_settings, index, progress));
+    // A series whose bootstrap did not run still counts its share of the work.
+    let replicates_run = theta.as_ref().and_then(|t| t.bootstrap.as_ref()).map_or(0, |b| b.replicates as u64);
+    progress.advance(1 + settings.theta.bootstrap_replicates as u64 - replicates_run);
     SeriesResult { name: series.name.clone(), status, fits, skipped, quantity: Quantity::SecondVirial, theta }
 }
 
@@ -91,8 +122,30 @@ pub fn analyze_tabulated(series: &TabulatedSeries, settings: &Settings) -> Serie
 /// Analyses every series in parallel; results keep the input order (osmometry series first,
 /// then tabulated ones).
 pub fn analyze(series: &[Series], tabulated: &[TabulatedSeries], settings: &Settings) -> Vec<SeriesResult> {
-    let mut results: Vec<SeriesResult> =
-        series.par_iter().enumerate().map(|(i, s)| analyze_series(s, settings, i as u64)).collect();
-    results.extend(tabulated.par_iter().map(|s| analyze_tabulated(s, settings)).collect::<Vec<_>>());
+    analyze_with_progress(series, tabulated, settings, &())
+}
+
+/// [`analyze`], reporting [`work_units`] to `progress` as they complete.
+pub fn analyze_with_progress(
+    series: &[Series],
+    tabulated: &[TabulatedSeries],
+    settings: &Settings,
+    progress: &dyn Progress,
+) -> Vec<SeriesResult> {
+    let mut results: Vec<SeriesResult> = series
+        .par_iter()
+        .enumerate()
+        .map(|(i, s)| analyze_series_with_progress(s, settings, i as u64, progress))
+        .collect();
+    results.extend(
+        tabulated
+            .par_iter()
+            .map(|s| {
+                let r = analyze_tabulated(s, settings);
+                progress.advance(1);
+                r
+            })
+            .collect::<Vec<_>>(),
+    );
     results
 }

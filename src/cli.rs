@@ -113,6 +113,10 @@ pub struct ReadArgs {
     /// Virial form at each temperature.
     #[arg(long, value_enum, default_value_t = VirialArg::Auto)]
     pub virial: VirialArg,
+
+    /// Refuse an input file larger than this, in MB (memory use is a few times the file size).
+    #[arg(long, default_value_t = 2048, value_name = "MB")]
+    pub max_input_mb: u64,
 }
 
 /// Virial form used at each temperature.
@@ -156,6 +160,10 @@ pub struct AnalyzeArgs {
     /// Bootstrap replicates for the θ interval cross-check (0 turns it off).
     #[arg(long, default_value_t = 2000, value_name = "N")]
     pub bootstrap: usize,
+
+    /// Largest --bootstrap accepted (each replicate of each series costs 8 bytes and a refit).
+    #[arg(long, default_value_t = 100_000, value_name = "N")]
+    pub max_bootstrap: usize,
 
     /// Seed of the bootstrap (same seed, same numbers).
     #[arg(long, default_value_t = 1)]

@@ -121,7 +121,11 @@ impl Dataset {
         volumes: &[(String, Volumes)],
         solvents: &[(String, String)],
     ) -> Self {
-        let find = |name: &str| volumes.iter().find(|(s, _)| s == name).map(|(_, v)| *v);
+        let mut by_name: HashMap<&str, Volumes> = HashMap::new();
+        for (name, v) in volumes {
+            by_name.entry(name.as_str()).or_insert(*v);
+        }
+        let find = |name: &str| by_name.get(name).copied();
         let mut series = group(measurements);
         for s in &mut series {
             s.volumes = find(&s.name);

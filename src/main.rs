@@ -8,6 +8,7 @@ use std::process::ExitCode;
 
 fn main() -> ExitCode {
     let cli = cli::Cli::parse();
+    thetaseek::output::remove_partial_files_on_interrupt();
     let result = match &cli.command {
         cli::Command::Analyze(args) => commands::analyze::run(args),
         cli::Command::Plan(args) => commands::plan::run(args),

@@ -1,8 +1,11 @@
 //! Writing outputs so that nothing is ever half-written: each file goes to a temporary file
-//! in the destination's folder and is renamed over the destination only when complete.
+//! in the destination's folder and is renamed over the destination only when complete. An
+//! interrupt (Ctrl-C) removes the temporary files still being written.
 
+use std::fs::File;
 use std::io::{self, Write};
 use std::path::{Path, PathBuf};
+use std::sync::Mutex;
 
 /// Where an output goes: a file, or standard output for `-`.
 #[derive(Debug, Clone, PartialEq, Eq)]
@@ -24,29 +27,59 @@ impl Destination {
     }
 }
 
+/// Temporary files being written right now, for the interrupt handler to remove.
+static IN_PROGRESS: Mutex<Vec<PathBuf>> = Mutex::new(Vec::new());
+
+fn in_progress() -> std::sync::MutexGuard<'static, Vec<PathBuf>> {
+    IN_PROGRESS.lock().unwrap_or_else(|poisoned| poisoned.into_inner())
+}
+
+/// Installs a Ctrl-C handler that removes every temporary output file and exits with 130
+/// (128 + SIGINT), so that an interrupted run leaves neither partial nor temporary files.
+pub fn remove_partial_files_on_interrupt() {
+    let _ = ctrlc::set_handler(|| {
+        for path in in_progress().iter() {
+            let _ = std::fs::remove_file(path);
+        }
+        std::process::exit(130);
+    });
+}
+
 /// Writes `bytes` to `path` atomically: a temporary file beside it, flushed and synced, then
 /// renamed. On any error the destination is left as it was.
 pub fn write_atomic(path: &Path, bytes: &[u8]) -> io::Result<()> {
+    write_atomic_with(path, |file| file.write_all(bytes))
+}
+
+/// [`write_atomic`] with the writing done by `fill`, so that failures part-way (a full disk)
+/// can be tested with a writer that fails.
+pub fn write_atomic_with(path: &Path, fill: impl FnOnce(&mut File) -> io::Result<()>) -> io::Result<()> {
     let dir = match path.parent() {
         Some(p) if !p.as_os_str().is_empty() => p,
         _ => Path::new("."),
     };
     let mut temp = tempfile::Builder::new().prefix(".thetaseek-").suffix(".part").tempfile_in(dir)?;
-    // Temporary files are private (0600); a report is an ordinary file: keep the mode of the
-    // file it replaces, or rw-r--r-- for a new one.
-    #[cfg(unix)]
-    {
-        use std::os::unix::fs::PermissionsExt;
-        let mode = std::fs::metadata(path).map(|m| m.permissions().mode() & 0o777).unwrap_or(0o644);
-        temp.as_file().set_permissions(std::fs::Permissions::from_mode(mode))?;
-    }
-    temp.write_all(bytes)?;
-    temp.as_file().sync_all()?;
-    temp.persist(path).map_err(|e| e.error)?;
-    Ok(())
+    let temp_path = temp.path().to_path_buf();
+    in_progress().push(temp_path.clone());
+    let result = (|| {
+        // Temporary files are private (0600); a report is an ordinary file: keep the mode of
+        // the file it replaces, or rw-r--r-- for a new one.
+        #[cfg(unix)]
+        {
+            use std::os::unix::fs::PermissionsExt;
+            let mode = std::fs::metadata(path).map(|m| m.permissions().mode() & 0o777).unwrap_or(0o644);
+            temp.as_file().set_permissions(std::fs::Permissions::from_mode(mode))?;
+        }
+        fill(temp.as_file_mut())?;
+        temp.as_file().sync_all()?;
+        Ok(())
+    })();
+    let result = result.and_then(|()| temp.persist(path).map(|_| ()).map_err(|e| e.error));
+    in_progress().retain(|p| *p != temp_path);
+    result
 }
 
-/// Writes through any writer (a failing writer in tests, stdout in use); a broken pipe is not
+/// Writes through any writer (stdout in use, a failing writer in tests); a broken pipe is not
 /// an error, since the reader simply stopped reading.
 pub fn write_stream(mut out: impl Write, bytes: &[u8]) -> io::Result<()> {
     match out.write_all(bytes).and_then(|_| out.flush()) {
@@ -70,4 +103,54 @@ pub fn same_file(a: &Path, b: &Path) -> bool {
         Some(parent.join(p.file_name()?))
     }
     matches!((canonical(a), canonical(b)), (Some(x), Some(y)) if x == y)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn a_disk_that_fills_part_way_leaves_the_old_file_and_no_temporary() {
+        let dir = tempfile::tempdir().unwrap();
+        let target = dir.path().join("report.json");
+        std::fs::write(&target, b"previous report").unwrap();
+        let err = write_atomic_with(&target, |f| {
+            f.write_all(b"{\"half\": ")?;
+            Err(io::Error::new(io::ErrorKind::StorageFull, "no space left on device"))
+        })
+        .unwrap_err();
+        assert_eq!(err.kind(), io::ErrorKind::StorageFull);
+        assert_eq!(std::fs::read(&target).unwrap(), b"previous report");
+        let names: Vec<_> = std::fs::read_dir(dir.path()).unwrap().map(|e| e.unwrap().file_name()).collect();
+        assert_eq!(names, vec![std::ffi::OsString::from("report.json")]);
+        assert!(!in_progress().iter().any(|p| p.starts_with(dir.path())));
+    }
+
+    #[test]
+    fn a_complete_write_replaces_the_file_with_ordinary_permissions() {
+        let dir = tempfile::tempdir().unwrap();
+        let target = dir.path().join("t.csv");
+        write_atomic(&target, b"a,b\n").unwrap();
+        assert_eq!(std::fs::read(&target).unwrap(), b"a,b\n");
+        #[cfg(unix)]
+        {
+            use std::os::unix::fs::PermissionsExt;
+            assert_eq!(std::fs::metadata(&target).unwrap().permissions().mode() & 0o777, 0o644);
+        }
+    }
+
+    #[test]
+    fn a_broken_pipe_is_not_an_error_but_other_failures_are() {
+        struct Failing(io::ErrorKind);
+        impl Write for Failing {
+            fn write(&mut self, _: &[u8]) -> io::Result<usize> {
+                Err(io::Error::from(self.0))
+            }
+            fn flush(&mut self) -> io::Result<()> {
+                Ok(())
+            }
+        }
+        assert!(write_stream(Failing(io::ErrorKind::BrokenPipe), b"x").is_ok());
+        assert!(write_stream(Failing(io::ErrorKind::StorageFull), b"x").is_err());
+    }
 }

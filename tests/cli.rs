@@ -272,3 +272,28 @@ fn figures_go_into_the_folder_named_one_svg_per_series_and_kind() {
     assert!(names.iter().all(|n| n.ends_with(".svg") && !n.starts_with('.')));
     assert!(names.contains(&"px-40-in-mirane-reduced-pressure.svg".to_string()));
 }
+
+#[test]
+fn a_solvent_column_names_the_series_and_reaches_the_report() {
+    let dir = tempfile::tempdir().unwrap();
+    let input = write(
+        dir.path(),
+        "solv.csv",
+        &SMALL
+            .replace("temperature (C)", "solvent,temperature (C)")
+            .replace("\n2", "\nmirane,2")
+            .replace("\n3", "\nmirane,3"),
+    );
+    let out = thetaseek()
+        .arg("analyze")
+        .arg(&input)
+        .args(["--report", "-", "--bootstrap", "0"])
+        .assert()
+        .success()
+        .get_output()
+        .stdout
+        .clone();
+    let report: Value = serde_json::from_slice(&out).unwrap();
+    assert_eq!(report["series"][0]["name"], "mirane");
+    assert_eq!(report["series"][0]["solvent"], "mirane");
+}

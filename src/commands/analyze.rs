@@ -1,6 +1,6 @@
 //! `thetaseek analyze`: read → group → fit → θ → report.
 
-use super::{check_outputs, load, write_outputs, Loaded, PendingOutput};
+use super::{check_outputs, load, write_outputs, Bar, Loaded, PendingOutput};
 use crate::cli::{AnalyzeArgs, ReadArgs, VirialArg};
 use thetaseek::analysis::{self, Settings, Status};
 use thetaseek::error::Error;
@@ -17,8 +17,16 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
     let options = read_options(&args.read)?;
     let settings = settings(args)?;
 
-    let Loaded { inputs, dataset, warnings: run_warnings } = load(&args.files, &options)?;
-    let results = analysis::analyze(&dataset.series, &dataset.tabulated, &settings);
+    if args.bootstrap > args.max_bootstrap {
+        return Err(Error::Setting(format!(
+            "--bootstrap {} is above --max-bootstrap {} (memory grows by 8 bytes per replicate per series in flight, time by one refit each); raise --max-bootstrap to run it",
+            args.bootstrap, args.max_bootstrap
+        )));
+    }
+    let Loaded { inputs, dataset, warnings: run_warnings } = load(&args.files, &options, args.read.max_input_mb)?;
+    let bar = Bar::new(analysis::work_units(&dataset.series, &dataset.tabulated, &settings), args.quiet);
+    let results = analysis::analyze_with_progress(&dataset.series, &dataset.tabulated, &settings, &bar);
+    bar.finish();
     let report_settings = ReportSettings {
         temperature_unit: options.temperature_unit.map(|u| u.to_string()),
         concentration_unit: options.concentration_unit.map(|u| u.to_string()),
@@ -37,9 +45,7 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
     let terminal = report::render_terminal(&report);
     if results.iter().all(|r| r.status == Status::Refused) {
         eprint!("{terminal}");
-        let reasons: Vec<String> =
-            report.series.iter().map(|s| format!("{}: {}", s.name, s.reason.clone().unwrap_or_default())).collect();
-        return Err(Error::NothingAnalysed(reasons.join("; ")));
+        return Err(Error::NothingAnalysed(grouped_reasons(&report)));
     }
 
     let mut outputs = Vec::new();
@@ -137,4 +143,28 @@ pub(crate) fn read_options(args: &ReadArgs) -> Result<ReadOptions, Error> {
         pressure_unit: unit::<PressureUnit>(&args.pressure_unit, "--pressure-unit")?,
         solvent_density_kg_per_m3: density,
     })
+}
+
+/// Why series were refused, grouped by reason with counts (a campaign may refuse thousands).
+fn grouped_reasons(report: &Report) -> String {
+    let mut groups: Vec<(String, usize, String)> = Vec::new();
+    for s in &report.series {
+        let reason = s.reason.clone().unwrap_or_default();
+        match groups.iter_mut().find(|(r, _, _)| *r == reason) {
+            Some(g) => g.1 += 1,
+            None => groups.push((reason, 1, s.name.clone())),
+        }
+    }
+    groups.sort_by_key(|g| std::cmp::Reverse(g.1));
+    let shown: Vec<String> = groups
+        .iter()
+        .take(5)
+        .map(|(r, n, first)| if *n == 1 { format!("{first}: {r}") } else { format!("{n} series (e.g. {first}): {r}") })
+        .collect();
+    let more = groups.len().saturating_sub(5);
+    if more > 0 {
+        format!("{}; and {more} other reasons", shown.join("; "))
+    } else {
+        shown.join("; ")
+    }
 }

@@ -19,9 +19,47 @@ pub struct PendingOutput {
     pub bytes: Vec<u8>,
 }
 
-/// Reads an input file whole (inputs are only ever opened for reading).
-pub fn read_input(path: &Path) -> Result<Vec<u8>, Error> {
-    std::fs::read(path).map_err(|source| Error::Io { action: "cannot read", path: path.to_path_buf(), source })
+/// Reads an input file whole (inputs are only ever opened for reading), refusing one larger
+/// than `max_mb` megabytes before reading it.
+pub fn read_input(path: &Path, max_mb: u64) -> Result<Vec<u8>, Error> {
+    let io = |source| Error::Io { action: "cannot read", path: path.to_path_buf(), source };
+    let size = std::fs::metadata(path).map_err(io)?.len();
+    if size > max_mb.saturating_mul(1 << 20) {
+        return Err(Error::Input(thetaseek::error::InputError::file(
+            &path.display().to_string(),
+            format!("the file is {} MB, above the limit of {max_mb} MB; raise it with --max-input-mb", size >> 20),
+        )));
+    }
+    std::fs::read(path).map_err(io)
+}
+
+/// A terminal progress bar on stderr (hidden when stderr is not a terminal or `quiet`).
+pub struct Bar(indicatif::ProgressBar);
+
+impl Bar {
+    /// A bar for `total` units of work.
+    pub fn new(total: u64, quiet: bool) -> Self {
+        use std::io::IsTerminal;
+        if quiet || !std::io::stderr().is_terminal() {
+            return Bar(indicatif::ProgressBar::hidden());
+        }
+        let bar = indicatif::ProgressBar::new(total);
+        if let Ok(style) = indicatif::ProgressStyle::with_template("{elapsed_precise} [{bar:40}] {percent:>3}% {msg}") {
+            bar.set_style(style.progress_chars("=> "));
+        }
+        Bar(bar)
+    }
+
+    /// Removes the bar from the terminal.
+    pub fn finish(&self) {
+        self.0.finish_and_clear();
+    }
+}
+
+impl thetaseek::analysis::Progress for Bar {
+    fn advance(&self, n: u64) {
+        self.0.inc(n);
+    }
 }
 
 /// Refuses any output that would overwrite one of the inputs.
@@ -66,14 +104,14 @@ pub struct Loaded {
 }
 
 /// Reads every data file (osmometry, A2 or χ tables) into one dataset.
-pub fn load(files: &[PathBuf], options: &ReadOptions) -> Result<Loaded, Error> {
+pub fn load(files: &[PathBuf], options: &ReadOptions, max_mb: u64) -> Result<Loaded, Error> {
     let mut inputs = Vec::new();
     let mut measurements = Vec::new();
     let (mut a2_rows, mut chi_rows): (Vec<TabulatedRow>, Vec<TabulatedRow>) = (Vec::new(), Vec::new());
     let (mut volumes, mut solvents) = (Vec::new(), Vec::new());
     let mut warnings = Vec::new();
     for (index, path) in files.iter().enumerate() {
-        let bytes = read_input(path)?;
+        let bytes = read_input(path, max_mb)?;
         let name = path.display().to_string();
         let contents = input::read_file(&name, index, &bytes, options)?;
         for column in &contents.ignored_columns {

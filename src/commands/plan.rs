@@ -25,7 +25,7 @@ pub fn run(args: &PlanArgs) -> Result<(), Error> {
     let mut inputs: Vec<InputFile> = Vec::new();
     let mut series: Vec<PlanSeries> = Vec::new();
     for path in &reports {
-        let bytes = read_input(path)?;
+        let bytes = read_input(path, args.read.max_input_mb)?;
         let name = path.display().to_string();
         let value: serde_json::Value = serde_json::from_slice(&bytes)
             .map_err(|e| InputError::at(&name, e.line(), None, None, format!("not a JSON report: {e}")))?;
@@ -33,7 +33,7 @@ pub fn run(args: &PlanArgs) -> Result<(), Error> {
         inputs.push(InputFile::new(&name, &bytes));
     }
     if !data.is_empty() {
-        let Loaded { inputs: data_inputs, dataset, .. } = load(&data, &options)?;
+        let Loaded { inputs: data_inputs, dataset, .. } = load(&data, &options, args.read.max_input_mb)?;
         let analysis_settings = Settings {
             virial: super::analyze::virial_choice(args.read.virial),
             theta: ThetaSettings { confidence: args.confidence, bootstrap_replicates: 0, ..ThetaSettings::default() },
@@ -46,7 +46,7 @@ pub fn run(args: &PlanArgs) -> Result<(), Error> {
     }
 
     let solvents_name = args.solvents.display().to_string();
-    let solvents = input::read_solvents(&solvents_name, &read_input(&args.solvents)?)?;
+    let solvents = input::read_solvents(&solvents_name, &read_input(&args.solvents, args.read.max_input_mb)?)?;
     for s in &series {
         if !solvents.iter().any(|p| p.name == s.solvent) {
             let known: Vec<&str> = solvents.iter().map(|p| p.name.as_str()).collect();

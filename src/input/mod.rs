@@ -373,7 +373,9 @@ impl<'a> Table<'a> {
         match f64::from_str(text) {
             // Subnormal numbers (below 2.2e-308) are typing slips, and they lose precision.
             Ok(v) if v.is_finite() && (v == 0.0 || v.is_normal()) => Ok(v),
-            Ok(v) if v.is_finite() => Err(self.refuse(col, row, "the number is too small to compute with (below 1e-307)")),
+            Ok(v) if v.is_finite() => {
+                Err(self.refuse(col, row, "the number is too small to compute with (below 1e-307)"))
+            }
             Ok(_) => Err(self.refuse(col, row, "expected a finite number")),
             Err(_) if text.contains(',') => Err(self.refuse(
                 col,
@@ -508,6 +510,7 @@ impl<'a> Table<'a> {
     fn solvents(&self) -> Result<Vec<(String, String)>, InputError> {
         let Some(col) = self.column(Role::Solvent) else { return Ok(Vec::new()) };
         let mut out: Vec<(String, String)> = Vec::new();
+        let mut seen: HashMap<String, usize> = HashMap::new();
         for row in self.rows() {
             let series = self.series(row)?;
             let solvent = self.text(col, row).to_string();
@@ -520,12 +523,15 @@ impl<'a> Table<'a> {
                     "the solvent name is empty",
                 ));
             }
-            match out.iter().find(|(s, _)| *s == series) {
-                Some((_, first)) if *first != solvent => {
+            match seen.get(&series).map(|&i| &out[i].1) {
+                Some(first) if *first != solvent => {
                     return Err(self.refuse(col, row, "a series must keep one solvent on every row"));
                 }
                 Some(_) => {}
-                None => out.push((series, solvent)),
+                None => {
+                    seen.insert(series.clone(), out.len());
+                    out.push((series, solvent));
+                }
             }
         }
         Ok(out)
@@ -549,6 +555,7 @@ impl<'a> Table<'a> {
         let v_unit: SpecificVolumeUnit = self.unit(vc, None, "")?;
         let m_unit: MolarVolumeUnit = self.unit(mc, None, "")?;
         let mut out: Vec<(String, Volumes)> = Vec::new();
+        let mut seen: HashMap<String, usize> = HashMap::new();
         for row in self.rows() {
             let series = self.series(row)?;
             let v = Volumes {
@@ -567,8 +574,8 @@ impl<'a> Table<'a> {
                     "a molar volume must be greater than zero",
                 )?,
             };
-            match out.iter().find(|(s, _)| *s == series) {
-                Some((_, first)) if first != &v => {
+            match seen.get(&series).map(|&i| &out[i].1) {
+                Some(first) if first != &v => {
                     return Err(self.refuse(
                         vc,
                         row,
@@ -576,7 +583,10 @@ impl<'a> Table<'a> {
                     ));
                 }
                 Some(_) => {}
-                None => out.push((series, v)),
+                None => {
+                    seen.insert(series.clone(), out.len());
+                    out.push((series, v));
+                }
             }
         }
         Ok(out)

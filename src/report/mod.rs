@@ -337,6 +337,8 @@ impl Report {
         results: &[SeriesResult],
         dataset: &crate::dataset::Dataset,
     ) -> Self {
+        let solvents: std::collections::HashMap<&str, &str> =
+            dataset.solvents.iter().map(|(s, v)| (s.as_str(), v.as_str())).collect();
         Report {
             schema_version: SCHEMA_VERSION,
             tool_version: env!("CARGO_PKG_VERSION").to_string(),
@@ -345,7 +347,14 @@ impl Report {
             warnings,
             series: results
                 .iter()
-                .map(|r| SeriesReport::new(r, dataset.series.iter().find(|s| s.name == r.name)))
+                .enumerate()
+                .map(|(i, r)| {
+                    // Results list the osmometry series first, in dataset order, then the tables.
+                    let series = dataset.series.get(i).filter(|s| s.name == r.name);
+                    let mut report = SeriesReport::new(r, series);
+                    report.solvent = solvents.get(r.name.as_str()).map(|v| v.to_string());
+                    report
+                })
                 .collect(),
         }
     }

@@ -608,6 +608,7 @@ pub fn theta_for_series(
     volumes: Option<Volumes>,
     settings: &ThetaSettings,
     series_index: u64,
+    progress: &dyn crate::analysis::Progress,
 ) -> ThetaResult {
     let points = a2_points(fits);
     let mut result = theta_from_points(&points, Quantity::SecondVirial, volumes, settings);
@@ -648,7 +649,7 @@ pub fn theta_for_series(
         }
     }
     if settings.bootstrap_replicates > 0 && result.theta_k.is_some() {
-        result.bootstrap = Some(bootstrap(&sets, &fit_refs, settings, series_index));
+        result.bootstrap = Some(bootstrap(&sets, &fit_refs, settings, series_index, progress));
     }
     result
 }
@@ -664,6 +665,7 @@ pub fn bootstrap(
     fits: &[&TemperatureFit],
     settings: &ThetaSettings,
     series_index: u64,
+    progress: &dyn crate::analysis::Progress,
 ) -> BootstrapSummary {
     struct Prepared {
         fitted: Vec<f64>,
@@ -708,8 +710,15 @@ pub fn bootstrap(
                         let y = prep.fitted[i] + prep.sigma[i] * prep.residuals[k];
                         scratch.pressure_pa[i] = (y * set.concentration_kg_per_m3[i] * prep.rt).max(0.0);
                     }
-                    points.push(fit_temperature(scratch, settings.virial).ok()?);
+                    match fit_temperature(scratch, settings.virial) {
+                        Ok(fit) => points.push(fit),
+                        Err(_) => {
+                            progress.advance(1);
+                            return None;
+                        }
+                    }
                 }
+                progress.advance(1);
                 line_theta(&a2_points(&points), settings.confidence)
             },
         )

@@ -1,0 +1,180 @@
+//! Fuzzing the reader and the whole analyze path with proptest (cargo fuzz needs a nightly
+//! toolchain, which this project does not use): arbitrary bytes, and structure-aware mutations
+//! of a valid file. Whatever the input, the pipeline returns a result or a refusal, never a
+//! panic. `PROPTEST_CASES` sets the number of cases (a short run by default; the closing note
+//! of the hardening work gives the long runs).
+
+use proptest::prelude::*;
+use thetaseek::analysis::{analyze, Settings};
+use thetaseek::dataset::Dataset;
+use thetaseek::input::{read_file, read_solvents, ReadOptions};
+use thetaseek::report::{render_terminal, table_csv, to_json, Report, ReportSettings};
+use thetaseek::theta::{Quantity, ThetaSettings};
+
+fn config() -> ProptestConfig {
+    let cases = std::env::var("PROPTEST_CASES").ok().and_then(|v| v.parse().ok()).unwrap_or(200);
+    ProptestConfig { cases, failure_persistence: None, ..ProptestConfig::default() }
+}
+
+/// Everything `thetaseek analyze` does after reading the file, in memory.
+fn pipeline(bytes: &[u8]) {
+    let Ok(contents) = read_file(
+        "fuzz.csv",
+        0,
+        bytes,
+        &ReadOptions { solvent_density_kg_per_m3: Some(870.0), ..ReadOptions::default() },
+    ) else {
+        return;
+    };
+    let (a2, chi): (Vec<_>, Vec<_>) = match contents.quantity {
+        Some(Quantity::SecondVirial) => (contents.tabulated.clone(), Vec::new()),
+        Some(Quantity::HalfMinusChi) => (Vec::new(), contents.tabulated.clone()),
+        None => (Vec::new(), Vec::new()),
+    };
+    let dataset = Dataset::new(&contents.measurements, &a2, &chi, &contents.volumes, &contents.solvents);
+    let settings = Settings {
+        theta: ThetaSettings { bootstrap_replicates: 10, ..ThetaSettings::default() },
+        ..Settings::default()
+    };
+    let results = analyze(&dataset.series, &dataset.tabulated, &settings);
+    let report = Report::new(Vec::new(), ReportSettings::new("auto"), Vec::new(), &results, &dataset);
+    let _ = to_json(&report);
+    let _ = table_csv(&report);
+    let _ = render_terminal(&report);
+    let _ = thetaseek::plot::figures_for_report(&report);
+}
+
+const VALID: &str = "# a comment\n\
+series,temperature (C),concentration (g/L),pressure (Pa),pressure sd (Pa)\n\
+a,20,2,24.8,0.4\na,20,4,46.9,0.4\na,20,6,66.9,0.5\na,20,8,84.2,0.6\n\
+a,35,2,26.2,0.4\na,35,4,52.4,0.4\na,35,6,78.4,0.5\na,35,8,104.5,0.6\n\
+a,50,2,27.7,0.4\na,50,4,56.5,0.4\na,50,6,86.4,0.5\na,50,8,117.6,0.6\n\
+b,20,2,25.1,0.4\nb,20,4,49.0,0.4\nb,20,6,73.1,0.5\nb,20,8,96.9,0.6\n\
+b,35,2,26.9,0.4\nb,35,4,55.1,0.4\nb,35,6,84.6,0.5\nb,35,8,115.0,0.6\n";
+
+const TOKENS: &[&str] = &[
+    "1e-320", "1,5", "NaN", "inf", "-0", "", "   ", "1e308", "\"2\"", "0x1A", "1_000", "٣", "-1", "0", "1e-300", "\"",
+    "#", "\u{feff}", "2.5e", "+3", ".5", "5.", "K", "(C)", "[g/L]",
+];
+
+#[derive(Debug, Clone)]
+enum Mutation {
+    SwapColumns(usize, usize),
+    StrayQuote(usize),
+    ReplaceField(usize, usize, usize),
+    Bom,
+    LongField(usize, usize),
+    DeleteLine(usize),
+    DuplicateLine(usize),
+    Crlf,
+    HeaderUnit(usize, usize),
+    FlipByte(usize, u8),
+}
+
+fn mutation() -> impl Strategy<Value = Mutation> {
+    prop_oneof![
+        (0usize..5, 0usize..5).prop_map(|(a, b)| Mutation::SwapColumns(a, b)),
+        (0usize..2000).prop_map(Mutation::StrayQuote),
+        (0usize..30, 0usize..5, 0usize..TOKENS.len()).prop_map(|(l, f, t)| Mutation::ReplaceField(l, f, t)),
+        Just(Mutation::Bom),
+        (0usize..30, 1usize..200_000).prop_map(|(l, n)| Mutation::LongField(l, n)),
+        (0usize..30).prop_map(Mutation::DeleteLine),
+        (0usize..30).prop_map(Mutation::DuplicateLine),
+        Just(Mutation::Crlf),
+        (0usize..5, 0usize..TOKENS.len()).prop_map(|(f, t)| Mutation::HeaderUnit(f, t)),
+        (0usize..2000, any::<u8>()).prop_map(|(i, b)| Mutation::FlipByte(i, b)),
+    ]
+}
+
+fn apply(text: &mut Vec<u8>, m: &Mutation) {
+    let as_lines = |t: &[u8]| -> Vec<String> { String::from_utf8_lossy(t).split('\n').map(str::to_string).collect() };
+    match *m {
+        Mutation::SwapColumns(a, b) => {
+            let lines: Vec<String> = as_lines(text)
+                .into_iter()
+                .map(|l| {
+                    let mut f: Vec<&str> = l.split(',').collect();
+                    if a < f.len() && b < f.len() {
+                        f.swap(a, b);
+                    }
+                    f.join(",")
+                })
+                .collect();
+            *text = lines.join("\n").into_bytes();
+        }
+        Mutation::StrayQuote(i) => {
+            let i = i % (text.len() + 1);
+            text.insert(i, b'"');
+        }
+        Mutation::ReplaceField(l, f, t) => {
+            let mut lines = as_lines(text);
+            let k = l % lines.len().max(1);
+            if let Some(line) = lines.get_mut(k) {
+                let mut fields: Vec<String> = line.split(',').map(str::to_string).collect();
+                let n = fields.len();
+                fields[f % n] = TOKENS[t].to_string();
+                *line = fields.join(",");
+            }
+            *text = lines.join("\n").into_bytes();
+        }
+        Mutation::Bom => text.splice(0..0, [0xef, 0xbb, 0xbf]).for_each(drop),
+        Mutation::LongField(l, n) => {
+            let mut lines = as_lines(text);
+            let k = l % lines.len().max(1);
+            lines[k].push_str(&"7".repeat(n));
+            *text = lines.join("\n").into_bytes();
+        }
+        Mutation::DeleteLine(l) => {
+            let mut lines = as_lines(text);
+            if !lines.is_empty() {
+                lines.remove(l % lines.len());
+            }
+            *text = lines.join("\n").into_bytes();
+        }
+        Mutation::DuplicateLine(l) => {
+            let mut lines = as_lines(text);
+            if !lines.is_empty() {
+                let k = l % lines.len();
+                lines.insert(k, lines[k].clone());
+            }
+            *text = lines.join("\n").into_bytes();
+        }
+        Mutation::Crlf => *text = String::from_utf8_lossy(text).replace('\n', "\r\n").into_bytes(),
+        Mutation::HeaderUnit(f, t) => {
+            let mut lines = as_lines(text);
+            if lines.len() > 1 {
+                let mut fields: Vec<String> = lines[1].split(',').map(str::to_string).collect();
+                let n = fields.len();
+                let name = fields[f % n].split(['(', '[']).next().unwrap_or("").trim().to_string();
+                fields[f % n] = format!("{name} ({})", TOKENS[t]);
+                lines[1] = fields.join(",");
+            }
+            *text = lines.join("\n").into_bytes();
+        }
+        Mutation::FlipByte(i, b) => {
+            if !text.is_empty() {
+                let k = i % text.len();
+                text[k] = b;
+            }
+        }
+    }
+}
+
+proptest! {
+    #![proptest_config(config())]
+
+    #[test]
+    fn arbitrary_bytes_never_panic(bytes in proptest::collection::vec(any::<u8>(), 0..4096)) {
+        pipeline(&bytes);
+        let _ = read_solvents("fuzz.csv", &bytes);
+    }
+
+    #[test]
+    fn mutated_valid_files_never_panic(mutations in proptest::collection::vec(mutation(), 1..5)) {
+        let mut text = VALID.as_bytes().to_vec();
+        for m in &mutations {
+            apply(&mut text, m);
+        }
+        pipeline(&text);
+    }
+}
