@@ -83,6 +83,10 @@ pub struct PlanArgs {
     #[arg(long, value_name = "PATH")]
     pub figure: Option<PathBuf>,
 
+    /// Write one self-contained HTML plan here (figure inline, cautions included).
+    #[arg(long, value_name = "PATH")]
+    pub html: Option<PathBuf>,
+
     #[command(flatten)]
     pub read: ReadArgs,
 
@@ -145,6 +149,10 @@ pub struct AnalyzeArgs {
     /// Write the per-temperature results as CSV here ('-' for standard output).
     #[arg(long, value_name = "PATH")]
     pub table: Option<String>,
+
+    /// Write one self-contained HTML report here (figures inline, no network needed).
+    #[arg(long, value_name = "PATH")]
+    pub html: Option<std::path::PathBuf>,
 
     /// Write SVG figures into this folder (created if missing).
     #[arg(long, value_name = "DIR")]

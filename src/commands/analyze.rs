@@ -56,13 +56,16 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
         let bytes = report::table_csv(&report).map_err(|e| Error::Setting(format!("cannot render the table: {e}")))?;
         outputs.push(PendingOutput { destination: Destination::parse(path), bytes });
     }
+    let figures = if args.figures.is_some() || args.html.is_some() {
+        plot::figures_for_report(&report).map_err(|e| Error::Setting(e.to_string()))?
+    } else {
+        Vec::new()
+    };
+    if let Some(path) = &args.html {
+        let html = report::html::analyze_html(&report, &figures, &report::html::report_date());
+        outputs.push(PendingOutput { destination: Destination::File(path.clone()), bytes: html.into_bytes() });
+    }
     if let Some(dir) = &args.figures {
-        let figures = plot::figures_for_report(&report).map_err(|e| Error::Setting(e.to_string()))?;
-        std::fs::create_dir_all(dir).map_err(|source| Error::Io {
-            action: "cannot create",
-            path: dir.clone(),
-            source,
-        })?;
         for figure in figures {
             outputs.push(PendingOutput {
                 destination: Destination::File(dir.join(figure.file_name)),
@@ -74,6 +77,14 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
         return Err(Error::Setting("only one of --report and --table can go to standard output ('-')".into()));
     }
     check_outputs(&outputs, &args.files)?;
+    // The figures folder is made only once every check has passed.
+    if let Some(dir) = &args.figures {
+        std::fs::create_dir_all(dir).map_err(|source| Error::Io {
+            action: "cannot create",
+            path: dir.clone(),
+            source,
+        })?;
+    }
     let stdout_taken = outputs.iter().any(|o| o.destination == Destination::Stdout);
     write_outputs(outputs)?;
     if !args.quiet {

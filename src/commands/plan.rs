@@ -69,10 +69,19 @@ pub fn run(args: &PlanArgs) -> Result<(), Error> {
     if let Some(path) = &args.report {
         outputs.push(PendingOutput { destination: Destination::parse(path), bytes: report::to_json(&plan_report) });
     }
-    if let Some(path) = &args.figure {
-        let svg =
+    let svg = if args.figure.is_some() || args.html.is_some() {
+        Some(
             plot::render_svg(1000, 640, |root| plot::draw_plan(root, &series, &solvents, &plan_report.plan, &settings))
-                .map_err(|e| Error::Setting(e.to_string()))?;
+                .map_err(|e| Error::Setting(e.to_string()))?,
+        )
+    } else {
+        None
+    };
+    if let Some(path) = &args.html {
+        let html = report::html::plan_html(&plan_report, svg.as_deref(), &report::html::report_date());
+        outputs.push(PendingOutput { destination: Destination::File(path.clone()), bytes: html.into_bytes() });
+    }
+    if let (Some(path), Some(svg)) = (&args.figure, svg) {
         outputs.push(PendingOutput { destination: Destination::File(path.clone()), bytes: svg.into_bytes() });
     }
     let mut all_inputs = args.inputs.clone();

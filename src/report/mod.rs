@@ -1,6 +1,7 @@
 //! The report: one struct tree that *is* the JSON schema (every field carries its unit in
 //! its name), built from the analysis results, plus the CSV table and the terminal table.
 
+pub mod html;
 pub mod plan;
 mod table;
 mod terminal;
