@@ -32,6 +32,10 @@ pub const PLAUSIBLE_CELSIUS_MAX: f64 = 200.0;
 /// a few thousandths of a g/mL.
 pub const PLAUSIBLE_G_PER_ML_MAX: f64 = 0.5;
 
+/// No polymer solution holds more than about its own density of polymer (≈ 1–1.5 g/mL);
+/// above 2 g/mL (2000 kg/m³) a concentration is a slip, and it would overflow the arithmetic.
+pub const MAX_CONCENTRATION_KG_PER_M3: f64 = 2000.0;
+
 /// Settings that supply what a file's header leaves out.
 #[derive(Debug, Clone, Default, PartialEq)]
 pub struct ReadOptions {
@@ -670,13 +674,23 @@ fn read_osmometry(table: &Table, options: &ReadOptions) -> Result<FileContents, 
         measurements.push(Measurement {
             series: table.series(row)?,
             temperature_k: temperatures[row],
-            concentration_kg_per_m3: table.checked(
-                c_col,
-                row,
-                |x| c_unit.to_si(x),
-                false,
-                "a concentration must be greater than zero",
-            )?,
+            concentration_kg_per_m3: {
+                let c = table.checked(
+                    c_col,
+                    row,
+                    |x| c_unit.to_si(x),
+                    false,
+                    "a concentration must be greater than zero",
+                )?;
+                if c > MAX_CONCENTRATION_KG_PER_M3 {
+                    return Err(table.refuse(
+                        c_col,
+                        row,
+                        "above 2 g/mL this is not a solution: check the value and its unit",
+                    ));
+                }
+                c
+            },
             pressure_pa,
             pressure_sd_pa,
             origin: Origin { file: table.file_index, line: table.line(row) },

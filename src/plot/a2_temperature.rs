@@ -2,7 +2,7 @@
 //! confidence band (dashed where it extrapolates), the A2 = 0 line, θ with its interval
 //! shaded, and a second axis in °C.
 
-use super::format::{power_of_ten, superscript, tick};
+use super::format::{axis, power_of_ten, superscript, tick};
 use super::{marker_element, series_colour, series_marker, FigureError, GREY, INK};
 use crate::report::{LineReport, SeriesReport, ThetaReport};
 use crate::theta::Quantity;
@@ -76,6 +76,8 @@ pub fn draw_a2_temperature(
     let y_pad = ((y_max - y_min) * 0.08).max(1e-12);
     let (y_lo, y_hi) = (y_min - y_pad, y_max + y_pad);
 
+    let (x_lo, x_hi) = axis(x_lo, x_hi);
+    let (y_lo, y_hi) = axis(y_lo, y_hi);
     let mut chart = ChartBuilder::on(root)
         .caption(format!("A2 against temperature: {}", s.name), ("sans-serif", 22).into_font().color(&INK))
         .margin(16)
@@ -229,6 +231,8 @@ pub fn draw_a2_overlay(
     let (y_min, y_max) = ys.iter().fold((0.0f64, 0.0f64), |(a, b), v| (a.min(*v * scale), b.max(*v * scale)));
     let pad = ((y_max - y_min) * 0.1).max(1e-12);
     let (y_lo, y_hi) = (y_min - pad, y_max + pad);
+    let x = axis(x.0, x.1);
+    let (y_lo, y_hi) = axis(y_lo, y_hi);
     let mut chart = ChartBuilder::on(root)
         .caption("A2 against temperature, all series", ("sans-serif", 22).into_font().color(&INK))
         .margin(16)

@@ -15,6 +15,27 @@ pub fn power_of_ten(max_abs: f64) -> i32 {
     }
 }
 
+/// A drawable axis range from any two numbers: non-finite ends become a default, ends too close
+/// to tell apart at f64 precision are spread, and magnitudes are kept below 10³⁰⁰. Plotters
+/// loops forever placing ticks on an empty or non-finite range, so every chart passes its
+/// ranges through here.
+pub fn axis(lo: f64, hi: f64) -> (f64, f64) {
+    const LIMIT: f64 = 1e300;
+    let (lo, hi) = match (lo.is_finite(), hi.is_finite()) {
+        (true, true) => (lo.min(hi).clamp(-LIMIT, LIMIT), hi.max(lo).clamp(-LIMIT, LIMIT)),
+        (true, false) => (lo.clamp(-LIMIT, LIMIT), lo.clamp(-LIMIT, LIMIT)),
+        (false, true) => (hi.clamp(-LIMIT, LIMIT), hi.clamp(-LIMIT, LIMIT)),
+        (false, false) => (0.0, 1.0),
+    };
+    let mid = 0.5 * lo + 0.5 * hi;
+    let min_width = (mid.abs() * 1e-9).max(1e-12);
+    if hi - lo >= min_width {
+        (lo, hi)
+    } else {
+        (mid - min_width.max(mid.abs() * 0.05), mid + min_width.max(mid.abs() * 0.05))
+    }
+}
+
 /// 10^e written with superscript digits, e.g. "10⁻⁴".
 pub fn superscript(e: i32) -> String {
     let digits: String = e
@@ -62,5 +83,11 @@ mod tests {
         assert_eq!(tick(0.30000000000000004, 1.0), "0.3");
         assert_eq!(tick(-0.0001, 1.0), "0.0");
         assert_eq!(tick(305.0, 40.0), "305");
+        assert_eq!(axis(f64::NAN, f64::INFINITY), (0.0, 1.0));
+        let (lo, hi) = axis(1e10, 1e10);
+        assert!(hi > lo && hi - lo > 1e8);
+        let (lo, hi) = axis(0.0, 0.0);
+        assert!(hi > lo);
+        assert_eq!(axis(2.0, 1.0), (1.0, 2.0));
     }
 }

@@ -1,7 +1,7 @@
 //! Mn at each temperature with the weighted mean and its ±1 SE band: the consistency check
 //! (a drift hints at association near θ or at membrane leakage).
 
-use super::format::tick;
+use super::format::{axis, tick};
 use super::{marker_element, series_colour, series_marker, FigureError, GREY, INK};
 use crate::report::SeriesReport;
 use plotters::coord::Shift;
@@ -19,6 +19,8 @@ pub fn draw_mn(root: &DrawingArea<SVGBackend, Shift>, s: &SeriesReport, index: u
         pts.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), p| (a.min(p.1 - p.2), b.max(p.1 + p.2)));
     let y_pad = ((y_max - y_min) * 0.25).max(y_max.abs() * 0.005).max(1e-9);
     let (y_lo, y_hi) = (y_min - y_pad, y_max + y_pad * 1.6);
+    let (x_lo, x_hi) = axis(x_lo, x_hi);
+    let (y_lo, y_hi) = axis(y_lo, y_hi);
     let mut chart = ChartBuilder::on(root)
         .caption(format!("Mn at each temperature: {}", s.name), ("sans-serif", 22).into_font().color(&INK))
         .margin(16)

@@ -2,7 +2,7 @@
 //! axis: the reduced osmotic pressure Π/(cRT) with its fitted virial curve and the intercept
 //! 1/Mn, and the studentised residuals of the same fits.
 
-use super::format::{power_of_ten, superscript, tick};
+use super::format::{axis, power_of_ten, superscript, tick};
 use super::{marker_element, FigureError, Marker, GREY, INK, PALETTE};
 use crate::report::{plus_minus, FitReport, SeriesReport};
 use crate::units::CELSIUS_OFFSET_K;
@@ -56,7 +56,7 @@ fn layout<'a>(
 
 fn concentration_range(s: &SeriesReport) -> (f64, f64) {
     let c_max = s.fits.iter().flat_map(|f| f.points.iter().map(|p| p.concentration_g_per_ml)).fold(0.0, f64::max);
-    (0.0, c_max * 1.08)
+    axis(0.0, c_max * 1.08)
 }
 
 /// Reduced-pressure panels of one series.
@@ -76,7 +76,7 @@ pub fn draw_reduced_pressure(root: &DrawingArea<SVGBackend, Shift>, s: &SeriesRe
         ys.extend((0..=20).map(|i| fitted(f, c_hi * i as f64 / 20.0) * scale));
         let (lo, hi) = ys.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), v| (a.min(*v), b.max(*v)));
         let pad = ((hi - lo) * 0.15).max(hi.abs() * 0.01).max(1e-12);
-        let (y_lo, y_hi) = (lo - pad, hi + pad * 1.8);
+        let (y_lo, y_hi) = axis(lo - pad, hi + pad * 1.8);
         let mut chart = ChartBuilder::on(area)
             .margin_left(16)
             .margin_right(24)
@@ -148,7 +148,7 @@ pub fn draw_residuals(root: &DrawingArea<SVGBackend, Shift>, s: &SeriesReport) -
                 p.studentized_residual.filter(|v| v.is_finite()).map(|v| (p.concentration_g_per_ml * c_scale, v))
             })
             .collect();
-        let m = r.iter().fold(3.5f64, |m, (_, v)| m.max(v.abs() * 1.1));
+        let m = axis(-3.5, r.iter().fold(3.5f64, |m, (_, v)| m.max(v.abs() * 1.1))).1;
         let mut chart = ChartBuilder::on(area)
             .margin_left(16)
             .margin_right(24)

@@ -2,7 +2,7 @@
 //! each solvent's usable liquid range (melting point + margin to boiling point − margin), so the
 //! choice can be seen.
 
-use super::format::{power_of_ten, superscript, tick};
+use super::format::{axis, power_of_ten, superscript, tick};
 use super::{marker_element, series_colour, series_marker, FigureError, GREY, INK};
 use crate::input::SolventProperties;
 use crate::plan::{Plan, PlanSeries, PlanSettings, BOILING_MARGIN_K, MELTING_MARGIN_K};
@@ -54,6 +54,8 @@ pub fn draw_plan(
     // Room below the curves for one liquid-range bar per solvent.
     let bars = series.len() as f64;
     let (y_lo, y_hi) = (y_min - span * (0.1 + 0.08 * bars), y_max + span * 0.1);
+    let (lo, hi) = axis(lo, hi);
+    let (y_lo, y_hi) = axis(y_lo, y_hi);
     let mut chart = ChartBuilder::on(root)
         .caption("Choosing the solvent and the temperature", ("sans-serif", 22).into_font().color(&INK))
         .margin(16)

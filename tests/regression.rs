@@ -1,0 +1,55 @@
+//! One test per bug found, named after it.
+
+use std::sync::mpsc;
+use std::time::Duration;
+use thetaseek::analysis::{analyze, Settings};
+use thetaseek::dataset::Dataset;
+use thetaseek::input::{read_file, ReadOptions};
+use thetaseek::report::{Report, ReportSettings};
+use thetaseek::theta::{Quantity, ThetaSettings};
+
+/// Runs `f` on a thread and fails if it has not finished in `seconds`.
+fn within<T: Send + 'static>(seconds: u64, f: impl FnOnce() -> T + Send + 'static) -> T {
+    let (tx, rx) = mpsc::channel();
+    std::thread::spawn(move || {
+        let _ = tx.send(f());
+    });
+    rx.recv_timeout(Duration::from_secs(seconds)).expect("finished in time (it used to hang)")
+}
+
+fn figures_of(text: &'static str) -> usize {
+    within(60, move || {
+        let Ok(contents) = read_file("r.csv", 0, text.as_bytes(), &ReadOptions::default()) else { return 0 };
+        let (a2, chi) = match contents.quantity {
+            Some(Quantity::SecondVirial) => (contents.tabulated.clone(), Vec::new()),
+            Some(Quantity::HalfMinusChi) => (Vec::new(), contents.tabulated.clone()),
+            None => (Vec::new(), Vec::new()),
+        };
+        let dataset = Dataset::new(&contents.measurements, &a2, &chi, &[], &[]);
+        let settings = Settings {
+            theta: ThetaSettings { bootstrap_replicates: 0, ..ThetaSettings::default() },
+            ..Settings::default()
+        };
+        let results = analyze(&dataset.series, &dataset.tabulated, &settings);
+        let report = Report::new(Vec::new(), ReportSettings::new("auto"), Vec::new(), &results, &dataset);
+        thetaseek::plot::figures_for_report(&report).map_or(0, |f| f.len())
+    })
+}
+
+#[test]
+fn fuzz_found_figures_hung_on_an_infinite_concentration_axis() {
+    // Found by tests/fuzz.rs: a concentration of 1e308 g/L made the axis end infinite, and
+    // plotters looped forever placing ticks. Such a value is now refused, and every axis range
+    // is made finite and non-empty before drawing.
+    let text = "series,temperature (C),concentration (g/L),pressure (Pa)\n\
+        a,20,2,24.8\na,20,4,46.9\na,20,1e308,66.9\na,35,2,26.2\na,35,4,52.4\na,35,6,78.4\n";
+    assert_eq!(figures_of(text), 0);
+}
+
+#[test]
+fn figures_of_extreme_but_accepted_values_finish() {
+    // A2 values spanning 300 orders of magnitude, and a flat series: axes must still be drawable.
+    let text = "series,temperature (K),a2 (mol mL/g2)\n\
+        wild,290,-1e-300\nwild,300,1e290\nwild,310,1e-4\nflat,290,0\nflat,300,0\nflat,310,0\n";
+    assert!(figures_of(text) >= 1);
+}
