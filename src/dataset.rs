@@ -16,8 +16,9 @@ pub struct Origin {
 /// One osmotic-pressure reading.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Measurement {
-    /// Series (polymer–solvent pair or sample) the reading belongs to.
-    pub series: String,
+    /// Series (polymer–solvent pair or sample) the reading belongs to; shared between the rows
+    /// of a series so that reading a campaign does not allocate a name per row.
+    pub series: std::sync::Arc<str>,
     /// Temperature T in K.
     pub temperature_k: f64,
     /// Polymer mass concentration c in kg/m³.
@@ -165,8 +166,8 @@ pub fn group(measurements: &[Measurement]) -> Vec<Series> {
     let mut order: Vec<&str> = Vec::new();
     let mut by_series: HashMap<&str, HashMap<i64, TemperatureSet>> = HashMap::new();
     for m in measurements {
-        let sets = by_series.entry(m.series.as_str()).or_insert_with(|| {
-            order.push(m.series.as_str());
+        let sets = by_series.entry(&m.series).or_insert_with(|| {
+            order.push(&m.series);
             HashMap::new()
         });
         let key = (m.temperature_k / TEMPERATURE_GROUPING_K).round() as i64;

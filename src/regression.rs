@@ -1,11 +1,9 @@
-//! Weighted linear least squares, solved by Householder QR of the weighted design matrix
-//! (never the normal equations, which square the condition number).
+//! Weighted linear least squares, solved by a QR factorisation of the weighted design matrix
+//! built with Givens rotations (never the normal equations, which square the condition number).
 //!
 //! Model: y = X β + ε, Var(ε_i) = σ² / w_i. With W^½ X = Q R,
 //! β̂ = R⁻¹ Qᵀ W^½ y and Cov(β̂) = s² (RᵀR)⁻¹, where s² = RSS_w / (n − p) when the weights
 //! are relative, or s² = 1 when they are absolute (w_i = 1/σ_i² with σ_i known).
-
-use nalgebra::{DMatrix, DVector};
 
 /// How to read the weights.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -48,7 +46,7 @@ pub struct LinearFit {
     pub residuals: Vec<f64>,
     /// Fitted values x_iᵀβ̂.
     pub fitted: Vec<f64>,
-    /// Leverages h_ii (diagonal of the weighted hat matrix), from ‖row i of Q‖².
+    /// Leverages h_ii (diagonal of the weighted hat matrix), ‖R⁻ᵀ x_i‖².
     pub leverage: Vec<f64>,
     /// Internally studentised residuals √w_i e_i / (s √(1 − h_ii)); NaN where h_ii = 1.
     pub studentized: Vec<f64>,
@@ -70,73 +68,177 @@ impl LinearFit {
     }
 }
 
+/// Most parameters [`fit`] takes (the per-temperature forms have 2 or 3, the joint fit a few).
+pub const MAX_PARAMETERS: usize = 8;
+
+/// The triangular factor of a QR decomposition built one row at a time by Givens rotations:
+/// R (p×p, upper) and Qᵀy, on the stack (Golub & Van Loan 2013, "Matrix Computations", §5.1.8
+/// and §6.5.2). Orthogonal like Householder QR, and no n×p matrix is ever stored.
+#[derive(Debug, Clone, Copy)]
+pub struct GivensQr {
+    p: usize,
+    r: [[f64; MAX_PARAMETERS]; MAX_PARAMETERS],
+    qty: [f64; MAX_PARAMETERS],
+}
+
+// Triangular solves read best with explicit indices.
+#[allow(clippy::needless_range_loop)]
+impl GivensQr {
+    /// An empty factorisation for `p` ≤ [`MAX_PARAMETERS`] columns.
+    pub fn new(p: usize) -> Self {
+        assert!(p <= MAX_PARAMETERS, "at most {MAX_PARAMETERS} parameters");
+        GivensQr { p, r: [[0.0; MAX_PARAMETERS]; MAX_PARAMETERS], qty: [0.0; MAX_PARAMETERS] }
+    }
+
+    /// Rotates one row (x, z) of the system X β ≈ y into R and Qᵀy.
+    pub fn add_row(&mut self, x: &[f64], mut z: f64) {
+        let mut row = [0.0; MAX_PARAMETERS];
+        row[..self.p].copy_from_slice(&x[..self.p]);
+        for k in 0..self.p {
+            let xk = row[k];
+            if xk == 0.0 {
+                continue;
+            }
+            let rkk = self.r[k][k];
+            if rkk == 0.0 {
+                self.r[k][k..self.p].copy_from_slice(&row[k..self.p]);
+                self.qty[k] = z;
+                return;
+            }
+            let h = rkk.hypot(xk);
+            let (c, s) = (rkk / h, xk / h);
+            for j in k..self.p {
+                let (a, b) = (self.r[k][j], row[j]);
+                self.r[k][j] = c * a + s * b;
+                row[j] = -s * a + c * b;
+            }
+            let q = self.qty[k];
+            self.qty[k] = c * q + s * z;
+            z = -s * q + c * z;
+        }
+    }
+
+    /// Diagonal of R.
+    pub fn diagonal(&self, k: usize) -> f64 {
+        self.r[k][k]
+    }
+
+    /// Solves R β = Qᵀy.
+    pub fn solve(&self) -> [f64; MAX_PARAMETERS] {
+        let mut beta = [0.0; MAX_PARAMETERS];
+        for i in (0..self.p).rev() {
+            let tail: f64 = (i + 1..self.p).map(|j| self.r[i][j] * beta[j]).sum();
+            beta[i] = (self.qty[i] - tail) / self.r[i][i];
+        }
+        beta
+    }
+
+    /// (RᵀR)⁻¹ = R⁻¹R⁻ᵀ, row-major p×p.
+    pub fn inverse_gram(&self) -> [[f64; MAX_PARAMETERS]; MAX_PARAMETERS] {
+        let p = self.p;
+        // R⁻¹ column by column (upper triangular).
+        let mut inv = [[0.0; MAX_PARAMETERS]; MAX_PARAMETERS];
+        for col in 0..p {
+            for i in (0..=col).rev() {
+                let unit = if i == col { 1.0 } else { 0.0 };
+                let tail: f64 = (i + 1..=col).map(|j| self.r[i][j] * inv[j][col]).sum();
+                inv[i][col] = (unit - tail) / self.r[i][i];
+            }
+        }
+        let mut out = [[0.0; MAX_PARAMETERS]; MAX_PARAMETERS];
+        for i in 0..p {
+            for j in 0..p {
+                out[i][j] = (i.max(j)..p).map(|k| inv[i][k] * inv[j][k]).sum();
+            }
+        }
+        out
+    }
+
+    /// ‖R⁻ᵀ x‖², the leverage of a row x of the (scaled) design.
+    pub fn leverage(&self, x: &[f64]) -> f64 {
+        let mut v = [0.0; MAX_PARAMETERS];
+        for i in 0..self.p {
+            let head: f64 = (0..i).map(|k| self.r[k][i] * v[k]).sum();
+            v[i] = (x[i] - head) / self.r[i][i];
+        }
+        v[..self.p].iter().map(|a| a * a).sum()
+    }
+}
+
 /// Fits y = X β by weighted least squares. `design` holds n rows of p columns (row-major);
 /// `weights` are w_i (all one when `None`).
 pub fn fit(design: &[f64], p: usize, y: &[f64], weights: Option<&[f64]>, kind: Weights) -> Result<LinearFit, FitError> {
     let n = y.len();
     assert_eq!(design.len(), n * p, "design must have n·p entries");
+    assert!(p <= MAX_PARAMETERS, "at most {MAX_PARAMETERS} parameters");
     if n < p {
         return Err(FitError::TooFewPoints { points: n, parameters: p });
     }
-    let w: Vec<f64> = match weights {
-        Some(w) => {
-            if w.iter().any(|v| !(v.is_finite() && *v > 0.0)) {
-                return Err(FitError::BadWeight);
-            }
-            w.to_vec()
+    if let Some(w) = weights {
+        if w.len() != n || w.iter().any(|v| !(v.is_finite() && *v > 0.0)) {
+            return Err(FitError::BadWeight);
         }
-        None => vec![1.0; n],
-    };
-    let sqrt_w: Vec<f64> = w.iter().map(|v| v.sqrt()).collect();
-    let xw = DMatrix::from_fn(n, p, |i, j| design[i * p + j] * sqrt_w[i]);
-    let yw = DVector::from_fn(n, |i, _| y[i] * sqrt_w[i]);
-
-    // Scale each column to unit norm first, so that the rank test is relative and
+    }
+    let w = |i: usize| weights.map_or(1.0, |w| w[i]);
+    // Scale each weighted column to unit norm first, so that the rank test is relative and
     // columns of very different size (1, c, c²) do not trip it.
-    let scale: Vec<f64> = (0..p).map(|j| xw.column(j).norm()).collect();
-    if scale.iter().any(|s| !(s.is_finite() && *s > 0.0)) {
-        return Err(FitError::RankDeficient);
+    let mut scale = [0.0; MAX_PARAMETERS];
+    for i in 0..n {
+        for j in 0..p {
+            scale[j] += w(i) * design[i * p + j] * design[i * p + j];
+        }
     }
-    let xs = DMatrix::from_fn(n, p, |i, j| xw[(i, j)] / scale[j]);
-    let qr = xs.qr();
-    let q = qr.q();
-    let r = qr.r();
+    for s in scale.iter_mut().take(p) {
+        *s = s.sqrt();
+        if !(s.is_finite() && *s > 0.0) {
+            return Err(FitError::RankDeficient);
+        }
+    }
+    let scaled_row = |i: usize| -> [f64; MAX_PARAMETERS] {
+        let sw = w(i).sqrt();
+        let mut x = [0.0; MAX_PARAMETERS];
+        for j in 0..p {
+            x[j] = design[i * p + j] * sw / scale[j];
+        }
+        x
+    };
+    let mut qr = GivensQr::new(p);
+    for (i, &yi) in y.iter().enumerate() {
+        qr.add_row(&scaled_row(i), yi * w(i).sqrt());
+    }
     let tolerance = (n.max(p) as f64) * f64::EPSILON * 16.0;
-    if (0..p).any(|j| r[(j, j)].abs() <= tolerance) {
+    if (0..p).any(|j| !(qr.diagonal(j).abs() > tolerance)) {
         return Err(FitError::RankDeficient);
     }
-    let qty = q.transpose() * &yw;
-    let beta_scaled = r.solve_upper_triangular(&qty).ok_or(FitError::RankDeficient)?;
-    let r_inv = r.solve_upper_triangular(&DMatrix::identity(p, p)).ok_or(FitError::RankDeficient)?;
-    let unscaled_cov = &r_inv * r_inv.transpose();
+    let beta_scaled = qr.solve();
+    let gram = qr.inverse_gram();
 
     let coefficients: Vec<f64> = (0..p).map(|j| beta_scaled[j] / scale[j]).collect();
     let fitted: Vec<f64> = (0..n).map(|i| (0..p).map(|j| design[i * p + j] * coefficients[j]).sum()).collect();
     let residuals: Vec<f64> = y.iter().zip(&fitted).map(|(y, f)| y - f).collect();
-    let rss_weighted: f64 = residuals.iter().zip(&w).map(|(e, w)| w * e * e).sum();
+    let rss_weighted: f64 = residuals.iter().enumerate().map(|(i, e)| w(i) * e * e).sum();
     let dof = n - p;
     let residual_sd = if dof > 0 { (rss_weighted / dof as f64).sqrt() } else { f64::NAN };
     let s2 = match kind {
         Weights::Absolute => 1.0,
         Weights::Relative => residual_sd * residual_sd,
     };
-    let covariance: Vec<f64> =
-        (0..p * p).map(|k| s2 * unscaled_cov[(k / p, k % p)] / (scale[k / p] * scale[k % p])).collect();
+    let covariance: Vec<f64> = (0..p * p).map(|k| s2 * gram[k / p][k % p] / (scale[k / p] * scale[k % p])).collect();
     let standard_errors = (0..p).map(|j| covariance[j * p + j].sqrt()).collect();
-    let leverage: Vec<f64> = (0..n).map(|i| q.row(i).norm_squared()).collect();
+    let leverage: Vec<f64> = (0..n).map(|i| qr.leverage(&scaled_row(i))).collect();
     let studentized = (0..n)
         .map(|i| {
-            let denom = residual_sd * (1.0 - leverage[i]).sqrt();
+            let denom = residual_sd * (1.0 - leverage[i]).max(0.0).sqrt();
             if denom > 0.0 {
-                sqrt_w[i] * residuals[i] / denom
+                w(i).sqrt() * residuals[i] / denom
             } else {
                 f64::NAN
             }
         })
         .collect();
-    let w_sum: f64 = w.iter().sum();
-    let y_mean = y.iter().zip(&w).map(|(y, w)| w * y).sum::<f64>() / w_sum;
-    let tss: f64 = y.iter().zip(&w).map(|(y, w)| w * (y - y_mean).powi(2)).sum();
+    let w_sum: f64 = (0..n).map(w).sum();
+    let y_mean = y.iter().enumerate().map(|(i, y)| w(i) * y).sum::<f64>() / w_sum;
+    let tss: f64 = y.iter().enumerate().map(|(i, y)| w(i) * (y - y_mean).powi(2)).sum();
     let r_squared = if tss > 0.0 { 1.0 - rss_weighted / tss } else { f64::NAN };
     Ok(LinearFit {
         coefficients,

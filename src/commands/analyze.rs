@@ -42,15 +42,16 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
     };
     let report = Report::new(inputs, report_settings, run_warnings, &results, &dataset);
 
-    let terminal = report::render_terminal(&report);
     if results.iter().all(|r| r.status == Status::Refused) {
-        eprint!("{terminal}");
+        if !args.quiet {
+            eprint!("{}", report::render_terminal(&report));
+        }
         return Err(Error::NothingAnalysed(grouped_reasons(&report)));
     }
 
     let mut outputs = Vec::new();
     if let Some(path) = &args.report {
-        outputs.push(PendingOutput { destination: Destination::parse(path), bytes: report::to_json(&report) });
+        outputs.push(PendingOutput { destination: Destination::parse(path), bytes: report::report_json(&report) });
     }
     if let Some(path) = &args.table {
         let bytes = report::table_csv(&report).map_err(|e| Error::Setting(format!("cannot render the table: {e}")))?;
@@ -90,9 +91,9 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
     if !args.quiet {
         // The table goes to stderr when stdout carries the report or the CSV.
         if stdout_taken {
-            eprint!("{terminal}");
+            eprint!("{}", report::render_terminal(&report));
         } else {
-            print!("{terminal}");
+            print!("{}", report::render_terminal(&report));
         }
     }
     Ok(())

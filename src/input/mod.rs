@@ -463,7 +463,7 @@ impl<'a> Table<'a> {
         }
     }
 
-    fn series(&self, row: usize) -> Result<String, InputError> {
+    fn series(&self, row: usize) -> Result<std::borrow::Cow<'_, str>, InputError> {
         match self.column(Role::Series) {
             Some(col) => {
                 let s = self.text(col, row);
@@ -476,12 +476,12 @@ impl<'a> Table<'a> {
                         "the series name is empty",
                     ));
                 }
-                Ok(s.to_string())
+                Ok(s.into())
             }
             // A file of one polymer in several solvents may name only the solvent.
             None => match self.column(Role::Solvent) {
-                Some(col) if !self.text(col, row).is_empty() => Ok(self.text(col, row).to_string()),
-                _ => Ok(file_stem(self.name)),
+                Some(col) if !self.text(col, row).is_empty() => Ok(self.text(col, row).into()),
+                _ => Ok(file_stem(self.name).into()),
             },
         }
     }
@@ -516,7 +516,7 @@ impl<'a> Table<'a> {
         let mut out: Vec<(String, String)> = Vec::new();
         let mut seen: HashMap<String, usize> = HashMap::new();
         for row in self.rows() {
-            let series = self.series(row)?;
+            let series = self.series(row)?.into_owned();
             let solvent = self.text(col, row).to_string();
             if solvent.is_empty() {
                 return Err(InputError::at(
@@ -561,7 +561,7 @@ impl<'a> Table<'a> {
         let mut out: Vec<(String, Volumes)> = Vec::new();
         let mut seen: HashMap<String, usize> = HashMap::new();
         for row in self.rows() {
-            let series = self.series(row)?;
+            let series = self.series(row)?.into_owned();
             let v = Volumes {
                 specific_volume: self.checked(
                     vc,
@@ -645,6 +645,7 @@ fn read_osmometry(table: &Table, options: &ReadOptions) -> Result<FileContents, 
         (None, _) => None,
     };
     let mut measurements = Vec::with_capacity(table.layout.records.len());
+    let mut last_series: Option<std::sync::Arc<str>> = None;
     for row in table.rows() {
         let pressure_pa = match &source {
             Source::Pressure(col, unit) => {
@@ -671,8 +672,15 @@ fn read_osmometry(table: &Table, options: &ReadOptions) -> Result<FileContents, 
             )?),
             _ => None,
         };
+        // Rows of one series usually follow each other: share its name.
+        let name = table.series(row)?;
+        let series = match &last_series {
+            Some(last) if **last == *name => last.clone(),
+            _ => std::sync::Arc::from(name.as_ref()),
+        };
+        last_series = Some(series.clone());
         measurements.push(Measurement {
-            series: table.series(row)?,
+            series,
             temperature_k: temperatures[row],
             concentration_kg_per_m3: {
                 let c = table.checked(
@@ -738,7 +746,7 @@ fn read_tabulated(table: &Table, options: &ReadOptions) -> Result<FileContents, 
             _ => None,
         };
         rows.push(TabulatedRow {
-            series: table.series(row)?,
+            series: table.series(row)?.into_owned(),
             point: TemperaturePoint { temperature_k: temperatures[row], value, se },
             origin: Origin { file: table.file_index, line: table.line(row) },
         });

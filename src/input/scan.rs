@@ -44,18 +44,18 @@ pub fn scan(bytes: &[u8]) -> Option<Layout> {
         if text.first() == Some(&b'#') {
             continue;
         }
-        let fields = split_fields(text);
         match header {
             None => {
                 if text.iter().all(u8::is_ascii_whitespace) {
                     continue;
                 }
-                header = Some((start_line, fields));
+                header = Some((start_line, split_fields(text)));
             }
+            // Data rows are only counted, not copied: this pass runs over every byte.
             Some(_) => records.push(RecordLine {
                 line: start_line,
-                n_fields: fields.len(),
-                blank: fields.iter().all(|f| f.trim().is_empty()),
+                n_fields: count_fields(text),
+                blank: text.iter().all(|b| b.is_ascii_whitespace() || *b == b','),
             }),
         }
     }
@@ -78,6 +78,20 @@ fn record_end(bytes: &[u8], pos: usize) -> (usize, usize, usize) {
         i += 1;
     }
     (bytes.len(), bytes.len(), newlines)
+}
+
+/// Number of comma-separated fields of one record (quotes respected).
+fn count_fields(text: &[u8]) -> usize {
+    let mut in_quotes = false;
+    let mut n = 1;
+    for &b in text {
+        match b {
+            b'"' => in_quotes = !in_quotes,
+            b',' if !in_quotes => n += 1,
+            _ => {}
+        }
+    }
+    n
 }
 
 /// Comma-separated fields of one record, unquoted and trimmed.

@@ -367,3 +367,17 @@ pub fn to_json<T: Serialize>(report: &T) -> Vec<u8> {
     bytes.push(b'\n');
     bytes
 }
+
+/// Above this many series the report is written compact (one line): a campaign's pretty
+/// report is mostly indentation.
+pub const COMPACT_JSON_SERIES: usize = 200;
+
+/// The analysis report as JSON: pretty for a few series, compact for a campaign.
+pub fn report_json(report: &Report) -> Vec<u8> {
+    if report.series.len() <= COMPACT_JSON_SERIES {
+        return to_json(report);
+    }
+    let mut bytes = serde_json::to_vec(report).expect("the report holds only serialisable values");
+    bytes.push(b'\n');
+    bytes
+}

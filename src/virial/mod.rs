@@ -7,7 +7,6 @@ pub use forms::{fit_form, FormError, FormFit, Readings, VirialForm};
 
 use crate::dataset::TemperatureSet;
 use serde::Serialize;
-use statrs::distribution::{ContinuousCDF, StudentsT};
 use std::fmt;
 
 /// How the form is chosen at each temperature.
@@ -294,6 +293,6 @@ fn significant_curvature(readings: &Readings) -> Option<f64> {
     }
     let (a3, se) = fit.a3?;
     let t = a3 / se;
-    let critical = StudentsT::new(0.0, 1.0, dof as f64).ok()?.inverse_cdf(0.975);
+    let critical = crate::uncertainty::critical_value(0.95, Some(dof));
     (t.abs() > critical).then_some(t)
 }

@@ -1,0 +1,28 @@
+#!/usr/bin/env bash
+# End-to-end scale check: writes an invented 20 000-series campaign, times the CSV floor and
+# `thetaseek analyze` on it, and prints their ratio, peak memory and the 1- vs 2-thread bootstrap.
+# Usage: bash scripts/campaign-ratio.sh [SERIES]   (figures go in the notes, not in tests)
+set -euo pipefail
+cd "$(dirname "$0")/.."
+series=${1:-20000}
+work=$(mktemp -d)
+trap 'rm -rf "$work"' EXIT
+cargo build --release --quiet --bin thetaseek --example make-campaign --example csv-floor
+./target/release/examples/make-campaign --series "$series" --out "$work/campaign.csv"
+size_mb=$(du -m "$work/campaign.csv" | cut -f1)
+floor=$(./target/release/examples/csv-floor "$work/campaign.csv" 2>/dev/null)
+start=$(date +%s.%N)
+/usr/bin/time -f "%M" -o "$work/mem" ./target/release/thetaseek analyze "$work/campaign.csv" \
+  --bootstrap 0 --report "$work/r.json" --table "$work/t.csv" -q
+end=$(date +%s.%N)
+analyze=$(awk -v a="$start" -v b="$end" 'BEGIN { print b - a }')
+peak_mb=$(( $(cat "$work/mem") / 1024 ))
+printf 'campaign: %s series, %s MB\n' "$series" "$size_mb"
+printf 'floor (read + parse): %.3f s\nanalyze --bootstrap 0: %.3f s\nratio: %.2f\npeak memory: %s MB (%.1f x input)\n' \
+  "$floor" "$analyze" "$(echo "$analyze / $floor" | bc -l)" "$peak_mb" "$(echo "$peak_mb / $size_mb" | bc -l)"
+for threads in 1 2; do
+  s=$(date +%s.%N)
+  RAYON_NUM_THREADS=$threads ./target/release/thetaseek analyze "$work/campaign.csv" --bootstrap 200 -q
+  e=$(date +%s.%N)
+  printf 'analyze --bootstrap 200, %s thread(s): %.2f s\n' "$threads" "$(echo "$e - $s" | bc -l)"
+done
