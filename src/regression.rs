@@ -207,7 +207,7 @@ pub fn fit(design: &[f64], p: usize, y: &[f64], weights: Option<&[f64]>, kind: W
         qr.add_row(&scaled_row(i), yi * w(i).sqrt());
     }
     let tolerance = (n.max(p) as f64) * f64::EPSILON * 16.0;
-    if (0..p).any(|j| !(qr.diagonal(j).abs() > tolerance)) {
+    if (0..p).any(|j| qr.diagonal(j).is_nan() || qr.diagonal(j).abs() <= tolerance) {
         return Err(FitError::RankDeficient);
     }
     let beta_scaled = qr.solve();
