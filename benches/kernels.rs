@@ -26,7 +26,14 @@ fn series(rng: &mut ChaCha8Rng) -> thetaseek::dataset::Series {
     for t in [290.0, 297.0, 304.0, 311.0, 318.0] {
         let (c, p) = readings(t, flory_krigbaum_a2(t, 302.0, 0.4, 0.9e-3, 100e-6), rng);
         for (c, p) in c.into_iter().zip(p) {
-            rows.push(Measurement { series: "s".into(), temperature_k: t, concentration_kg_per_m3: c, pressure_pa: p, pressure_sd_pa: None, origin: Origin { file: 0, line: 0 } });
+            rows.push(Measurement {
+                series: "s".into(),
+                temperature_k: t,
+                concentration_kg_per_m3: c,
+                pressure_pa: p,
+                pressure_sd_pa: None,
+                origin: Origin { file: 0, line: 0 },
+            });
         }
     }
     group(&rows).remove(0)
@@ -39,17 +46,25 @@ fn per_temperature(c: &mut Criterion) {
     let mut g = c.benchmark_group("per-temperature fit (6 concentrations)");
     g.throughput(Throughput::Elements(1));
     for form in [VirialForm::Linear, VirialForm::Quadratic, VirialForm::Sqrt] {
-        g.bench_with_input(BenchmarkId::new("form", form.name()), &form, |b, &form| b.iter(|| fit_form(form, black_box(&r))));
+        g.bench_with_input(BenchmarkId::new("form", form.name()), &form, |b, &form| {
+            b.iter(|| fit_form(form, black_box(&r)))
+        });
     }
     let s = series(&mut rng);
-    g.bench_function("auto choice with diagnostics", |b| b.iter(|| fit_temperature(black_box(&s.temperatures[3]), FormChoice::Auto)));
+    g.bench_function("auto choice with diagnostics", |b| {
+        b.iter(|| fit_temperature(black_box(&s.temperatures[3]), FormChoice::Auto))
+    });
     g.finish();
 }
 
 fn across_temperatures(c: &mut Criterion) {
     let points: Vec<TemperaturePoint> = [290.0, 297.0, 304.0, 311.0, 318.0, 325.0]
         .iter()
-        .map(|&t| TemperaturePoint { temperature_k: t, value: flory_krigbaum_a2(t, 302.0, 0.4, 0.9e-3, 100e-6) + 1e-6 * (t - 300.0).sin(), se: Some(5e-6) })
+        .map(|&t| TemperaturePoint {
+            temperature_k: t,
+            value: flory_krigbaum_a2(t, 302.0, 0.4, 0.9e-3, 100e-6) + 1e-6 * (t - 300.0).sin(),
+            se: Some(5e-6),
+        })
         .collect();
     let settings = ThetaSettings { bootstrap_replicates: 0, ..ThetaSettings::default() };
     c.bench_function("theta from six A2 values (line, curved, local, Fieller)", |b| {
@@ -58,7 +73,9 @@ fn across_temperatures(c: &mut Criterion) {
     let mut rng = ChaCha8Rng::seed_from_u64(2);
     let s = series(&mut rng);
     let no_boot = Settings { theta: settings, ..Settings::default() };
-    c.bench_function("one series: five temperatures, theta and joint fit", |b| b.iter(|| analyze_series(black_box(&s), &no_boot, 0)));
+    c.bench_function("one series: five temperatures, theta and joint fit", |b| {
+        b.iter(|| analyze_series(black_box(&s), &no_boot, 0))
+    });
     let fits: Vec<_> = s.temperatures.iter().map(|t| fit_temperature(t, FormChoice::Auto).unwrap()).collect();
     let sets: Vec<_> = s.temperatures.iter().collect();
     let fit_refs: Vec<_> = fits.iter().collect();
@@ -80,7 +97,10 @@ fn campaign(c: &mut Criterion) {
             }
         }
     }
-    let settings = Settings { theta: ThetaSettings { bootstrap_replicates: 0, ..ThetaSettings::default() }, ..Settings::default() };
+    let settings = Settings {
+        theta: ThetaSettings { bootstrap_replicates: 0, ..ThetaSettings::default() },
+        ..Settings::default()
+    };
     let mut g = c.benchmark_group("campaign of 1000 series");
     g.sample_size(10);
     g.throughput(Throughput::Elements(1000));

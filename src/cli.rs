@@ -150,6 +150,15 @@ pub struct AnalyzeArgs {
     #[arg(long, value_name = "PATH")]
     pub table: Option<String>,
 
+    /// Write one row per series (θ, interval, crossing, Mn, warnings) as CSV here ('-' for stdout).
+    #[arg(long, value_name = "PATH")]
+    pub series_table: Option<String>,
+
+    /// List only the series that need a look in --series-table (refused, partial, no bracketed θ,
+    /// or with warnings).
+    #[arg(long)]
+    pub needs_attention: bool,
+
     /// Write one self-contained HTML report here (figures inline, no network needed).
     #[arg(long, value_name = "PATH")]
     pub html: Option<std::path::PathBuf>,

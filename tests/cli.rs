@@ -297,3 +297,37 @@ fn a_solvent_column_names_the_series_and_reaches_the_report() {
     assert_eq!(report["series"][0]["name"], "mirane");
     assert_eq!(report["series"][0]["solvent"], "mirane");
 }
+
+#[test]
+fn the_series_table_has_one_row_per_series_and_can_list_only_those_needing_attention() {
+    let dir = tempfile::tempdir().unwrap();
+    let text = "series,temperature (C),concentration (g/L),pressure (Pa)\n\
+        good,25,2,26.9\ngood,25,4,53.0\ngood,25,6,78.6\ngood,25,8,103.9\n\
+        good,35,2,27.8\ngood,35,4,55.2\ngood,35,6,82.5\ngood,35,8,109.6\n\
+        thin,25,2,26.9\nthin,25,4,53.0\n";
+    let input = write(dir.path(), "two.csv", text);
+    let all = dir.path().join("all.csv");
+    let some = dir.path().join("some.csv");
+    let out = thetaseek()
+        .arg("analyze")
+        .arg(&input)
+        .args(["--bootstrap", "0", "--series-table"])
+        .arg(&all)
+        .assert()
+        .success();
+    let stdout = String::from_utf8_lossy(&out.get_output().stdout).to_string();
+    assert!(stdout.contains("summary: 1 series analysed, 1 refused"), "{stdout}");
+    thetaseek()
+        .arg("analyze")
+        .arg(&input)
+        .args(["--bootstrap", "0", "-q", "--needs-attention", "--series-table"])
+        .arg(&some)
+        .assert()
+        .success();
+    let all = std::fs::read_to_string(all).unwrap();
+    assert!(all.lines().next().unwrap().contains("theta (K)") && all.contains("crossing"));
+    assert_eq!(all.lines().count(), 3);
+    let some = std::fs::read_to_string(some).unwrap();
+    // "good" has only two temperatures with few concentrations (warnings), "thin" is refused.
+    assert!(some.contains("thin"));
+}

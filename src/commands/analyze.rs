@@ -74,8 +74,17 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
             });
         }
     }
+    if let Some(path) = &args.series_table {
+        let filter =
+            if args.needs_attention { report::SeriesFilter::NeedsAttention } else { report::SeriesFilter::All };
+        let bytes = report::series_table_csv(&report, filter)
+            .map_err(|e| Error::Setting(format!("cannot render the series table: {e}")))?;
+        outputs.push(PendingOutput { destination: Destination::parse(path), bytes });
+    }
     if outputs.iter().filter(|o| o.destination == Destination::Stdout).count() > 1 {
-        return Err(Error::Setting("only one of --report and --table can go to standard output ('-')".into()));
+        return Err(Error::Setting(
+            "only one of --report, --table and --series-table can go to standard output ('-')".into(),
+        ));
     }
     check_outputs(&outputs, &args.files)?;
     // The figures folder is made only once every check has passed.

@@ -7,8 +7,8 @@ mod table;
 mod terminal;
 mod theta;
 
-pub use table::table_csv;
-pub use terminal::{plus_minus, render_terminal};
+pub use table::{series_table_csv, table_csv, SeriesFilter};
+pub use terminal::{plus_minus, render_summary, render_terminal};
 pub use theta::{LineReport, ThetaPointReport, ThetaReport};
 
 use crate::analysis::{SeriesResult, Status};

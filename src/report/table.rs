@@ -62,3 +62,63 @@ pub fn table_csv(report: &Report) -> PolarsResult<Vec<u8>> {
     CsvWriter::new(&mut bytes).include_header(true).finish(&mut frame)?;
     Ok(bytes)
 }
+
+/// Which series the per-series table lists.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum SeriesFilter {
+    /// Every series.
+    All,
+    /// Only series that need a look: refused, partial, without a bracketed θ, or with warnings.
+    NeedsAttention,
+}
+
+/// One row per series: θ (K and °C), interval, crossing, weighted-mean Mn, warnings count.
+pub fn series_table_csv(report: &Report, filter: SeriesFilter) -> PolarsResult<Vec<u8>> {
+    use crate::theta::Crossing;
+    let keep = |s: &&super::SeriesReport| match filter {
+        SeriesFilter::All => true,
+        SeriesFilter::NeedsAttention => {
+            s.status != crate::analysis::Status::Ok
+                || s.theta.as_ref().is_none_or(|t| t.crossing != Crossing::Bracketed)
+                || !s.warnings.is_empty()
+                || s.fits.iter().any(|f| !f.warnings.is_empty())
+        }
+    };
+    let rows: Vec<&super::SeriesReport> = report.series.iter().filter(keep).collect();
+    let theta = |f: &dyn Fn(&super::ThetaReport) -> Option<f64>| -> Vec<Option<f64>> {
+        rows.iter().map(|s| s.theta.as_ref().and_then(f)).collect()
+    };
+    let text = |f: &dyn Fn(&super::SeriesReport) -> String| -> Vec<String> { rows.iter().map(|s| f(s)).collect() };
+    let columns = vec![
+        Column::new("series".into(), text(&|s| s.name.clone())),
+        Column::new("status".into(), text(&|s| format!("{:?}", s.status).to_lowercase())),
+        Column::new("theta (K)".into(), theta(&|t| t.theta_k)),
+        Column::new("theta (C)".into(), theta(&|t| t.theta_c)),
+        Column::new("theta se (K)".into(), theta(&|t| t.se_k)),
+        Column::new("ci low (K)".into(), theta(&|t| t.ci_low_k)),
+        Column::new("ci high (K)".into(), theta(&|t| t.ci_high_k)),
+        Column::new(
+            "ci kind".into(),
+            text(&|s| s.theta.as_ref().map_or("none".into(), |t| format!("{:?}", t.ci_kind).to_lowercase())),
+        ),
+        Column::new(
+            "crossing".into(),
+            text(&|s| s.theta.as_ref().map_or("none".into(), |t| format!("{:?}", t.crossing).to_lowercase())),
+        ),
+        Column::new("Mn (g/mol)".into(), theta(&|t| t.mn_consistency.as_ref().map(|m| m.mean_mn_g_per_mol))),
+        Column::new(
+            "warnings".into(),
+            rows.iter()
+                .map(|s| (s.warnings.len() + s.fits.iter().map(|f| f.warnings.len()).sum::<usize>()) as u32)
+                .collect::<Vec<u32>>(),
+        ),
+        Column::new(
+            "reason".into(),
+            text(&|s| s.reason.clone().or_else(|| s.theta.as_ref().and_then(|t| t.reason.clone())).unwrap_or_default()),
+        ),
+    ];
+    let mut frame = DataFrame::new(rows.len(), columns)?;
+    let mut bytes = Vec::new();
+    CsvWriter::new(&mut bytes).include_header(true).finish(&mut frame)?;
+    Ok(bytes)
+}

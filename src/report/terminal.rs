@@ -95,6 +95,38 @@ pub fn render_terminal(report: &Report) -> String {
     for w in &report.warnings {
         let _ = writeln!(out, "! {w}");
     }
+    out.push_str(&render_summary(report));
+    out
+}
+
+/// Counts for the end of a run: series analysed and refused (reasons grouped), and how many
+/// have a bracketed, an extrapolated or no θ.
+pub fn render_summary(report: &Report) -> String {
+    use crate::analysis::Status;
+    use crate::theta::Crossing;
+    let refused: Vec<&super::SeriesReport> = report.series.iter().filter(|s| s.status == Status::Refused).collect();
+    let count =
+        |c: Crossing| report.series.iter().filter(|s| s.theta.as_ref().is_some_and(|t| t.crossing == c)).count();
+    let mut out = format!(
+        "summary: {} series analysed, {} refused; θ bracketed {}, extrapolated {}, none {}\n",
+        report.series.len() - refused.len(),
+        refused.len(),
+        count(Crossing::Bracketed),
+        count(Crossing::Extrapolated),
+        count(Crossing::None),
+    );
+    let mut groups: Vec<(&str, usize)> = Vec::new();
+    for s in &refused {
+        let reason = s.reason.as_deref().unwrap_or("");
+        match groups.iter_mut().find(|(r, _)| *r == reason) {
+            Some(g) => g.1 += 1,
+            None => groups.push((reason, 1)),
+        }
+    }
+    groups.sort_by_key(|g| std::cmp::Reverse(g.1));
+    for (reason, n) in groups.iter().take(10) {
+        let _ = writeln!(out, "  refused {n}×: {reason}");
+    }
     out
 }
 
