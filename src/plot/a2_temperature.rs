@@ -2,8 +2,8 @@
 //! confidence band (dashed where it extrapolates), the A2 = 0 line, θ with its interval
 //! shaded, and a second axis in °C.
 
-use super::format::{axis, power_of_ten, superscript, tick};
-use super::{marker_element, series_colour, series_marker, FigureError, GREY, INK};
+use super::format::{axis, power_of_ten, superscript};
+use super::{draw_legend, marker_element, series_colour, series_marker, temperature_chart, FigureError, GREY, INK};
 use crate::report::{LineReport, SeriesReport, ThetaReport};
 use crate::theta::Quantity;
 use crate::units::CELSIUS_OFFSET_K;
@@ -78,32 +78,13 @@ pub fn draw_a2_temperature(
 
     let (x_lo, x_hi) = axis(x_lo, x_hi);
     let (y_lo, y_hi) = axis(y_lo, y_hi);
-    let mut chart = ChartBuilder::on(root)
-        .caption(format!("A2 against temperature: {}", s.name), ("sans-serif", 22).into_font().color(&INK))
-        .margin(16)
-        .x_label_area_size(48)
-        .top_x_label_area_size(44)
-        .y_label_area_size(80)
-        .build_cartesian_2d(x_lo..x_hi, y_lo..y_hi)?
-        .set_secondary_coord((x_lo - CELSIUS_OFFSET_K)..(x_hi - CELSIUS_OFFSET_K), y_lo..y_hi);
-    chart
-        .configure_mesh()
-        .light_line_style(WHITE.mix(0.0))
-        .bold_line_style(INK.mix(0.08))
-        .x_desc("T (K)")
-        .y_desc(y_label(quantity, e))
-        .x_label_formatter(&|v| tick(*v, x_hi - x_lo))
-        .y_label_formatter(&|v| tick(*v, y_hi - y_lo))
-        .axis_desc_style(("sans-serif", 16).into_font().color(&INK))
-        .label_style(("sans-serif", 13).into_font().color(&INK))
-        .draw()?;
-    chart
-        .configure_secondary_axes()
-        .x_desc("t (°C)")
-        .x_label_formatter(&|v| tick(*v, x_hi - x_lo))
-        .axis_desc_style(("sans-serif", 16).into_font().color(&INK))
-        .label_style(("sans-serif", 13).into_font().color(&INK))
-        .draw()?;
+    let mut chart = temperature_chart(
+        root,
+        &format!("A2 against temperature: {}", s.name),
+        (x_lo, x_hi),
+        (y_lo, y_hi),
+        &y_label(quantity, e),
+    )?;
 
     let colour = series_colour(index);
     let t_min = theta.points.iter().map(|p| p.temperature_k).fold(f64::INFINITY, f64::min);
@@ -190,17 +171,14 @@ pub fn draw_a2_temperature(
         .label("measured, ± 1 SE")
         .legend(move |(x, y)| marker_element(marker, (x + 9, y), 5, colour));
 
-    chart
-        .configure_series_labels()
-        .position(if theta.sense == Some(crate::theta::Sense::Lcst) {
+    draw_legend(
+        &mut chart,
+        if theta.sense == Some(crate::theta::Sense::Lcst) {
             SeriesLabelPosition::UpperRight
         } else {
             SeriesLabelPosition::UpperLeft
-        })
-        .background_style(WHITE.mix(0.85))
-        .border_style(INK.mix(0.3))
-        .label_font(("sans-serif", 13).into_font().color(&INK))
-        .draw()?;
+        },
+    )?;
     Ok(())
 }
 
@@ -233,33 +211,9 @@ pub fn draw_a2_overlay(
     let (y_lo, y_hi) = (y_min - pad, y_max + pad);
     let x = axis(x.0, x.1);
     let (y_lo, y_hi) = axis(y_lo, y_hi);
-    let mut chart = ChartBuilder::on(root)
-        .caption("A2 against temperature, all series", ("sans-serif", 22).into_font().color(&INK))
-        .margin(16)
-        .x_label_area_size(48)
-        .top_x_label_area_size(44)
-        .y_label_area_size(80)
-        .build_cartesian_2d(x.0..x.1, y_lo..y_hi)?
-        .set_secondary_coord((x.0 - CELSIUS_OFFSET_K)..(x.1 - CELSIUS_OFFSET_K), y_lo..y_hi);
     let quantity = thetas.first().and_then(|(_, _, t)| t.line.as_ref()).map_or(Quantity::SecondVirial, |l| l.quantity);
-    chart
-        .configure_mesh()
-        .light_line_style(WHITE.mix(0.0))
-        .bold_line_style(INK.mix(0.08))
-        .x_desc("T (K)")
-        .y_desc(y_label(quantity, e))
-        .x_label_formatter(&|v| tick(*v, x.1 - x.0))
-        .y_label_formatter(&|v| tick(*v, y_hi - y_lo))
-        .axis_desc_style(("sans-serif", 16).into_font().color(&INK))
-        .label_style(("sans-serif", 13).into_font().color(&INK))
-        .draw()?;
-    chart
-        .configure_secondary_axes()
-        .x_desc("t (°C)")
-        .x_label_formatter(&|v| tick(*v, x.1 - x.0))
-        .axis_desc_style(("sans-serif", 16).into_font().color(&INK))
-        .label_style(("sans-serif", 13).into_font().color(&INK))
-        .draw()?;
+    let mut chart =
+        temperature_chart(root, "A2 against temperature, all series", x, (y_lo, y_hi), &y_label(quantity, e))?;
     chart.draw_series(std::iter::once(PathElement::new(vec![(x.0, 0.0), (x.1, 0.0)], INK.mix(0.6).stroke_width(1))))?;
     for ((i, s, t), c) in thetas.iter().zip(&curves) {
         let colour = series_colour(*i);
@@ -290,12 +244,6 @@ pub fn draw_a2_overlay(
             )))?;
         }
     }
-    chart
-        .configure_series_labels()
-        .position(SeriesLabelPosition::LowerRight)
-        .background_style(WHITE.mix(0.85))
-        .border_style(INK.mix(0.3))
-        .label_font(("sans-serif", 13).into_font().color(&INK))
-        .draw()?;
+    draw_legend(&mut chart, SeriesLabelPosition::LowerRight)?;
     Ok(())
 }

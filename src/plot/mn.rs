@@ -2,7 +2,7 @@
 //! (a drift hints at association near θ or at membrane leakage).
 
 use super::format::{axis, tick};
-use super::{marker_element, series_colour, series_marker, FigureError, GREY, INK};
+use super::{draw_legend, marker_element, series_colour, series_marker, FigureError, GREY, INK};
 use crate::report::SeriesReport;
 use plotters::coord::Shift;
 use plotters::prelude::*;
@@ -64,12 +64,6 @@ pub fn draw_mn(root: &DrawingArea<SVGBackend, Shift>, s: &SeriesReport, index: u
         .draw_series(pts.iter().map(|(t, m, _)| marker_element(marker, (*t, *m), 5, colour)))?
         .label("Mn ± 1 SE at each temperature")
         .legend(move |(x, y)| marker_element(marker, (x + 9, y), 5, colour));
-    chart
-        .configure_series_labels()
-        .position(SeriesLabelPosition::UpperLeft)
-        .background_style(WHITE.mix(0.85))
-        .border_style(INK.mix(0.3))
-        .label_font(("sans-serif", 13).into_font().color(&INK))
-        .draw()?;
+    draw_legend(&mut chart, SeriesLabelPosition::UpperLeft)?;
     Ok(())
 }

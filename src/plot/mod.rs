@@ -17,6 +17,7 @@ pub use panels::{draw_reduced_pressure, draw_residuals};
 pub use plan::draw_plan;
 
 use crate::report::{Report, SeriesReport};
+use plotters::coord::types::RangedCoordf64;
 use plotters::element::{Drawable, PointCollection};
 use plotters::prelude::*;
 use plotters_backend::DrawingErrorKind;
@@ -115,6 +116,70 @@ impl<C, DB: DrawingBackend> Drawable<DB> for MarkerElement<C> {
             }
         }
     }
+}
+
+/// A chart in f64 coordinates on an SVG backend.
+pub type Chart<'a, 'b> = ChartContext<'a, SVGBackend<'b>, Cartesian2d<RangedCoordf64, RangedCoordf64>>;
+
+/// A chart with T (K) on the bottom axis and t (°C) on the top one.
+pub type TemperatureChart<'a, 'b> = plotters::chart::DualCoordChartContext<
+    'a,
+    SVGBackend<'b>,
+    Cartesian2d<RangedCoordf64, RangedCoordf64>,
+    Cartesian2d<RangedCoordf64, RangedCoordf64>,
+>;
+
+/// Builds a temperature chart over T ∈ `x` (K) and `y`, both made drawable by [`axis`], with
+/// our mesh, tick labels and the °C axis on top.
+pub fn temperature_chart<'a, 'b>(
+    root: &'a DrawingArea<SVGBackend<'b>, plotters::coord::Shift>,
+    caption: &str,
+    x: (f64, f64),
+    y: (f64, f64),
+    y_desc: &str,
+) -> Result<TemperatureChart<'a, 'b>, FigureError> {
+    let (x_lo, x_hi) = axis(x.0, x.1);
+    let (y_lo, y_hi) = axis(y.0, y.1);
+    let offset = crate::units::CELSIUS_OFFSET_K;
+    let mut chart = ChartBuilder::on(root)
+        .caption(caption, ("sans-serif", 22).into_font().color(&INK))
+        .margin(16)
+        .x_label_area_size(48)
+        .top_x_label_area_size(44)
+        .y_label_area_size(80)
+        .build_cartesian_2d(x_lo..x_hi, y_lo..y_hi)?
+        .set_secondary_coord((x_lo - offset)..(x_hi - offset), y_lo..y_hi);
+    chart
+        .configure_mesh()
+        .light_line_style(WHITE.mix(0.0))
+        .bold_line_style(INK.mix(0.08))
+        .x_desc("T (K)")
+        .y_desc(y_desc)
+        .x_label_formatter(&|v| tick(*v, x_hi - x_lo))
+        .y_label_formatter(&|v| tick(*v, y_hi - y_lo))
+        .axis_desc_style(("sans-serif", 16).into_font().color(&INK))
+        .label_style(("sans-serif", 13).into_font().color(&INK))
+        .draw()?;
+    chart
+        .configure_secondary_axes()
+        .x_desc("t (°C)")
+        .x_label_formatter(&|v| tick(*v, x_hi - x_lo))
+        .axis_desc_style(("sans-serif", 16).into_font().color(&INK))
+        .label_style(("sans-serif", 13).into_font().color(&INK))
+        .draw()?;
+    Ok(chart)
+}
+
+/// Our legend: a light box at `position` with the series labels.
+pub fn draw_legend<'a, 'b: 'a>(chart: &mut Chart<'a, 'b>, position: SeriesLabelPosition) -> Result<(), FigureError> {
+    chart
+        .configure_series_labels()
+        .position(position)
+        .background_style(WHITE.mix(0.85))
+        .border_style(INK.mix(0.3))
+        .label_font(("sans-serif", 13).into_font().color(&INK))
+        .draw()?;
+    Ok(())
 }
 
 /// Renders `draw` into an SVG document of `width`×`height` px.

@@ -54,6 +54,43 @@ fn layout<'a>(
     Ok(rest.split_evenly((n.max(1), 1)))
 }
 
+/// One panel: concentration (g/L) shared along x, its own y; only the bottom panel (`last`)
+/// labels the x axis.
+fn panel_chart<'a, 'b>(
+    area: &'a DrawingArea<SVGBackend<'b>, Shift>,
+    last: bool,
+    x: (f64, f64),
+    y: (f64, f64),
+    y_desc: &str,
+    y_labels: usize,
+) -> Result<super::Chart<'a, 'b>, FigureError> {
+    let mut chart = ChartBuilder::on(area)
+        .margin_left(16)
+        .margin_right(24)
+        .margin_top(4)
+        .x_label_area_size(if last { 40 } else { 6 })
+        .y_label_area_size(86)
+        .build_cartesian_2d(x.0..x.1, y.0..y.1)?;
+    let y_fmt = |v: &f64| tick(*v, y.1 - y.0);
+    let x_fmt = |v: &f64| tick(*v, x.1 - x.0);
+    let mut mesh = chart.configure_mesh();
+    mesh.light_line_style(WHITE.mix(0.0))
+        .bold_line_style(INK.mix(0.06))
+        .y_desc(y_desc)
+        .y_labels(y_labels)
+        .y_label_formatter(&y_fmt)
+        .x_label_formatter(&x_fmt)
+        .axis_desc_style(("sans-serif", 13).into_font().color(&INK))
+        .label_style(("sans-serif", 12).into_font().color(&INK));
+    if last {
+        mesh.x_desc("c (g/L)");
+    } else {
+        mesh.x_labels(0);
+    }
+    mesh.draw()?;
+    Ok(chart)
+}
+
 fn concentration_range(s: &SeriesReport) -> (f64, f64) {
     let c_max = s.fits.iter().flat_map(|f| f.points.iter().map(|p| p.concentration_g_per_ml)).fold(0.0, f64::max);
     axis(0.0, c_max * 1.08)
@@ -77,30 +114,14 @@ pub fn draw_reduced_pressure(root: &DrawingArea<SVGBackend, Shift>, s: &SeriesRe
         let (lo, hi) = ys.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), v| (a.min(*v), b.max(*v)));
         let pad = ((hi - lo) * 0.15).max(hi.abs() * 0.01).max(1e-12);
         let (y_lo, y_hi) = axis(lo - pad, hi + pad * 1.8);
-        let mut chart = ChartBuilder::on(area)
-            .margin_left(16)
-            .margin_right(24)
-            .margin_top(4)
-            .x_label_area_size(if k == last { 40 } else { 6 })
-            .y_label_area_size(86)
-            .build_cartesian_2d(c_lo * c_scale..c_hi * c_scale, y_lo..y_hi)?;
-        let y_fmt = |v: &f64| tick(*v, y_hi - y_lo);
-        let x_fmt = |v: &f64| tick(*v, c_hi * c_scale);
-        let mut mesh = chart.configure_mesh();
-        mesh.light_line_style(WHITE.mix(0.0))
-            .bold_line_style(INK.mix(0.06))
-            .y_desc(format!("Π/(cRT) ({unit})"))
-            .y_labels(4)
-            .y_label_formatter(&y_fmt)
-            .x_label_formatter(&x_fmt)
-            .axis_desc_style(("sans-serif", 13).into_font().color(&INK))
-            .label_style(("sans-serif", 12).into_font().color(&INK));
-        if k == last {
-            mesh.x_desc("c (g/L)");
-        } else {
-            mesh.x_labels(0);
-        }
-        mesh.draw()?;
+        let mut chart = panel_chart(
+            area,
+            k == last,
+            (c_lo * c_scale, c_hi * c_scale),
+            (y_lo, y_hi),
+            &format!("Π/(cRT) ({unit})"),
+            4,
+        )?;
         let curve = (0..=60).map(|i| {
             let c = c_hi * i as f64 / 60.0;
             (c * c_scale, fitted(f, c) * scale)
@@ -149,30 +170,7 @@ pub fn draw_residuals(root: &DrawingArea<SVGBackend, Shift>, s: &SeriesReport) -
             })
             .collect();
         let m = axis(-3.5, r.iter().fold(3.5f64, |m, (_, v)| m.max(v.abs() * 1.1))).1;
-        let mut chart = ChartBuilder::on(area)
-            .margin_left(16)
-            .margin_right(24)
-            .margin_top(4)
-            .x_label_area_size(if k == last { 40 } else { 6 })
-            .y_label_area_size(86)
-            .build_cartesian_2d(c_lo * c_scale..c_hi * c_scale, -m..m)?;
-        let y_fmt = |v: &f64| tick(*v, 2.0 * m);
-        let x_fmt = |v: &f64| tick(*v, c_hi * c_scale);
-        let mut mesh = chart.configure_mesh();
-        mesh.light_line_style(WHITE.mix(0.0))
-            .bold_line_style(INK.mix(0.06))
-            .y_desc("residual / SD")
-            .y_labels(5)
-            .y_label_formatter(&y_fmt)
-            .x_label_formatter(&x_fmt)
-            .axis_desc_style(("sans-serif", 13).into_font().color(&INK))
-            .label_style(("sans-serif", 12).into_font().color(&INK));
-        if k == last {
-            mesh.x_desc("c (g/L)");
-        } else {
-            mesh.x_labels(0);
-        }
-        mesh.draw()?;
+        let mut chart = panel_chart(area, k == last, (c_lo * c_scale, c_hi * c_scale), (-m, m), "residual / SD", 5)?;
         let x_end = c_hi * c_scale;
         chart.draw_series(std::iter::once(PathElement::new(vec![(0.0, 0.0), (x_end, 0.0)], INK.mix(0.5))))?;
         for level in [-3.0, 3.0] {

@@ -2,8 +2,8 @@
 //! each solvent's usable liquid range (melting point + margin to boiling point − margin), so the
 //! choice can be seen.
 
-use super::format::{axis, power_of_ten, superscript, tick};
-use super::{marker_element, series_colour, series_marker, FigureError, GREY, INK};
+use super::format::{axis, power_of_ten, superscript};
+use super::{draw_legend, marker_element, series_colour, series_marker, temperature_chart, FigureError, GREY, INK};
 use crate::input::SolventProperties;
 use crate::plan::{Plan, PlanSeries, PlanSettings, BOILING_MARGIN_K, MELTING_MARGIN_K};
 use crate::theta::Quantity;
@@ -56,33 +56,9 @@ pub fn draw_plan(
     let (y_lo, y_hi) = (y_min - span * (0.1 + 0.08 * bars), y_max + span * 0.1);
     let (lo, hi) = axis(lo, hi);
     let (y_lo, y_hi) = axis(y_lo, y_hi);
-    let mut chart = ChartBuilder::on(root)
-        .caption("Choosing the solvent and the temperature", ("sans-serif", 22).into_font().color(&INK))
-        .margin(16)
-        .x_label_area_size(48)
-        .top_x_label_area_size(44)
-        .y_label_area_size(80)
-        .build_cartesian_2d(lo..hi, y_lo..y_hi)?
-        .set_secondary_coord((lo - CELSIUS_OFFSET_K)..(hi - CELSIUS_OFFSET_K), y_lo..y_hi);
     let y_desc = if e == 0 { "A2 (mol mL/g²)".to_string() } else { format!("A2 ({} mol mL/g²)", superscript(e)) };
-    chart
-        .configure_mesh()
-        .light_line_style(WHITE.mix(0.0))
-        .bold_line_style(INK.mix(0.08))
-        .x_desc("T (K)")
-        .y_desc(y_desc)
-        .x_label_formatter(&|v| tick(*v, hi - lo))
-        .y_label_formatter(&|v| tick(*v, y_hi - y_lo))
-        .axis_desc_style(("sans-serif", 16).into_font().color(&INK))
-        .label_style(("sans-serif", 13).into_font().color(&INK))
-        .draw()?;
-    chart
-        .configure_secondary_axes()
-        .x_desc("t (°C)")
-        .x_label_formatter(&|v| tick(*v, hi - lo))
-        .axis_desc_style(("sans-serif", 16).into_font().color(&INK))
-        .label_style(("sans-serif", 13).into_font().color(&INK))
-        .draw()?;
+    let mut chart =
+        temperature_chart(root, "Choosing the solvent and the temperature", (lo, hi), (y_lo, y_hi), &y_desc)?;
     if let Some((a, b)) = settings.thermostat {
         chart
             .draw_series(std::iter::once(Rectangle::new([(a, y_lo), (b, y_hi)], GREY.mix(0.10).filled())))?
@@ -142,12 +118,6 @@ pub fn draw_plan(
             )))?;
         }
     }
-    chart
-        .configure_series_labels()
-        .position(SeriesLabelPosition::UpperLeft)
-        .background_style(WHITE.mix(0.85))
-        .border_style(INK.mix(0.3))
-        .label_font(("sans-serif", 13).into_font().color(&INK))
-        .draw()?;
+    draw_legend(&mut chart, SeriesLabelPosition::UpperLeft)?;
     Ok(())
 }
