@@ -17,6 +17,58 @@ pub enum Command {
     Analyze(AnalyzeArgs),
     /// Choose the solvent and temperature for a chain-dimension study.
     Plan(PlanArgs),
+    /// Suggest the next temperatures to measure to narrow the θ interval most.
+    Next(NextArgs),
+}
+
+#[derive(Debug, Args)]
+pub struct NextArgs {
+    /// Data files (as for analyze) or JSON reports written by analyze.
+    #[arg(required = true, value_name = "FILE")]
+    pub files: Vec<PathBuf>,
+
+    /// Temperatures the instrument can hold, °C, as LOW:HIGH (default: the measured range ± 15 K).
+    #[arg(long, value_name = "LOW:HIGH", value_parser = parse_range)]
+    pub thermostat: Option<(f64, f64)>,
+
+    /// Concentrations of a new run, g/L, comma separated (default: the set used most so far).
+    #[arg(long, value_name = "G_PER_L,...", value_delimiter = ',', value_parser = parse_positive)]
+    pub concentrations: Option<Vec<f64>>,
+
+    /// Replicates of each concentration in a new run.
+    #[arg(long, default_value_t = 1, value_parser = clap::value_parser!(u32).range(1..=100))]
+    pub replicates: u32,
+
+    /// Number of new temperature runs to plan.
+    #[arg(long, default_value_t = 2, value_parser = clap::value_parser!(u32).range(1..=50))]
+    pub budget: u32,
+
+    /// Grid step of the candidate temperatures, K.
+    #[arg(long, default_value_t = 1.0, value_parser = parse_positive)]
+    pub step: f64,
+
+    /// Simulated datasets to check the predicted SE of the recommended design (0: none).
+    #[arg(long, default_value_t = 500)]
+    pub simulations: usize,
+
+    /// Seed of that simulation.
+    #[arg(long, default_value_t = 1)]
+    pub seed: u64,
+
+    /// Write the JSON advice here ('-' for standard output).
+    #[arg(long, value_name = "PATH")]
+    pub report: Option<String>,
+
+    /// Write the figure (predicted interval width against candidate temperature) here, SVG.
+    #[arg(long, value_name = "PATH")]
+    pub figure: Option<PathBuf>,
+
+    #[command(flatten)]
+    pub read: ReadArgs,
+
+    /// Print nothing on the terminal but errors.
+    #[arg(long, short)]
+    pub quiet: bool,
 }
 
 /// What the study needs.

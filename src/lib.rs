@@ -11,6 +11,7 @@
 
 pub mod analysis;
 pub mod dataset;
+pub mod design;
 pub mod error;
 pub mod input;
 pub mod nls;

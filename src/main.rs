@@ -12,6 +12,7 @@ fn main() -> ExitCode {
     let result = match &cli.command {
         cli::Command::Analyze(args) => commands::analyze::run(args),
         cli::Command::Plan(args) => commands::plan::run(args),
+        cli::Command::Next(args) => commands::next::run(args),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

@@ -1,6 +1,7 @@
 //! One file per subcommand: orchestration and file I/O only; the science is in the library.
 
 pub mod analyze;
+pub mod next;
 pub mod plan;
 
 use std::path::{Path, PathBuf};

@@ -7,12 +7,14 @@
 mod a2_temperature;
 mod format;
 mod mn;
+mod next;
 mod panels;
 mod plan;
 
 pub use a2_temperature::{draw_a2_overlay, draw_a2_temperature};
 pub use format::{axis, power_of_ten, superscript, tick};
 pub use mn::draw_mn;
+pub use next::draw_next;
 pub use panels::{draw_reduced_pressure, draw_residuals};
 pub use plan::draw_plan;
 

@@ -1,0 +1,62 @@
+//! Predicted θ interval width against the temperature of one more run, with today's width
+//! and the recommended runs marked.
+
+use super::{draw_legend, marker_element, series_colour, series_marker, FigureError, Marker, INK};
+use crate::design::SeriesDesign;
+use plotters::coord::Shift;
+use plotters::prelude::*;
+
+/// One curve per series.
+pub fn draw_next(root: &DrawingArea<SVGBackend, Shift>, designs: &[SeriesDesign]) -> Result<(), FigureError> {
+    let widths: Vec<f64> = designs
+        .iter()
+        .flat_map(|d| d.candidates.iter().filter_map(|c| c.predicted_ci_width_k).chain(d.current.ci_width_k))
+        .filter(|w| w.is_finite())
+        .collect();
+    let temps: Vec<f64> = designs.iter().flat_map(|d| d.candidates.iter().map(|c| c.temperature_c)).collect();
+    let (x_lo, x_hi) = super::axis(
+        temps.iter().copied().fold(f64::INFINITY, f64::min),
+        temps.iter().copied().fold(f64::NEG_INFINITY, f64::max),
+    );
+    let (y_lo, y_hi) = super::axis(0.0, widths.iter().copied().fold(0.0, f64::max) * 1.15);
+    let mut chart = ChartBuilder::on(root)
+        .caption("Where to measure next", ("sans-serif", 22).into_font().color(&INK))
+        .margin(16)
+        .x_label_area_size(48)
+        .y_label_area_size(80)
+        .build_cartesian_2d(x_lo..x_hi, y_lo..y_hi)?;
+    chart
+        .configure_mesh()
+        .light_line_style(WHITE.mix(0.0))
+        .bold_line_style(INK.mix(0.08))
+        .x_desc("temperature of the next run (°C)")
+        .y_desc("predicted 95 % interval width of θ (K)")
+        .x_label_formatter(&|v| super::tick(*v, x_hi - x_lo))
+        .y_label_formatter(&|v| super::tick(*v, y_hi - y_lo))
+        .axis_desc_style(("sans-serif", 16).into_font().color(&INK))
+        .label_style(("sans-serif", 13).into_font().color(&INK))
+        .draw()?;
+    for (i, d) in designs.iter().enumerate() {
+        let colour = series_colour(i);
+        let mut pts: Vec<(f64, f64)> =
+            d.candidates.iter().filter_map(|c| c.predicted_ci_width_k.map(|w| (c.temperature_c, w))).collect();
+        pts.sort_by(|a, b| a.0.total_cmp(&b.0));
+        chart
+            .draw_series(LineSeries::new(pts, colour.stroke_width(2)))?
+            .label(format!("{}: after one more run", d.name))
+            .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 18, y)], colour.stroke_width(2)));
+        if let Some(now) = d.current.ci_width_k {
+            chart
+                .draw_series(DashedLineSeries::new(vec![(x_lo, now), (x_hi, now)], 8, 6, colour.stroke_width(1)))?
+                .label(format!("{}: today ({now:.2} K)", d.name))
+                .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 18, y)], colour.stroke_width(1)));
+        }
+        let marker = if series_marker(i) == Marker::Cross { Marker::Square } else { series_marker(i) };
+        chart.draw_series(
+            d.recommended.iter().take(1).filter_map(|r| {
+                r.predicted_ci_width_k.map(|w| marker_element(marker, (r.temperature_c, w), 6, colour))
+            }),
+        )?;
+    }
+    draw_legend(&mut chart, SeriesLabelPosition::UpperRight)
+}

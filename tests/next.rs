@@ -1,0 +1,208 @@
+//! `thetaseek next`: the predicted SE of a design against simulation, where a new temperature
+//! helps most, and bracketing an extrapolated θ first.
+
+use assert_cmd::Command;
+use rand::SeedableRng;
+use rand_chacha::ChaCha8Rng;
+use rand_distr::{Distribution, Normal};
+use thetaseek::analysis::{analyze_series, Settings};
+use thetaseek::dataset::{group, Measurement, Origin, Series};
+use thetaseek::design::{next_runs, DesignSettings, MeasuredTemperature};
+use thetaseek::thermo::flory_krigbaum_a2;
+use thetaseek::theta::{a2_points, TemperaturePoint, ThetaSettings};
+use thetaseek::units::GAS_CONSTANT_J_PER_MOL_K;
+
+const C: [f64; 5] = [2.0, 4.0, 6.0, 8.0, 10.0];
+const THETA: f64 = 305.0;
+
+/// Readings with equal noise in Π/(cRT) (σ_y = 0.4 % of 1/Mn), the model the prediction uses.
+fn series(temps: &[f64], rng: &mut ChaCha8Rng) -> Series {
+    let noise = Normal::new(0.0, 0.004 / 150.0).unwrap();
+    let mut rows = Vec::new();
+    for &t in temps {
+        let a2 = flory_krigbaum_a2(t, THETA, 0.4, 0.9e-3, 100e-6);
+        for c in C {
+            let y = 1.0 / 150.0 + a2 * c + noise.sample(rng);
+            rows.push(Measurement {
+                series: "s".into(),
+                temperature_k: t,
+                concentration_kg_per_m3: c,
+                pressure_pa: y * c * GAS_CONSTANT_J_PER_MOL_K * t,
+                pressure_sd_pa: None,
+                origin: Origin { file: 0, line: 0 },
+            });
+        }
+    }
+    group(&rows).remove(0)
+}
+
+fn measured(s: &Series) -> Vec<MeasuredTemperature> {
+    let settings = Settings {
+        theta: ThetaSettings { bootstrap_replicates: 0, ..ThetaSettings::default() },
+        ..Settings::default()
+    };
+    let r = analyze_series(s, &settings, 0);
+    r.fits
+        .iter()
+        .zip(a2_points(&r.fits))
+        .map(|(f, p)| MeasuredTemperature {
+            point: p,
+            concentrations: s
+                .temperatures
+                .iter()
+                .find(|t| t.temperature_k == f.temperature_k)
+                .unwrap()
+                .concentration_kg_per_m3
+                .clone(),
+        })
+        .collect()
+}
+
+fn settings(thermostat: (f64, f64), budget: usize) -> DesignSettings {
+    DesignSettings {
+        thermostat,
+        step_k: 1.0,
+        concentrations: None,
+        replicates: 1,
+        budget,
+        confidence: 0.95,
+        simulations: 0,
+        seed: 1,
+    }
+}
+
+#[test]
+fn the_predicted_se_matches_the_se_obtained_on_simulated_data_of_that_design() {
+    let base = [293.0, 299.0, 305.0, 311.0, 317.0];
+    let extra = 308.0;
+    let mut rng = ChaCha8Rng::seed_from_u64(17);
+    // Mean predicted SE (from each simulated first series) for adding a run at `extra`...
+    let mut predicted = Vec::new();
+    for _ in 0..300 {
+        let m = measured(&series(&base, &mut rng));
+        let mut st = settings((extra, extra), 1);
+        st.step_k = 1.0;
+        let d = next_runs("s", &m, &st);
+        predicted.push(d.recommended[0].predicted_se_k.unwrap());
+    }
+    // ...against the SD of θ actually obtained on 300 simulated series of the six-temperature design.
+    let mut thetas = Vec::new();
+    let mut all = base.to_vec();
+    all.push(extra);
+    for _ in 0..300 {
+        let s = series(&all, &mut rng);
+        let settings = Settings {
+            theta: ThetaSettings { bootstrap_replicates: 0, ..ThetaSettings::default() },
+            ..Settings::default()
+        };
+        thetas.push(analyze_series(&s, &settings, 0).theta.unwrap().theta_k.unwrap());
+    }
+    let mean_predicted = predicted.iter().sum::<f64>() / predicted.len() as f64;
+    let mean = thetas.iter().sum::<f64>() / thetas.len() as f64;
+    let actual = (thetas.iter().map(|t| (t - mean).powi(2)).sum::<f64>() / (thetas.len() - 1) as f64).sqrt();
+    println!("predicted SE {mean_predicted:.4} K, obtained {actual:.4} K");
+    assert!((mean_predicted / actual - 1.0).abs() < 0.10, "predicted {mean_predicted} vs obtained {actual}");
+}
+
+#[test]
+fn for_a_centred_design_a_run_at_theta_helps_more_than_one_far_outside() {
+    // x* = 1/θ is the x-intercept; Var(x*) = φ/β² [1/Σw + (x* − x̄)²/Sxx]. A run at x* adds
+    // weight and keeps the weighted centre x̄ at x*; a run far outside raises Sxx, which only
+    // multiplies (x* − x̄)² ≈ 0, and drags x̄ away from x*, so the second term grows.
+    // Values scattered by about one SE (reduced χ² ≈ 1), symmetric about θ.
+    let points: Vec<MeasuredTemperature> = [293.0, 299.0, 305.0, 311.0, 317.0]
+        .iter()
+        .zip([1.0, -1.0, 0.0, 1.0, -1.0])
+        .map(|(&t, k)| MeasuredTemperature {
+            point: TemperaturePoint {
+                temperature_k: t,
+                value: flory_krigbaum_a2(t, THETA, 0.4, 0.9e-3, 100e-6) + k * 4e-6,
+                se: Some(4e-6),
+            },
+            concentrations: C.to_vec(),
+        })
+        .collect();
+    let width = |t: f64| next_runs("s", &points, &settings((t, t), 1)).recommended[0].predicted_ci_width_k.unwrap();
+    let (at_theta, far) = (width(THETA), width(317.0 + 40.0));
+    assert!(at_theta < far, "at θ {at_theta} K, far {far} K");
+}
+
+#[test]
+fn an_extrapolated_theta_is_bracketed_first() {
+    let mut rng = ChaCha8Rng::seed_from_u64(5);
+    let m = measured(&series(&[310.0, 315.0, 320.0, 325.0, 330.0], &mut rng));
+    let d = next_runs("s", &m, &settings((280.0, 340.0), 2));
+    let theta = d.current.theta_k.unwrap();
+    assert!(theta < 310.0);
+    let first = d.recommended[0].temperature_c + 273.15;
+    assert!(first < theta, "first run {first} K should lie below θ {theta} K");
+    assert!(d.advice.iter().any(|a| a.contains("other side")), "{:?}", d.advice);
+    assert_eq!(d.recommended.len(), 2);
+}
+
+#[test]
+fn the_cli_writes_the_stable_keys_and_a_figure() {
+    let dir = tempfile::tempdir().unwrap();
+    let demo = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("data/px40-osmometry.csv");
+    let figure = dir.path().join("next.svg");
+    let out = Command::cargo_bin("thetaseek")
+        .unwrap()
+        .arg("next")
+        .arg(&demo)
+        .args(["--thermostat", "0:60", "--budget", "2", "--simulations", "200", "--report", "-", "--figure"])
+        .arg(&figure)
+        .assert()
+        .success()
+        .get_output()
+        .stdout
+        .clone();
+    let report: serde_json::Value = serde_json::from_slice(&out).unwrap();
+    let s = &report["series"][0];
+    for key in ["name", "current", "recommended", "candidates", "advice"] {
+        assert!(s.get(key).is_some(), "missing {key}");
+    }
+    for key in ["theta_k", "se_k", "ci_width_k"] {
+        assert!(s["current"].get(key).is_some(), "current missing {key}");
+    }
+    for key in ["temperature_c", "concentrations_g_per_ml", "predicted_se_k", "predicted_ci_width_k"] {
+        assert!(s["recommended"][0].get(key).is_some(), "recommended missing {key}");
+    }
+    assert_eq!(s["recommended"].as_array().unwrap().len(), 2);
+    let svg = std::fs::read_to_string(&figure).unwrap();
+    assert!(svg.contains("predicted 95 % interval width of θ (K)"));
+}
+
+#[test]
+fn a_report_from_analyze_gives_the_same_advice_as_its_data() {
+    let dir = tempfile::tempdir().unwrap();
+    let demo = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("data/px40-osmometry.csv");
+    let report = dir.path().join("r.json");
+    Command::cargo_bin("thetaseek")
+        .unwrap()
+        .arg("analyze")
+        .arg(&demo)
+        .args(["--bootstrap", "0", "-q", "--report"])
+        .arg(&report)
+        .assert()
+        .success();
+    let advice = |input: &std::path::Path| -> serde_json::Value {
+        let out = Command::cargo_bin("thetaseek")
+            .unwrap()
+            .arg("next")
+            .arg(input)
+            .args(["--thermostat", "0:60", "--simulations", "0", "--report", "-"])
+            .assert()
+            .success()
+            .get_output()
+            .stdout
+            .clone();
+        let v: serde_json::Value = serde_json::from_slice(&out).unwrap();
+        v["series"].clone()
+    };
+    let (a, b) = (advice(&demo), advice(&report));
+    for (x, y) in a.as_array().unwrap().iter().zip(b.as_array().unwrap()) {
+        assert_eq!(x["recommended"][0]["temperature_c"], y["recommended"][0]["temperature_c"]);
+        let (p, q) = (x["current"]["ci_width_k"].as_f64().unwrap(), y["current"]["ci_width_k"].as_f64().unwrap());
+        assert!((p - q).abs() < 1e-9 * p, "{p} vs {q}");
+    }
+}
