@@ -274,6 +274,23 @@ impl MolarVolumeUnit {
     }
 }
 
+unit_enum!(
+    /// Molar mass of a fraction.
+    MolarMassUnit, "molar mass", "kg/mol", {
+        /// g/mol = 10⁻³ kg/mol.
+        GramPerMole => "g/mol", ["da", "dalton"], 1.0e-3;
+        /// kg/mol.
+        KilogramPerMole => "kg/mol", ["kda"], 1.0;
+    }
+);
+
+impl MolarMassUnit {
+    /// Value in this unit → kg/mol.
+    pub fn to_si(self, value: f64) -> f64 {
+        value * self.factor()
+    }
+}
+
 /// Hydrostatic osmotic pressure Π = ρ g_n h, in Pa, from ρ in kg/m³ and h in m.
 pub fn head_to_pressure_pa(density_kg_per_m3: f64, head_m: f64) -> f64 {
     density_kg_per_m3 * STANDARD_GRAVITY_M_PER_S2 * head_m

@@ -23,7 +23,8 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
             args.bootstrap, args.max_bootstrap
         )));
     }
-    let Loaded { inputs, dataset, warnings: run_warnings } = load(&args.files, &options, args.read.max_input_mb)?;
+    let Loaded { inputs, dataset, warnings: run_warnings, critical, volumes } =
+        load(&args.files, &options, args.read.max_input_mb)?;
     let bar = Bar::new(analysis::work_units(&dataset.series, &dataset.tabulated, &settings), args.quiet);
     let results = analysis::analyze_with_progress(&dataset.series, &dataset.tabulated, &settings, &bar);
     bar.finish();
@@ -40,9 +41,11 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
         a2_tolerance_mol_ml_per_g2: args.a2_tolerance,
         ..ReportSettings::new(&format!("{:?}", args.read.virial).to_lowercase())
     };
-    let report = Report::new(inputs, report_settings, run_warnings, &results, &dataset);
+    let mut report = Report::new(inputs, report_settings, run_warnings, &results, &dataset);
+    add_critical_series(&mut report, &critical, &volumes, &settings);
+    report.compare_routes();
 
-    if results.iter().all(|r| r.status == Status::Refused) {
+    if report.series.iter().all(|s| s.status == Status::Refused) {
         if !args.quiet {
             eprint!("{}", report::render_terminal(&report));
         }
@@ -187,5 +190,30 @@ fn grouped_reasons(report: &Report) -> String {
         format!("{}; and {more} other reasons", shown.join("; "))
     } else {
         shown.join("; ")
+    }
+}
+
+/// The Shultz–Flory route for every series of critical temperatures, in order of appearance.
+fn add_critical_series(
+    report: &mut Report,
+    rows: &[thetaseek::input::CriticalRow],
+    volumes: &[(String, Volumes)],
+    settings: &Settings,
+) {
+    let mut names: Vec<&str> = Vec::new();
+    for r in rows {
+        if !names.contains(&r.series.as_str()) {
+            names.push(&r.series);
+        }
+    }
+    for name in names {
+        let fractions: Vec<(f64, f64)> =
+            rows.iter().filter(|r| r.series == name).map(|r| (r.molar_mass, r.critical_temperature_k)).collect();
+        let v = volumes.iter().find(|(s, _)| s == name).map(|(_, v)| *v).or(settings.volumes);
+        let result = match v {
+            Some(v) => thetaseek::theta::critical_route(&fractions, v, settings.theta.confidence),
+            None => Err("critical temperatures need v̄ and V1: give --polymer-specific-volume and --solvent-molar-volume, or the columns".into()),
+        };
+        report.add_critical_series(name, result);
     }
 }

@@ -102,6 +102,10 @@ pub struct Loaded {
     pub dataset: Dataset,
     /// Run-level warnings (columns not used, ...).
     pub warnings: Vec<String>,
+    /// Critical temperatures of fractions (the Shultz–Flory route).
+    pub critical: Vec<input::CriticalRow>,
+    /// v̄ and V1 per series, as the files gave them.
+    pub volumes: Vec<(String, thetaseek::theta::Volumes)>,
 }
 
 /// Reads every data file (osmometry, A2 or χ tables) into one dataset.
@@ -110,6 +114,7 @@ pub fn load(files: &[PathBuf], options: &ReadOptions, max_mb: u64) -> Result<Loa
     let mut measurements = Vec::new();
     let (mut a2_rows, mut chi_rows): (Vec<TabulatedRow>, Vec<TabulatedRow>) = (Vec::new(), Vec::new());
     let (mut volumes, mut solvents) = (Vec::new(), Vec::new());
+    let mut critical = Vec::new();
     let mut warnings = Vec::new();
     for (index, path) in files.iter().enumerate() {
         let bytes = read_input(path, max_mb)?;
@@ -126,8 +131,9 @@ pub fn load(files: &[PathBuf], options: &ReadOptions, max_mb: u64) -> Result<Loa
         }
         volumes.extend(contents.volumes);
         solvents.extend(contents.solvents);
+        critical.extend(contents.critical);
         inputs.push(InputFile::new(&name, &bytes));
     }
     let dataset = Dataset::new(&measurements, &a2_rows, &chi_rows, &volumes, &solvents);
-    Ok(Loaded { inputs, dataset, warnings })
+    Ok(Loaded { inputs, dataset, warnings, critical, volumes })
 }

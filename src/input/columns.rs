@@ -39,6 +39,10 @@ pub enum Role {
     RefractiveIndex,
     /// Free-text notes.
     Notes,
+    /// Molar mass of a fraction (critical-temperature series).
+    MolarMass,
+    /// Critical (phase-separation) temperature of a fraction.
+    CriticalTemperature,
 }
 
 impl Role {
@@ -63,6 +67,8 @@ impl Role {
             Role::MeltingPoint => "melting point",
             Role::RefractiveIndex => "refractive index",
             Role::Notes => "notes",
+            Role::MolarMass => "molar mass",
+            Role::CriticalTemperature => "critical temperature",
         }
     }
 
@@ -85,6 +91,8 @@ impl Role {
             "melting point" | "mp" => Role::MeltingPoint,
             "refractive index" | "n" => Role::RefractiveIndex,
             "notes" | "note" => Role::Notes,
+            "molar mass" | "mw" | "molecular weight" => Role::MolarMass,
+            "critical temperature" | "tc" => Role::CriticalTemperature,
             "a2" | "second virial coefficient" => Role::A2,
             "a2 sd" | "second virial coefficient sd" => Role::A2Sd,
             "chi" | "χ" => Role::Chi,

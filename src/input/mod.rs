@@ -17,8 +17,8 @@ use crate::dataset::{Measurement, Origin, TabulatedRow};
 use crate::error::InputError;
 use crate::theta::{Quantity, TemperaturePoint, Volumes};
 use crate::units::{
-    head_to_pressure_pa, A2Unit, ConcentrationUnit, DensityUnit, LengthUnit, MolarVolumeUnit, PressureUnit,
-    SpecificVolumeUnit, TemperatureUnit, UnknownUnit,
+    head_to_pressure_pa, A2Unit, ConcentrationUnit, DensityUnit, LengthUnit, MolarMassUnit, MolarVolumeUnit,
+    PressureUnit, SpecificVolumeUnit, TemperatureUnit, UnknownUnit,
 };
 use polars::prelude::*;
 use std::collections::HashMap;
@@ -62,8 +62,23 @@ pub struct FileContents {
     pub volumes: Vec<(String, Volumes)>,
     /// The solvent of each series, where a `solvent` column names it.
     pub solvents: Vec<(String, String)>,
+    /// Critical temperatures of fractions, for the Shultz–Flory route.
+    pub critical: Vec<CriticalRow>,
     /// Header cells that were not recognised and so were not used.
     pub ignored_columns: Vec<String>,
+}
+
+/// One fraction's critical (phase-separation) temperature.
+#[derive(Debug, Clone, PartialEq)]
+pub struct CriticalRow {
+    /// Series (polymer–solvent pair).
+    pub series: String,
+    /// Molar mass of the fraction, kg/mol.
+    pub molar_mass: f64,
+    /// Critical temperature, K.
+    pub critical_temperature_k: f64,
+    /// Line in the file.
+    pub line: usize,
 }
 
 /// Reads one CSV from memory. `name` is how the file is named in messages and is the series
@@ -79,6 +94,8 @@ pub fn read_file(
         read_osmometry(&table, options)?
     } else if table.has(Role::A2) || table.has(Role::Chi) {
         read_tabulated(&table, options)?
+    } else if table.has(Role::CriticalTemperature) {
+        read_critical(&table)?
     } else {
         return Err(InputError::at(
             name,
@@ -705,6 +722,36 @@ fn read_osmometry(table: &Table, options: &ReadOptions) -> Result<FileContents, 
         });
     }
     Ok(FileContents { measurements, ..FileContents::default() })
+}
+
+/// A table of fractions: `molar mass (g/mol)` and `critical temperature (C|K)` per row.
+fn read_critical(table: &Table) -> Result<FileContents, InputError> {
+    let m_col = table.require(Role::MolarMass)?;
+    let t_col = table.require(Role::CriticalTemperature)?;
+    let m_unit: MolarMassUnit = table.unit(m_col, None, "")?;
+    let t_unit: TemperatureUnit = table.unit(t_col, None, "")?;
+    let mut critical = Vec::new();
+    for row in table.rows() {
+        critical.push(CriticalRow {
+            series: table.series(row)?.into_owned(),
+            molar_mass: table.checked(
+                m_col,
+                row,
+                |x| m_unit.to_si(x),
+                false,
+                "a molar mass must be greater than zero",
+            )?,
+            critical_temperature_k: table.checked(
+                t_col,
+                row,
+                |x| t_unit.to_kelvin(x),
+                false,
+                "a temperature must lie above absolute zero (0 K)",
+            )?,
+            line: table.line(row),
+        });
+    }
+    Ok(FileContents { critical, ..FileContents::default() })
 }
 
 fn read_tabulated(table: &Table, options: &ReadOptions) -> Result<FileContents, InputError> {

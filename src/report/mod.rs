@@ -38,6 +38,57 @@ pub struct Report {
     pub warnings: Vec<String>,
     /// One entry per series, in input order.
     pub series: Vec<SeriesReport>,
+    /// θ of one polymer–solvent pair by several routes, where the inputs hold more than one.
+    pub routes: Vec<RouteComparison>,
+}
+
+/// One route's θ for a comparison.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct RouteTheta {
+    /// `osmometry`, `a2_table`, `chi_table` or `critical_temperatures`.
+    pub route: &'static str,
+    /// θ, K.
+    pub theta_k: f64,
+    /// SE, K.
+    pub se_k: f64,
+    /// Interval, K.
+    pub ci_low_k: Option<f64>,
+    /// Interval, K.
+    pub ci_high_k: Option<f64>,
+}
+
+/// Two routes' difference in units of their combined SE.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct RouteDifference {
+    /// First route.
+    pub a: &'static str,
+    /// Second route.
+    pub b: &'static str,
+    /// θ_a − θ_b, K.
+    pub difference_k: f64,
+    /// (θ_a − θ_b)/√(SE_a² + SE_b²).
+    pub z: f64,
+}
+
+/// Every route of one series name, their differences and an inverse-variance combination.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct RouteComparison {
+    /// Series name shared by the routes.
+    pub series: String,
+    /// Each route's θ.
+    pub routes: Vec<RouteTheta>,
+    /// Pairwise differences.
+    pub differences: Vec<RouteDifference>,
+    /// Inverse-variance weighted θ, K.
+    pub combined_theta_k: f64,
+    /// Its SE, K.
+    pub combined_se_k: f64,
+    /// χ² of one common θ, on routes − 1 degrees of freedom.
+    pub chi2: f64,
+    /// Its p-value.
+    pub p_value: f64,
+    /// p < 0.01: the routes disagree; the combined value should not be used as it is.
+    pub disagree: bool,
 }
 
 /// One input file.
@@ -125,6 +176,10 @@ pub struct SeriesReport {
     pub skipped_temperatures: Vec<SkippedReport>,
     /// The θ analysis (null for refused series).
     pub theta: Option<ThetaReport>,
+    /// `osmometry`, `a2_table`, `chi_table` or `critical_temperatures`.
+    pub route: &'static str,
+    /// The Shultz–Flory result of a critical-temperature series.
+    pub critical: Option<crate::theta::CriticalRoute>,
 }
 
 /// A skipped temperature.
@@ -318,6 +373,12 @@ impl SeriesReport {
             fits,
             skipped_temperatures,
             theta,
+            route: match (result.fits.is_empty(), result.quantity) {
+                (false, _) => "osmometry",
+                (true, crate::theta::Quantity::SecondVirial) => "a2_table",
+                (true, crate::theta::Quantity::HalfMinusChi) => "chi_table",
+            },
+            critical: None,
         }
     }
 }
@@ -357,7 +418,98 @@ impl Report {
                     report
                 })
                 .collect(),
+            routes: Vec::new(),
         }
+    }
+
+    /// Adds a series of critical temperatures (the Shultz–Flory route) and its result.
+    pub fn add_critical_series(&mut self, name: &str, result: Result<crate::theta::CriticalRoute, String>) {
+        let (status, reason, critical) = match result {
+            Ok(r) => (Status::Ok, None, Some(r)),
+            Err(e) => (Status::Refused, Some(e), None),
+        };
+        self.series.push(SeriesReport {
+            name: name.to_string(),
+            solvent: None,
+            status,
+            reason,
+            warnings: Vec::new(),
+            fits: Vec::new(),
+            skipped_temperatures: Vec::new(),
+            theta: None,
+            route: "critical_temperatures",
+            critical,
+        });
+    }
+
+    /// Compares the routes of every series name that appears more than once.
+    pub fn compare_routes(&mut self) {
+        let mut names: Vec<&str> = Vec::new();
+        for s in &self.series {
+            if !names.contains(&s.name.as_str()) {
+                names.push(&s.name);
+            }
+        }
+        let mut out = Vec::new();
+        for name in names {
+            let routes: Vec<RouteTheta> = self
+                .series
+                .iter()
+                .filter(|s| s.name == name)
+                .filter_map(|s| match (&s.theta, &s.critical) {
+                    (Some(t), _) => Some(RouteTheta {
+                        route: s.route,
+                        theta_k: t.theta_k?,
+                        se_k: t.se_k?,
+                        ci_low_k: t.ci_low_k,
+                        ci_high_k: t.ci_high_k,
+                    }),
+                    (None, Some(c)) => Some(RouteTheta {
+                        route: s.route,
+                        theta_k: c.theta_k,
+                        se_k: c.se_k,
+                        ci_low_k: c.ci_low_k,
+                        ci_high_k: c.ci_high_k,
+                    }),
+                    _ => None,
+                })
+                .filter(|r| r.se_k.is_finite() && r.se_k > 0.0)
+                .collect();
+            if routes.len() < 2 {
+                continue;
+            }
+            let mut differences = Vec::new();
+            for i in 0..routes.len() {
+                for j in i + 1..routes.len() {
+                    let d = routes[i].theta_k - routes[j].theta_k;
+                    differences.push(RouteDifference {
+                        a: routes[i].route,
+                        b: routes[j].route,
+                        difference_k: d,
+                        z: d / routes[i].se_k.hypot(routes[j].se_k),
+                    });
+                }
+            }
+            let w: Vec<f64> = routes.iter().map(|r| 1.0 / (r.se_k * r.se_k)).collect();
+            let w_sum: f64 = w.iter().sum();
+            let combined = routes.iter().zip(&w).map(|(r, w)| w * r.theta_k).sum::<f64>() / w_sum;
+            let chi2: f64 = routes.iter().zip(&w).map(|(r, w)| w * (r.theta_k - combined).powi(2)).sum();
+            let dof = routes.len() - 1;
+            let p_value = statrs::distribution::ChiSquared::new(dof as f64)
+                .map(|d| statrs::distribution::ContinuousCDF::sf(&d, chi2))
+                .unwrap_or(f64::NAN);
+            out.push(RouteComparison {
+                series: name.to_string(),
+                routes,
+                differences,
+                combined_theta_k: combined,
+                combined_se_k: w_sum.sqrt().recip(),
+                chi2,
+                p_value,
+                disagree: p_value < 0.01,
+            });
+        }
+        self.routes = out;
     }
 }
 

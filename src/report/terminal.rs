@@ -87,9 +87,45 @@ pub fn render_terminal(report: &Report) -> String {
         if let Some(t) = &s.theta {
             let _ = writeln!(out, "  {}", theta_line(t));
         }
+        if let Some(c) = &s.critical {
+            let _ = writeln!(
+                out,
+                "  critical temperatures of {} fractions (Shultz–Flory): θ = {:.2} °C = {:.2} ± {:.2} K, ψ1 = {}",
+                c.fractions,
+                c.theta_k - crate::units::CELSIUS_OFFSET_K,
+                c.theta_k,
+                c.se_k,
+                plus_minus(c.psi1, c.psi1_se)
+            );
+            let _ = writeln!(out, "  note: {}", c.note);
+        }
         for w in &s.warnings {
             let _ = writeln!(out, "  ! {w}");
         }
+        out.push('\n');
+    }
+    for r in &report.routes {
+        let _ = writeln!(out, "routes for {}:", r.series);
+        let _ = writeln!(out, "  {:<24} {:>10} {:>8}  interval (K)", "route", "θ (K)", "SE (K)");
+        for t in &r.routes {
+            let interval = match (t.ci_low_k, t.ci_high_k) {
+                (Some(lo), Some(hi)) => format!("{lo:.2}–{hi:.2}"),
+                _ => "unbounded".into(),
+            };
+            let _ = writeln!(out, "  {:<24} {:>10.2} {:>8.2}  {interval}", t.route, t.theta_k, t.se_k);
+        }
+        for d in &r.differences {
+            let _ = writeln!(out, "  {} − {}: {:+.2} K ({:+.1} combined SE)", d.a, d.b, d.difference_k, d.z);
+        }
+        let _ = writeln!(
+            out,
+            "  combined (inverse variance): {:.2} ± {:.2} K, χ² = {:.2}, p = {:.3}{}",
+            r.combined_theta_k,
+            r.combined_se_k,
+            r.chi2,
+            r.p_value,
+            if r.disagree { " — the routes DISAGREE: do not use the combined value as it is" } else { "" }
+        );
         out.push('\n');
     }
     for w in &report.warnings {

@@ -5,10 +5,12 @@
 //! the data support it), the local two-point crossing, and the joint fit of every reading.
 //! Intervals: delta method, Fieller, and a seeded bootstrap that reruns the whole pipeline.
 
+mod critical;
 mod curved;
 mod joint;
 mod line;
 
+pub use critical::{critical_route, CriticalRoute};
 pub use curved::{brent_root, CurvedFit};
 pub use joint::{joint_fit, JointFit};
 pub use line::{InverseTemperatureLine, ThetaSet};
