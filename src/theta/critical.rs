@@ -50,7 +50,7 @@ pub fn critical_route(fractions: &[(f64, f64)], volumes: Volumes, confidence: f6
     let fit = regression::fit(&regression::polynomial_design(&phi, 1), 2, &y, None, Weights::Relative)
         .map_err(|e| e.to_string())?;
     let (a, b) = (fit.coefficients[0], fit.coefficients[1]);
-    if !(a > 0.0) {
+    if a.is_nan() || a <= 0.0 {
         return Err("the intercept 1/θ is not positive: the fractions do not extrapolate to a θ".into());
     }
     let (va, vb, cab) = (fit.cov(0, 0), fit.cov(1, 1), fit.cov(0, 1));
