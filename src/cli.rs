@@ -170,6 +170,22 @@ pub struct ReadArgs {
     #[arg(long, value_enum, default_value_t = VirialArg::Auto)]
     pub virial: VirialArg,
 
+    /// Light scattering: optical constant K in mol cm²/g² (for 'rayleigh ratio' columns).
+    #[arg(long, value_name = "MOL_CM2_PER_G2", value_parser = parse_positive)]
+    pub optical_constant: Option<f64>,
+
+    /// Light scattering: refractive index n0 of the solvent.
+    #[arg(long, value_parser = parse_positive)]
+    pub refractive_index: Option<f64>,
+
+    /// Light scattering: refractive-index increment dn/dc in mL/g.
+    #[arg(long, value_name = "ML_PER_G", value_parser = parse_positive)]
+    pub dn_dc: Option<f64>,
+
+    /// Light scattering: vacuum wavelength in nm.
+    #[arg(long, value_name = "NM", value_parser = parse_positive)]
+    pub wavelength: Option<f64>,
+
     /// Refuse an input file larger than this, in MB (memory use is a few times the file size).
     #[arg(long, default_value_t = 2048, value_name = "MB")]
     pub max_input_mb: u64,

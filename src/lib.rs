@@ -20,6 +20,7 @@ pub mod plan;
 pub mod plot;
 pub mod regression;
 pub mod report;
+pub mod scattering;
 pub mod simulate;
 pub mod thermo;
 pub mod theta;

@@ -291,6 +291,69 @@ impl MolarMassUnit {
     }
 }
 
+unit_enum!(
+    /// K c/R, the reduced scattering of static light scattering.
+    KcOverRUnit, "kc/r", "mol/kg", {
+        /// mol/g = 10³ mol/kg.
+        MolPerGram => "mol/g", [], 1.0e3;
+        /// mol/kg.
+        MolPerKilogram => "mol/kg", [], 1.0;
+    }
+);
+
+impl KcOverRUnit {
+    /// Value in this unit → mol/kg.
+    pub fn to_si(self, value: f64) -> f64 {
+        value * self.factor()
+    }
+}
+
+unit_enum!(
+    /// Excess Rayleigh ratio.
+    RayleighUnit, "rayleigh ratio", "1/m", {
+        /// 1/cm = 10² 1/m.
+        PerCentimetre => "1/cm", ["cm-1"], 1.0e2;
+        /// 1/m.
+        PerMetre => "1/m", ["m-1"], 1.0;
+    }
+);
+
+impl RayleighUnit {
+    /// Value in this unit → 1/m.
+    pub fn to_si(self, value: f64) -> f64 {
+        value * self.factor()
+    }
+}
+
+unit_enum!(
+    /// Scattering angle.
+    AngleUnit, "angle", "rad", {
+        /// Degree = π/180 rad.
+        Degree => "deg", ["degree", "degrees", "°"], std::f64::consts::PI / 180.0;
+        /// Radian.
+        Radian => "rad", [], 1.0;
+    }
+);
+
+impl AngleUnit {
+    /// Value in this unit → rad.
+    pub fn to_si(self, value: f64) -> f64 {
+        value * self.factor()
+    }
+}
+
+/// Optical constant of light scattering, K = 4π² n0² (dn/dc)² / (N_A λ0⁴), mol m²/kg², from n0,
+/// dn/dc in m³/kg and λ0 (vacuum wavelength) in m.
+pub fn optical_constant(refractive_index: f64, dn_dc: f64, wavelength_m: f64) -> f64 {
+    4.0 * std::f64::consts::PI.powi(2) * refractive_index.powi(2) * dn_dc.powi(2)
+        / (AVOGADRO_PER_MOL * wavelength_m.powi(4))
+}
+
+/// Magnitude of the scattering vector, q = 4π n0 sin(θ/2)/λ0, 1/m.
+pub fn scattering_vector(refractive_index: f64, angle_rad: f64, wavelength_m: f64) -> f64 {
+    4.0 * std::f64::consts::PI * refractive_index * (angle_rad / 2.0).sin() / wavelength_m
+}
+
 /// Hydrostatic osmotic pressure Π = ρ g_n h, in Pa, from ρ in kg/m³ and h in m.
 pub fn head_to_pressure_pa(density_kg_per_m3: f64, head_m: f64) -> f64 {
     density_kg_per_m3 * STANDARD_GRAVITY_M_PER_S2 * head_m

@@ -23,7 +23,7 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
             args.bootstrap, args.max_bootstrap
         )));
     }
-    let Loaded { inputs, dataset, warnings: run_warnings, critical, volumes } =
+    let Loaded { inputs, dataset, warnings: run_warnings, critical, volumes, scattering } =
         load(&args.files, &options, args.read.max_input_mb)?;
     let bar = Bar::new(analysis::work_units(&dataset.series, &dataset.tabulated, &settings), args.quiet);
     let results = analysis::analyze_with_progress(&dataset.series, &dataset.tabulated, &settings, &bar);
@@ -43,6 +43,7 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
     };
     let mut report = Report::new(inputs, report_settings, run_warnings, &results, &dataset);
     add_critical_series(&mut report, &critical, &volumes, &settings);
+    add_scattering_series(&mut report, &scattering, &volumes, &settings);
     report.compare_routes();
 
     if report.series.iter().all(|s| s.status == Status::Refused) {
@@ -166,6 +167,11 @@ pub(crate) fn read_options(args: &ReadArgs) -> Result<ReadOptions, Error> {
         concentration_unit: unit::<ConcentrationUnit>(&args.concentration_unit, "--concentration-unit")?,
         pressure_unit: unit::<PressureUnit>(&args.pressure_unit, "--pressure-unit")?,
         solvent_density_kg_per_m3: density,
+        // mol cm²/g² → mol m²/kg²: 10⁻⁴ m² over 10⁻⁶ kg²; mL/g → m³/kg; nm → m.
+        optical_constant: args.optical_constant.map(|k| k * 1e2),
+        refractive_index: args.refractive_index,
+        dn_dc: args.dn_dc.map(|d| d * 1e-3),
+        wavelength_m: args.wavelength.map(|l| l * 1e-9),
     })
 }
 
@@ -215,5 +221,36 @@ fn add_critical_series(
             None => Err("critical temperatures need v̄ and V1: give --polymer-specific-volume and --solvent-molar-volume, or the columns".into()),
         };
         report.add_critical_series(name, result);
+    }
+}
+
+/// Light-scattering series: Zimm fits per temperature, then the same θ machinery (on the
+/// light-scattering A2, a weight-average quantity).
+fn add_scattering_series(
+    report: &mut Report,
+    rows: &[thetaseek::input::ScatteringRow],
+    volumes: &[(String, Volumes)],
+    settings: &Settings,
+) {
+    let mut names: Vec<&str> = Vec::new();
+    for r in rows {
+        if !names.contains(&r.series.as_str()) {
+            names.push(&r.series);
+        }
+    }
+    for name in names {
+        let of: Vec<&thetaseek::input::ScatteringRow> = rows.iter().filter(|r| r.series == name).collect();
+        let mut fits = thetaseek::scattering::fit_series(&of);
+        let v = volumes.iter().find(|(s, _)| s == name).map(|(_, v)| *v).or(settings.volumes);
+        let theta = thetaseek::theta::theta_from_points(
+            &thetaseek::scattering::points(&fits),
+            thetaseek::theta::Quantity::SecondVirial,
+            v,
+            &settings.theta,
+        );
+        if let Some(t) = theta.theta_k {
+            thetaseek::scattering::set_expansion(&mut fits, t);
+        }
+        report.add_scattering_series(name, fits, &theta);
     }
 }

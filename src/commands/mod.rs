@@ -106,6 +106,8 @@ pub struct Loaded {
     pub critical: Vec<input::CriticalRow>,
     /// v̄ and V1 per series, as the files gave them.
     pub volumes: Vec<(String, thetaseek::theta::Volumes)>,
+    /// Static light-scattering readings.
+    pub scattering: Vec<input::ScatteringRow>,
 }
 
 /// Reads every data file (osmometry, A2 or χ tables) into one dataset.
@@ -115,6 +117,7 @@ pub fn load(files: &[PathBuf], options: &ReadOptions, max_mb: u64) -> Result<Loa
     let (mut a2_rows, mut chi_rows): (Vec<TabulatedRow>, Vec<TabulatedRow>) = (Vec::new(), Vec::new());
     let (mut volumes, mut solvents) = (Vec::new(), Vec::new());
     let mut critical = Vec::new();
+    let mut scattering = Vec::new();
     let mut warnings = Vec::new();
     for (index, path) in files.iter().enumerate() {
         let bytes = read_input(path, max_mb)?;
@@ -132,8 +135,9 @@ pub fn load(files: &[PathBuf], options: &ReadOptions, max_mb: u64) -> Result<Loa
         volumes.extend(contents.volumes);
         solvents.extend(contents.solvents);
         critical.extend(contents.critical);
+        scattering.extend(contents.scattering);
         inputs.push(InputFile::new(&name, &bytes));
     }
     let dataset = Dataset::new(&measurements, &a2_rows, &chi_rows, &volumes, &solvents);
-    Ok(Loaded { inputs, dataset, warnings, critical, volumes })
+    Ok(Loaded { inputs, dataset, warnings, critical, volumes, scattering })
 }

@@ -43,6 +43,12 @@ pub enum Role {
     MolarMass,
     /// Critical (phase-separation) temperature of a fraction.
     CriticalTemperature,
+    /// K c / R, already formed (static light scattering).
+    KcOverR,
+    /// Excess Rayleigh ratio R (static light scattering).
+    RayleighRatio,
+    /// Scattering angle.
+    Angle,
 }
 
 impl Role {
@@ -69,6 +75,9 @@ impl Role {
             Role::Notes => "notes",
             Role::MolarMass => "molar mass",
             Role::CriticalTemperature => "critical temperature",
+            Role::KcOverR => "kc/r",
+            Role::RayleighRatio => "rayleigh ratio",
+            Role::Angle => "angle",
         }
     }
 
@@ -93,6 +102,9 @@ impl Role {
             "notes" | "note" => Role::Notes,
             "molar mass" | "mw" | "molecular weight" => Role::MolarMass,
             "critical temperature" | "tc" => Role::CriticalTemperature,
+            "kc/r" | "k c / r" | "kc/r0" => Role::KcOverR,
+            "rayleigh ratio" | "excess rayleigh ratio" => Role::RayleighRatio,
+            "angle" | "scattering angle" => Role::Angle,
             "a2" | "second virial coefficient" => Role::A2,
             "a2 sd" | "second virial coefficient sd" => Role::A2Sd,
             "chi" | "χ" => Role::Chi,

@@ -17,8 +17,8 @@ use crate::dataset::{Measurement, Origin, TabulatedRow};
 use crate::error::InputError;
 use crate::theta::{Quantity, TemperaturePoint, Volumes};
 use crate::units::{
-    head_to_pressure_pa, A2Unit, ConcentrationUnit, DensityUnit, LengthUnit, MolarMassUnit, MolarVolumeUnit,
-    PressureUnit, SpecificVolumeUnit, TemperatureUnit, UnknownUnit,
+    head_to_pressure_pa, A2Unit, AngleUnit, ConcentrationUnit, DensityUnit, KcOverRUnit, LengthUnit, MolarMassUnit,
+    MolarVolumeUnit, PressureUnit, RayleighUnit, SpecificVolumeUnit, TemperatureUnit, UnknownUnit,
 };
 use polars::prelude::*;
 use std::collections::HashMap;
@@ -47,6 +47,31 @@ pub struct ReadOptions {
     pub pressure_unit: Option<PressureUnit>,
     /// Solvent density in kg/m³ for `head` columns, when the file has no density column.
     pub solvent_density_kg_per_m3: Option<f64>,
+    /// Light-scattering optical constant K, mol m²/kg² (for `rayleigh ratio` columns).
+    pub optical_constant: Option<f64>,
+    /// Solvent refractive index n0 (for angles, and K when not given).
+    pub refractive_index: Option<f64>,
+    /// Refractive-index increment dn/dc, m³/kg (for K when not given).
+    pub dn_dc: Option<f64>,
+    /// Vacuum wavelength λ0, m.
+    pub wavelength_m: Option<f64>,
+}
+
+/// One static light-scattering reading, SI.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ScatteringRow {
+    /// Series.
+    pub series: String,
+    /// T, K.
+    pub temperature_k: f64,
+    /// c, kg/m³.
+    pub concentration: f64,
+    /// K c / R, mol/kg.
+    pub kc_over_r: f64,
+    /// Scattering vector q, 1/m (`None`: zero angle, or no angle column).
+    pub q: Option<f64>,
+    /// Line in the file.
+    pub line: usize,
 }
 
 /// What one file held, in SI units.
@@ -64,6 +89,8 @@ pub struct FileContents {
     pub solvents: Vec<(String, String)>,
     /// Critical temperatures of fractions, for the Shultz–Flory route.
     pub critical: Vec<CriticalRow>,
+    /// Static light-scattering readings.
+    pub scattering: Vec<ScatteringRow>,
     /// Header cells that were not recognised and so were not used.
     pub ignored_columns: Vec<String>,
 }
@@ -96,6 +123,8 @@ pub fn read_file(
         read_tabulated(&table, options)?
     } else if table.has(Role::CriticalTemperature) {
         read_critical(&table)?
+    } else if table.has(Role::KcOverR) || table.has(Role::RayleighRatio) {
+        read_scattering(&table, options)?
     } else {
         return Err(InputError::at(
             name,
@@ -722,6 +751,81 @@ fn read_osmometry(table: &Table, options: &ReadOptions) -> Result<FileContents, 
         });
     }
     Ok(FileContents { measurements, ..FileContents::default() })
+}
+
+/// Static light scattering: `kc/r (mol/g)`, or `rayleigh ratio (1/cm)` with the optical
+/// constant (given or computed from n0, dn/dc and λ0); optional `angle (deg)` (needs n0, λ0).
+fn read_scattering(table: &Table, options: &ReadOptions) -> Result<FileContents, InputError> {
+    let temperatures = table.temperatures(options)?;
+    let c_col = table.require(Role::Concentration)?;
+    let c_unit: ConcentrationUnit = table.unit(c_col, options.concentration_unit, "--concentration-unit")?;
+    let header_error = |col: usize, what: &str| {
+        InputError::at(table.name, table.layout.header_line, Some(&table.cells[col].raw), None, what.to_string())
+    };
+    enum Response {
+        Formed(usize, KcOverRUnit),
+        Rayleigh(usize, RayleighUnit, f64),
+    }
+    let response = match (table.column(Role::KcOverR), table.column(Role::RayleighRatio)) {
+        (Some(c), None) => Response::Formed(c, table.unit(c, None, "")?),
+        (None, Some(c)) => {
+            let k = options
+                .optical_constant
+                .or_else(|| match (options.refractive_index, options.dn_dc, options.wavelength_m) {
+                    (Some(n), Some(d), Some(l)) => Some(crate::units::optical_constant(n, d, l)),
+                    _ => None,
+                })
+                .ok_or_else(|| {
+                    header_error(
+                        c,
+                        "a Rayleigh ratio needs the optical constant: give --optical-constant, or --refractive-index, --dn-dc and --wavelength",
+                    )
+                })?;
+            Response::Rayleigh(c, table.unit(c, None, "")?, k)
+        }
+        (Some(_), Some(c)) => return Err(header_error(c, "give either 'kc/r' or 'rayleigh ratio', not both")),
+        (None, None) => return Err(header_error(0, "no 'kc/r' or 'rayleigh ratio' column")),
+    };
+    let angle = match table.column(Role::Angle) {
+        Some(a) => {
+            let unit: AngleUnit = table.unit(a, None, "")?;
+            let (n, l) = match (options.refractive_index, options.wavelength_m) {
+                (Some(n), Some(l)) => (n, l),
+                _ => return Err(header_error(a, "angles need --refractive-index and --wavelength to form q")),
+            };
+            Some((a, unit, n, l))
+        }
+        None => None,
+    };
+    let mut scattering = Vec::new();
+    for row in table.rows() {
+        let c = table.checked(c_col, row, |x| c_unit.to_si(x), false, "a concentration must be greater than zero")?;
+        let kc_over_r = match response {
+            Response::Formed(col, unit) => {
+                table.checked(col, row, |x| unit.to_si(x), false, "K c/R must be greater than zero")?
+            }
+            Response::Rayleigh(col, unit, k) => {
+                k * c
+                    / table.checked(col, row, |x| unit.to_si(x), false, "a Rayleigh ratio must be greater than zero")?
+            }
+        };
+        let q = match angle {
+            Some((col, unit, n, l)) => {
+                let theta = table.checked(col, row, |x| unit.to_si(x), true, "an angle cannot be negative")?;
+                Some(crate::units::scattering_vector(n, theta, l))
+            }
+            None => None,
+        };
+        scattering.push(ScatteringRow {
+            series: table.series(row)?.into_owned(),
+            temperature_k: temperatures[row],
+            concentration: c,
+            kc_over_r,
+            q,
+            line: table.line(row),
+        });
+    }
+    Ok(FileContents { scattering, ..FileContents::default() })
 }
 
 /// A table of fractions: `molar mass (g/mol)` and `critical temperature (C|K)` per row.

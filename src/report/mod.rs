@@ -180,6 +180,8 @@ pub struct SeriesReport {
     pub route: &'static str,
     /// The Shultz–Flory result of a critical-temperature series.
     pub critical: Option<crate::theta::CriticalRoute>,
+    /// Per-temperature light-scattering fits (Mw, A2, Rg, α_s) of a light-scattering series.
+    pub light_scattering: Vec<crate::scattering::ScatteringFit>,
 }
 
 /// A skipped temperature.
@@ -379,6 +381,7 @@ impl SeriesReport {
                 (true, crate::theta::Quantity::HalfMinusChi) => "chi_table",
             },
             critical: None,
+            light_scattering: Vec::new(),
         }
     }
 }
@@ -439,6 +442,30 @@ impl Report {
             theta: None,
             route: "critical_temperatures",
             critical,
+            light_scattering: Vec::new(),
+        });
+    }
+
+    /// Adds a light-scattering series: its per-temperature fits and its θ analysis.
+    pub fn add_scattering_series(
+        &mut self,
+        name: &str,
+        fits: Vec<crate::scattering::ScatteringFit>,
+        theta: &crate::theta::ThetaResult,
+    ) {
+        let status = if fits.is_empty() { Status::Refused } else { Status::Ok };
+        self.series.push(SeriesReport {
+            name: name.to_string(),
+            solvent: None,
+            status,
+            reason: fits.is_empty().then(|| "no temperature had three concentrations".to_string()),
+            warnings: theta.warnings.clone(),
+            fits: Vec::new(),
+            skipped_temperatures: Vec::new(),
+            theta: (!fits.is_empty()).then(|| ThetaReport::new(theta, crate::theta::Quantity::SecondVirial)),
+            route: "light_scattering",
+            critical: None,
+            light_scattering: fits,
         });
     }
 

@@ -87,6 +87,24 @@ pub fn render_terminal(report: &Report) -> String {
         if let Some(t) = &s.theta {
             let _ = writeln!(out, "  {}", theta_line(t));
         }
+        if !s.light_scattering.is_empty() {
+            let _ = writeln!(
+                out,
+                "  light scattering (weight averages): {:>7} {:>24} {:>28} {:>10} {:>6}",
+                "T (K)", "Mw (g/mol)", "A2 (mol mL/g²)", "Rg (nm)", "α_s"
+            );
+            for f in &s.light_scattering {
+                let _ = writeln!(
+                    out,
+                    "  {:>43.2} {:>24} {:>28} {:>10} {:>6}",
+                    f.temperature_k,
+                    plus_minus(f.mw_g_per_mol, f.mw_se_g_per_mol),
+                    plus_minus(f.a2_mol_ml_per_g2, f.a2_se_mol_ml_per_g2),
+                    f.rg_nm.map_or("—".into(), |r| format!("{r:.1}")),
+                    f.expansion_factor.map_or("—".into(), |a| format!("{a:.3}"))
+                );
+            }
+        }
         if let Some(c) = &s.critical {
             let _ = writeln!(
                 out,

@@ -1,0 +1,152 @@
+//! Static light scattering per temperature (Debye/Zimm): K c/R = 1/Mw (1 + q² Rg²/3) + 2 A2 c
+//! (Zimm 1948, J. Chem. Phys. 16, 1093) — note the factor 2 against the osmotic form
+//! Π/(cRT) = 1/Mn + A2 c. With several angles the data are extrapolated twice: per
+//! concentration to q → 0 (the zero-angle values, fitted in c for Mw and A2) and per angle to
+//! c → 0 (fitted in q² for Rg, the z-average radius of gyration). SI units: c in kg/m³, K c/R in
+//! mol/kg, q in 1/m, Mw in kg/mol, A2 in mol m³/kg², Rg in m.
+
+use crate::input::ScatteringRow;
+use crate::regression::{self, Weights};
+use crate::theta::TemperaturePoint;
+use serde::Serialize;
+
+/// One temperature's light-scattering result.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ScatteringFit {
+    /// T, K.
+    pub temperature_k: f64,
+    /// Readings.
+    pub n_points: usize,
+    /// Weight-average molar mass Mw, g/mol.
+    pub mw_g_per_mol: f64,
+    /// SE of Mw, g/mol.
+    pub mw_se_g_per_mol: f64,
+    /// A2 (light-scattering average), mol mL/g².
+    pub a2_mol_ml_per_g2: f64,
+    /// SE of A2.
+    pub a2_se_mol_ml_per_g2: f64,
+    /// z-average radius of gyration, nm (with angles).
+    pub rg_nm: Option<f64>,
+    /// SE of Rg, nm.
+    pub rg_se_nm: Option<f64>,
+    /// α_s = Rg(T)/Rg(θ), with Rg(θ) interpolated at the estimated θ.
+    pub expansion_factor: Option<f64>,
+}
+
+fn distinct(values: impl Iterator<Item = f64>) -> Vec<f64> {
+    let mut v: Vec<f64> = values.collect();
+    v.sort_by(f64::total_cmp);
+    v.dedup_by(|a, b| (*a - *b).abs() <= 1e-9 * b.abs().max(1e-30));
+    v
+}
+
+/// Straight-line intercept, slope and their covariance of y against x.
+fn line(x: &[f64], y: &[f64]) -> Option<(f64, f64, f64, f64, f64)> {
+    let f = regression::fit(&regression::polynomial_design(x, 1), 2, y, None, Weights::Relative).ok()?;
+    Some((f.coefficients[0], f.coefficients[1], f.cov(0, 0), f.cov(1, 1), f.cov(0, 1)))
+}
+
+/// Fits one temperature's readings; `None` with fewer than 3 concentrations.
+pub fn fit_temperature(rows: &[&ScatteringRow]) -> Option<ScatteringFit> {
+    let temperature_k = rows.iter().map(|r| r.temperature_k).sum::<f64>() / rows.len() as f64;
+    let q2 = |r: &ScatteringRow| r.q.map_or(0.0, |q| q * q);
+    let angles = distinct(rows.iter().map(|r| q2(r)));
+    let concentrations = distinct(rows.iter().map(|r| r.concentration));
+    let same = |a: f64, b: f64| (a - b).abs() <= 1e-9 * b.abs().max(1e-30);
+    // Zero-angle values per concentration.
+    let (c0, y0): (Vec<f64>, Vec<f64>) = if angles.len() >= 2 {
+        concentrations
+            .iter()
+            .filter_map(|&c| {
+                let at: Vec<&&ScatteringRow> = rows.iter().filter(|r| same(r.concentration, c)).collect();
+                let x: Vec<f64> = at.iter().map(|r| q2(r)).collect();
+                let y: Vec<f64> = at.iter().map(|r| r.kc_over_r).collect();
+                (distinct(x.iter().copied()).len() >= 2).then(|| line(&x, &y)).flatten().map(|l| (c, l.0))
+            })
+            .unzip()
+    } else {
+        rows.iter().map(|r| (r.concentration, r.kc_over_r)).unzip()
+    };
+    if distinct(c0.iter().copied()).len() < 3 {
+        return None;
+    }
+    let (a, b, va, vb, _) = line(&c0, &y0)?;
+    if a.is_nan() || a <= 0.0 {
+        return None;
+    }
+    // Zero-concentration values per angle, then Rg² = 3 (slope/intercept) in q².
+    let (rg, rg_se) = if angles.len() >= 2 {
+        let (qq, yc): (Vec<f64>, Vec<f64>) = angles
+            .iter()
+            .filter_map(|&q| {
+                let at: Vec<&&ScatteringRow> = rows.iter().filter(|r| same(q2(r), q)).collect();
+                let x: Vec<f64> = at.iter().map(|r| r.concentration).collect();
+                let y: Vec<f64> = at.iter().map(|r| r.kc_over_r).collect();
+                (distinct(x.iter().copied()).len() >= 2).then(|| line(&x, &y)).flatten().map(|l| (q, l.0))
+            })
+            .unzip();
+        match (qq.len() >= 3).then(|| line(&qq, &yc)).flatten() {
+            Some((i, s, vi, vs, cis)) if i > 0.0 && s > 0.0 => {
+                let rg2 = 3.0 * s / i;
+                // Var(s/i) by the delta method.
+                let var_ratio = vs / (i * i) + s * s * vi / i.powi(4) - 2.0 * s * cis / i.powi(3);
+                let rg = rg2.sqrt();
+                (Some(rg), Some(3.0 * var_ratio.max(0.0).sqrt() / (2.0 * rg)))
+            }
+            _ => (None, None),
+        }
+    } else {
+        (None, None)
+    };
+    Some(ScatteringFit {
+        temperature_k,
+        n_points: rows.len(),
+        mw_g_per_mol: 1e3 / a,
+        mw_se_g_per_mol: 1e3 * va.sqrt() / (a * a),
+        // Kc/R = 1/Mw + 2 A2 c: the slope is twice A2.
+        a2_mol_ml_per_g2: b / 2.0,
+        a2_se_mol_ml_per_g2: vb.sqrt() / 2.0,
+        rg_nm: rg.map(|r| r * 1e9),
+        rg_se_nm: rg_se.map(|r| r * 1e9),
+        expansion_factor: None,
+    })
+}
+
+/// Fits every temperature of one series (temperatures grouped to 0.01 K, ascending).
+pub fn fit_series(rows: &[&ScatteringRow]) -> Vec<ScatteringFit> {
+    let mut keys: Vec<i64> = rows.iter().map(|r| (r.temperature_k / 0.01).round() as i64).collect();
+    keys.sort_unstable();
+    keys.dedup();
+    keys.iter()
+        .filter_map(|&k| {
+            let at: Vec<&ScatteringRow> =
+                rows.iter().copied().filter(|r| (r.temperature_k / 0.01).round() as i64 == k).collect();
+            fit_temperature(&at)
+        })
+        .collect()
+}
+
+/// A2 points for the θ machinery.
+pub fn points(fits: &[ScatteringFit]) -> Vec<TemperaturePoint> {
+    fits.iter()
+        .map(|f| TemperaturePoint {
+            temperature_k: f.temperature_k,
+            value: f.a2_mol_ml_per_g2,
+            se: Some(f.a2_se_mol_ml_per_g2),
+        })
+        .collect()
+}
+
+/// Sets α_s(T) = Rg(T)/Rg(θ), Rg(θ) linearly interpolated between the temperatures around θ.
+pub fn set_expansion(fits: &mut [ScatteringFit], theta_k: f64) {
+    let with_rg: Vec<(f64, f64)> = fits.iter().filter_map(|f| f.rg_nm.map(|r| (f.temperature_k, r))).collect();
+    let rg_theta = with_rg.windows(2).find(|w| w[0].0 <= theta_k && theta_k <= w[1].0).map(|w| {
+        let f = (theta_k - w[0].0) / (w[1].0 - w[0].0);
+        w[0].1 + f * (w[1].1 - w[0].1)
+    });
+    if let Some(r0) = rg_theta {
+        for f in fits.iter_mut() {
+            f.expansion_factor = f.rg_nm.map(|r| r / r0);
+        }
+    }
+}

@@ -1,0 +1,114 @@
+//! Static light scattering: simulated Zimm data with known Mw, Rg and A2 are recovered, the
+//! factor 2 of K c/R = 1/Mw + 2 A2 c is applied, and the route joins the θ comparison.
+
+use assert_cmd::Command;
+use rand::SeedableRng;
+use rand_chacha::ChaCha8Rng;
+use rand_distr::{Distribution, Normal};
+use serde_json::Value;
+use std::fmt::Write;
+use thetaseek::thermo::flory_krigbaum_a2;
+use thetaseek::units::{optical_constant, scattering_vector};
+
+const N0: f64 = 1.33;
+const LAMBDA: f64 = 633e-9;
+
+/// K c/R at T for Mw = 500 kg/mol, A2 from Flory–Krigbaum (θ = 305 K) and Rg(T) growing with A2.
+fn zimm_csv(noise: f64, rayleigh: bool) -> String {
+    let mut rng = ChaCha8Rng::seed_from_u64(21);
+    let eps = Normal::new(0.0, noise).unwrap();
+    let k = optical_constant(N0, 0.19e-3, LAMBDA);
+    let mut text = if rayleigh {
+        String::from("series,temperature (K),concentration (g/L),angle (deg),rayleigh ratio (1/cm)\n")
+    } else {
+        String::from("series,temperature (K),concentration (g/L),angle (deg),kc/r (mol/g)\n")
+    };
+    for t in [295.0, 300.0, 305.0, 310.0, 315.0] {
+        let a2 = flory_krigbaum_a2(t, 305.0, 0.4, 0.9e-3, 100e-6);
+        let rg = 25e-9 * (1.0 + 200.0 * a2);
+        for c in [0.5, 1.0, 1.5, 2.0, 2.5] {
+            for angle in [30.0, 60.0, 90.0, 120.0, 150.0f64] {
+                let q = scattering_vector(N0, angle.to_radians(), LAMBDA);
+                let y = (1.0 / 500.0) * (1.0 + q * q * rg * rg / 3.0) + 2.0 * a2 * c;
+                let y = y * (1.0 + eps.sample(&mut rng));
+                if rayleigh {
+                    // R = K c/(Kc/R), in 1/m → 1/cm.
+                    let _ = writeln!(text, "ls,{t},{c},{angle},{:e}", k * c / y * 1e-2);
+                } else {
+                    let _ = writeln!(text, "ls,{t},{c},{angle},{:e}", y * 1e-3);
+                }
+            }
+        }
+    }
+    text
+}
+
+fn run(csv: &str, extra: &[&str]) -> Value {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("ls.csv");
+    std::fs::write(&path, csv).unwrap();
+    let out = Command::cargo_bin("thetaseek")
+        .unwrap()
+        .arg("analyze")
+        .arg(&path)
+        .args(["--bootstrap", "0", "--report", "-", "--refractive-index", "1.33", "--wavelength", "633"])
+        .args(extra)
+        .assert()
+        .success()
+        .get_output()
+        .stdout
+        .clone();
+    serde_json::from_slice(&out).unwrap()
+}
+
+#[test]
+fn noise_free_zimm_data_give_back_mw_rg_and_a2_with_the_factor_two() {
+    let report = run(&zimm_csv(0.0, false), &[]);
+    let s = &report["series"][0];
+    assert_eq!(s["route"], "light_scattering");
+    for f in s["light_scattering"].as_array().unwrap() {
+        let t = f["temperature_k"].as_f64().unwrap();
+        let a2 = flory_krigbaum_a2(t, 305.0, 0.4, 0.9e-3, 100e-6);
+        assert!((f["mw_g_per_mol"].as_f64().unwrap() - 500_000.0).abs() < 1e-6 * 500_000.0);
+        // The slope of K c/R in c is 2 A2: the reported A2 is the truth, not twice it.
+        assert!((f["a2_mol_ml_per_g2"].as_f64().unwrap() - a2).abs() < 1e-9, "{t}");
+        let rg = 25.0 * (1.0 + 200.0 * a2);
+        assert!((f["rg_nm"].as_f64().unwrap() - rg).abs() < 1e-6 * rg, "{t}");
+    }
+    let theta = s["theta"]["theta_k"].as_f64().unwrap();
+    assert!((theta - 305.0).abs() < 1e-6, "{theta}");
+    // α_s = 1 at θ, above 1 in good solvent.
+    let alphas: Vec<f64> =
+        s["light_scattering"].as_array().unwrap().iter().map(|f| f["expansion_factor"].as_f64().unwrap()).collect();
+    assert!((alphas[2] - 1.0).abs() < 1e-6 && alphas[4] > 1.0 && alphas[0] < 1.0, "{alphas:?}");
+}
+
+#[test]
+fn rayleigh_ratios_with_a_computed_optical_constant_give_the_same_results() {
+    let formed = run(&zimm_csv(0.002, false), &[]);
+    let rayleigh = run(&zimm_csv(0.002, true), &["--dn-dc", "0.19"]);
+    let (a, b) = (&formed["series"][0]["light_scattering"], &rayleigh["series"][0]["light_scattering"]);
+    for (x, y) in a.as_array().unwrap().iter().zip(b.as_array().unwrap()) {
+        for key in ["mw_g_per_mol", "a2_mol_ml_per_g2", "rg_nm"] {
+            let (p, q) = (x[key].as_f64().unwrap(), y[key].as_f64().unwrap());
+            assert!((p - q).abs() <= 1e-6 * p.abs().max(1e-12), "{key}: {p} vs {q}");
+        }
+    }
+    let theta = formed["series"][0]["theta"]["theta_k"].as_f64().unwrap();
+    assert!((theta - 305.0).abs() < 2.0, "{theta}");
+}
+
+#[test]
+fn a_rayleigh_ratio_without_an_optical_constant_is_refused() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("ls.csv");
+    std::fs::write(&path, zimm_csv(0.0, true)).unwrap();
+    let a = Command::cargo_bin("thetaseek")
+        .unwrap()
+        .arg("analyze")
+        .arg(&path)
+        .args(["--refractive-index", "1.33", "--wavelength", "633"])
+        .assert()
+        .code(65);
+    assert!(String::from_utf8_lossy(&a.get_output().stderr).contains("optical constant"));
+}
