@@ -58,3 +58,25 @@ fn a_route_shifted_by_five_kelvin_is_flagged_as_disagreeing() {
     let z = routes["differences"][0]["z"].as_f64().unwrap();
     assert!(z.abs() > 3.0, "{z}");
 }
+
+#[test]
+fn the_html_report_shows_the_routes_compared() {
+    let dir = tempfile::tempdir().unwrap();
+    let tc = dir.path().join("tc.csv");
+    std::fs::write(&tc, fractions(0.0)).unwrap();
+    let html = dir.path().join("r.html");
+    let demo = Path::new(env!("CARGO_MANIFEST_DIR")).join("data/px40-osmometry.csv");
+    Command::cargo_bin("thetaseek")
+        .unwrap()
+        .arg("analyze")
+        .arg(&demo)
+        .arg(&tc)
+        .args(["--bootstrap", "0", "-q", "--html"])
+        .arg(&html)
+        .assert()
+        .success();
+    let text = std::fs::read_to_string(html).unwrap();
+    assert!(
+        text.contains("id=\"routes\"") && text.contains("critical_temperatures") && text.contains("inverse variance")
+    );
+}

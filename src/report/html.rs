@@ -279,6 +279,35 @@ pub fn analyze_html(report: &Report, figures: &[Figure], date: &str) -> String {
     }
     let _ = writeln!(b, "</section>");
 
+    if !report.routes.is_empty() {
+        let _ = writeln!(b, "<section id=\"routes\">\n<h2>Routes compared</h2>");
+        for r in &report.routes {
+            let _ = writeln!(b, "<h3>{}</h3>\n<div class=\"scroll\"><table>", escape(&r.series));
+            let _ = writeln!(b, "<tr><th>route</th><th>θ</th><th>SE (K)</th><th>interval (K)</th></tr>");
+            for t in &r.routes {
+                let _ = writeln!(
+                    b,
+                    "<tr><td>{}</td><td class=\"num\">{}</td><td class=\"num\">{:.2}</td><td class=\"num\">{}–{}</td></tr>",
+                    escape(t.route),
+                    k_and_c(Some(t.theta_k)),
+                    t.se_k,
+                    opt(t.ci_low_k, 2),
+                    opt(t.ci_high_k, 2)
+                );
+            }
+            let _ = writeln!(
+                b,
+                "</table></div>\n<p{}>combined (inverse variance): {} ± {:.2} K; χ² = {:.2}, p = {:.3}{}</p>",
+                if r.disagree { " class=\"warn\"" } else { "" },
+                k_and_c(Some(r.combined_theta_k)),
+                r.combined_se_k,
+                r.chi2,
+                r.p_value,
+                if r.disagree { " — the routes disagree" } else { "" }
+            );
+        }
+        let _ = writeln!(b, "</section>");
+    }
     let settings = serde_json::to_string_pretty(&report.settings).unwrap_or_default();
     provenance(&mut b, &report.tool_version, &report.inputs, &settings, date);
     page("θ temperature report", &b)
