@@ -4,8 +4,8 @@
 //! Minimises S(β) = Σ r_i(β)², r = f(β) − y (weighted residuals where weights apply).
 //! Step: min ‖J p + r‖² + λ‖D p‖², solved as the stacked least-squares problem
 //! [J; √λ D] p = [−r; 0] (Moré 1978, "The Levenberg–Marquardt algorithm: implementation and
-//! theory", Lecture Notes in Math. 630), with D the running maximum of J's column norms and
-//! λ updated from the gain ratio (Nielsen 1999, IMM-REP-1999-05).
+//! theory", in Numerical Analysis, Dundee 1977, Springer LNM 630), with D the running maximum of
+//! J's column norms and λ updated from the gain ratio (Nielsen 1999, IMM-REP-1999-05).
 //! Covariance at the optimum: s² (JᵀJ)⁻¹ = s² R⁻¹R⁻ᵀ from the QR of J, s² = S/(n − p).
 
 use argmin::core::{

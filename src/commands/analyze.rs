@@ -206,13 +206,7 @@ fn add_critical_series(
     volumes: &[(String, Volumes)],
     settings: &Settings,
 ) {
-    let mut names: Vec<&str> = Vec::new();
-    for r in rows {
-        if !names.contains(&r.series.as_str()) {
-            names.push(&r.series);
-        }
-    }
-    for name in names {
+    for name in names_in_order(rows.iter().map(|r| r.series.as_str())) {
         let fractions: Vec<(f64, f64)> =
             rows.iter().filter(|r| r.series == name).map(|r| (r.molar_mass, r.critical_temperature_k)).collect();
         let v = volumes.iter().find(|(s, _)| s == name).map(|(_, v)| *v).or(settings.volumes);
@@ -232,13 +226,7 @@ fn add_scattering_series(
     volumes: &[(String, Volumes)],
     settings: &Settings,
 ) {
-    let mut names: Vec<&str> = Vec::new();
-    for r in rows {
-        if !names.contains(&r.series.as_str()) {
-            names.push(&r.series);
-        }
-    }
-    for name in names {
+    for name in names_in_order(rows.iter().map(|r| r.series.as_str())) {
         let of: Vec<&thetaseek::input::ScatteringRow> = rows.iter().filter(|r| r.series == name).collect();
         let mut fits = thetaseek::scattering::fit_series(&of);
         let v = volumes.iter().find(|(s, _)| s == name).map(|(_, v)| *v).or(settings.volumes);
@@ -253,4 +241,10 @@ fn add_scattering_series(
         }
         report.add_scattering_series(name, fits, &theta);
     }
+}
+
+/// Distinct names in order of first appearance.
+fn names_in_order<'a>(names: impl Iterator<Item = &'a str>) -> Vec<&'a str> {
+    let mut seen = std::collections::HashSet::new();
+    names.filter(|n| seen.insert(*n)).collect()
 }

@@ -471,12 +471,14 @@ impl Report {
 
     /// Compares the routes of every series name that appears more than once.
     pub fn compare_routes(&mut self) {
-        let mut names: Vec<&str> = Vec::new();
+        // Names that appear more than once, in order of first appearance.
+        let mut count: std::collections::HashMap<&str, usize> = std::collections::HashMap::new();
         for s in &self.series {
-            if !names.contains(&s.name.as_str()) {
-                names.push(&s.name);
-            }
+            *count.entry(s.name.as_str()).or_default() += 1;
         }
+        let mut seen = std::collections::HashSet::new();
+        let names: Vec<&str> =
+            self.series.iter().map(|s| s.name.as_str()).filter(|n| count[n] > 1 && seen.insert(*n)).collect();
         let mut out = Vec::new();
         for name in names {
             let routes: Vec<RouteTheta> = self
