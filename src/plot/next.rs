@@ -4,6 +4,7 @@
 use super::{draw_legend, marker_element, series_colour, series_marker, FigureError, Marker, INK};
 use crate::design::SeriesDesign;
 use plotters::coord::Shift;
+use plotters::element::DashedPathElement;
 use plotters::prelude::*;
 
 /// One curve per series.
@@ -49,7 +50,7 @@ pub fn draw_next(root: &DrawingArea<SVGBackend, Shift>, designs: &[SeriesDesign]
             chart
                 .draw_series(DashedLineSeries::new(vec![(x_lo, now), (x_hi, now)], 8, 6, colour.stroke_width(1)))?
                 .label(format!("{}: today ({now:.2} K)", d.name))
-                .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 18, y)], colour.stroke_width(1)));
+                .legend(move |(x, y)| DashedPathElement::new(vec![(x, y), (x + 18, y)], 4, 3, colour.stroke_width(1)));
         }
         let marker = if series_marker(i) == Marker::Cross { Marker::Square } else { series_marker(i) };
         chart.draw_series(
