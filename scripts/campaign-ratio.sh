@@ -19,10 +19,11 @@ analyze=$(awk -v a="$start" -v b="$end" 'BEGIN { print b - a }')
 peak_mb=$(( $(cat "$work/mem") / 1024 ))
 printf 'campaign: %s series, %s MB\n' "$series" "$size_mb"
 printf 'floor (read + parse): %.3f s\nanalyze --bootstrap 0: %.3f s\nratio: %.2f\npeak memory: %s MB (%.1f x input)\n' \
-  "$floor" "$analyze" "$(echo "$analyze / $floor" | bc -l)" "$peak_mb" "$(echo "$peak_mb / $size_mb" | bc -l)"
+  "$floor" "$analyze" "$(awk -v a="$analyze" -v f="$floor" 'BEGIN { print a / f }')" \
+  "$peak_mb" "$(awk -v p="$peak_mb" -v s="$size_mb" 'BEGIN { print p / s }')"
 for threads in 1 2; do
   s=$(date +%s.%N)
   RAYON_NUM_THREADS=$threads ./target/release/thetaseek analyze "$work/campaign.csv" --bootstrap 200 -q
   e=$(date +%s.%N)
-  printf 'analyze --bootstrap 200, %s thread(s): %.2f s\n' "$threads" "$(echo "$e - $s" | bc -l)"
+  printf 'analyze --bootstrap 200, %s thread(s): %.2f s\n' "$threads" "$(awk -v a="$s" -v b="$e" 'BEGIN { print b - a }')"
 done
