@@ -10,9 +10,11 @@ pub fn plus_minus(value: f64, se: f64) -> String {
     }
     let exponent = value.abs().max(se).log10().floor() as i32;
     let se_exponent = se.log10().floor() as i32;
-    let decimals = (exponent - se_exponent + 1).max(0) as usize;
+    // Two significant figures of the SE, but never more than 6 decimals of mantissa: an SE
+    // many orders below the value (noise-free data) would otherwise print 17 digits.
+    let decimals = (exponent - se_exponent + 1).clamp(0, 6) as usize;
     if (-2..5).contains(&exponent) {
-        let places = (1 - se_exponent).max(0) as usize;
+        let places = (1 - se_exponent).clamp(0, 6 - exponent.min(0)) as usize;
         format!("{value:.places$} ± {se:.places$}")
     } else {
         let scale = 10f64.powi(exponent);
@@ -193,5 +195,6 @@ mod tests {
         assert_eq!(plus_minus(152345.6, 2345.0), "(1.523 ± 0.023)e5");
         assert_eq!(plus_minus(1.234e-4, 5.6e-6), "(1.234 ± 0.056)e-4");
         assert_eq!(plus_minus(12.346, 0.12), "12.35 ± 0.12");
+        assert_eq!(plus_minus(499_999.985, 1e-9), "(5.000000 ± 0.000000)e5");
     }
 }
