@@ -47,6 +47,10 @@ pub struct NextArgs {
     #[arg(long, default_value_t = 1.0, value_parser = parse_positive)]
     pub step: f64,
 
+    /// Confidence level of the θ intervals (today's and the predicted ones).
+    #[arg(long, default_value_t = 0.95, value_parser = parse_confidence)]
+    pub confidence: f64,
+
     /// Simulated datasets to check the predicted SE of the recommended design (0: none).
     #[arg(long, default_value_t = 500)]
     pub simulations: usize,

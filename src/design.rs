@@ -77,6 +77,8 @@ pub struct CandidateRun {
 pub struct SeriesDesign {
     /// Series name.
     pub name: String,
+    /// Confidence level of every interval width here.
+    pub confidence: f64,
     /// θ now.
     pub current: Current,
     /// The runs to make, in order.
@@ -103,6 +105,7 @@ struct Model {
     /// Noise of Π/(cRT), mol/kg.
     noise: f64,
     n: usize,
+    confidence: f64,
 }
 
 /// Σ(c − c̄)², the spread that fixes a straight virial line's slope precision.
@@ -112,7 +115,7 @@ fn spread(c: &[f64]) -> f64 {
 }
 
 impl Model {
-    fn new(points: &[MeasuredTemperature]) -> Option<Self> {
+    fn new(points: &[MeasuredTemperature], confidence: f64) -> Option<Self> {
         let tp: Vec<TemperaturePoint> = points.iter().map(|m| m.point).collect();
         let line = InverseTemperatureLine::fit(&tp).ok()?;
         let mut info = [0.0; 3];
@@ -138,6 +141,7 @@ impl Model {
             info,
             noise,
             n: points.len(),
+            confidence,
         })
     }
 
@@ -171,7 +175,7 @@ impl Model {
         let var_x = (va - 2.0 * r * cab + r * r * vb) / (b * b);
         let se = theta * theta * var_x.max(0.0).sqrt();
         let dof = (self.n + added.len()).saturating_sub(2);
-        let t = critical_value(0.95, (dof > 0).then_some(dof));
+        let t = critical_value(self.confidence, (dof > 0).then_some(dof));
         let width = match fieller_zero(a, b, va, cab, vb, t) {
             FiellerSet::Bounded(lo, hi) if self.x_centre + lo > 0.0 => {
                 Some(1.0 / (self.x_centre + lo) - 1.0 / (self.x_centre + hi))
@@ -186,13 +190,14 @@ impl Model {
 pub fn next_runs(name: &str, points: &[MeasuredTemperature], settings: &DesignSettings) -> SeriesDesign {
     let mut design = SeriesDesign {
         name: name.to_string(),
+        confidence: settings.confidence,
         current: Current { theta_k: None, se_k: None, ci_width_k: None },
         recommended: Vec::new(),
         candidates: Vec::new(),
         simulated_se_k: None,
         advice: Vec::new(),
     };
-    let Some(model) = Model::new(points) else {
+    let Some(model) = Model::new(points, settings.confidence) else {
         design.advice.push("fewer than two temperatures with a standard error: measure at two temperatures on either side of the expected θ first".into());
         return design;
     };

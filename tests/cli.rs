@@ -328,6 +328,18 @@ fn the_series_table_has_one_row_per_series_and_can_list_only_those_needing_atten
     assert!(all.lines().next().unwrap().contains("theta (K)") && all.contains("crossing"));
     assert_eq!(all.lines().count(), 3);
     let some = std::fs::read_to_string(some).unwrap();
-    // "good" has only two temperatures with few concentrations (warnings), "thin" is refused.
     assert!(some.contains("thin"));
+    // The filter drops a series that needs no look: the demo's mirane series is bracketed, has
+    // no warnings and every temperature fitted.
+    let both = dir.path().join("both.csv");
+    thetaseek()
+        .arg("analyze")
+        .arg(demo())
+        .arg(&input)
+        .args(["--bootstrap", "0", "-q", "--needs-attention", "--series-table"])
+        .arg(&both)
+        .assert()
+        .success();
+    let both = std::fs::read_to_string(both).unwrap();
+    assert!(both.contains("thin") && !both.contains("PX-40 in mirane"), "{both}");
 }

@@ -227,7 +227,9 @@ fn bad_plan_inputs_are_refused_and_nothing_is_written() {
     let full = dir.path().join("solvents.csv");
     run(&["--molar-mass", "1e5", "--thermostat", "80:40"], &full).code(2);
     run(&["--molar-mass", "0"], &full).code(2);
-    run(&["--molar-mass", "-5"], &full).code(2);
+    // `--molar-mass=-5` so that clap hands the value to its parser (a bare `-5` reads as a flag).
+    let a = run(&["--molar-mass=-5"], &full).code(2);
+    assert!(String::from_utf8_lossy(&a.get_output().stderr).contains("not a positive number"));
     run(&["--molar-mass", "1e5", "--goal", "expanded"], &full).code(2);
     assert!(!out.exists());
 }

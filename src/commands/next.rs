@@ -42,7 +42,7 @@ pub fn run(args: &NextArgs) -> Result<(), Error> {
         inputs.extend(data_inputs);
         let settings = Settings {
             virial: super::analyze::virial_choice(args.read.virial),
-            theta: ThetaSettings { bootstrap_replicates: 0, ..ThetaSettings::default() },
+            theta: ThetaSettings { confidence: args.confidence, bootstrap_replicates: 0, ..ThetaSettings::default() },
             volumes: None,
         };
         let results = analysis::analyze(&dataset.series, &[], &settings);
@@ -75,7 +75,7 @@ pub fn run(args: &NextArgs) -> Result<(), Error> {
             concentrations: args.concentrations.clone(),
             replicates: args.replicates as usize,
             budget: args.budget as usize,
-            confidence: 0.95,
+            confidence: args.confidence,
             simulations: args.simulations,
             seed: args.seed,
         };

@@ -81,11 +81,6 @@ impl Role {
         }
     }
 
-    /// Whether the column carries a physical unit.
-    pub fn has_unit(self) -> bool {
-        !matches!(self, Role::Series | Role::Chi | Role::ChiSd | Role::Solvent | Role::RefractiveIndex | Role::Notes)
-    }
-
     fn from_name(name: &str) -> Option<Role> {
         Some(match name {
             "series" | "sample" => Role::Series,

@@ -1,7 +1,7 @@
 //! Mn at each temperature with the weighted mean and its ±1 SE band: the consistency check
 //! (a drift hints at association near θ or at membrane leakage).
 
-use super::format::{axis, tick};
+use super::format::axis;
 use super::{draw_legend, marker_element, series_colour, series_marker, FigureError, GREY, INK};
 use crate::report::SeriesReport;
 use plotters::coord::Shift;
@@ -21,23 +21,14 @@ pub fn draw_mn(root: &DrawingArea<SVGBackend, Shift>, s: &SeriesReport, index: u
     let (y_lo, y_hi) = (y_min - y_pad, y_max + y_pad * 1.6);
     let (x_lo, x_hi) = axis(x_lo, x_hi);
     let (y_lo, y_hi) = axis(y_lo, y_hi);
-    let mut chart = ChartBuilder::on(root)
-        .caption(format!("Mn at each temperature: {}", s.name), ("sans-serif", 22).into_font().color(&INK))
-        .margin(16)
-        .x_label_area_size(48)
-        .y_label_area_size(80)
-        .build_cartesian_2d(x_lo..x_hi, y_lo..y_hi)?;
-    chart
-        .configure_mesh()
-        .light_line_style(WHITE.mix(0.0))
-        .bold_line_style(INK.mix(0.08))
-        .x_desc("T (K)")
-        .y_desc("Mn (kg/mol)")
-        .x_label_formatter(&|v| tick(*v, x_hi - x_lo))
-        .y_label_formatter(&|v| tick(*v, y_hi - y_lo))
-        .axis_desc_style(("sans-serif", 16).into_font().color(&INK))
-        .label_style(("sans-serif", 13).into_font().color(&INK))
-        .draw()?;
+    let mut chart = super::plain_chart(
+        root,
+        &format!("Mn at each temperature: {}", s.name),
+        (x_lo, x_hi),
+        (y_lo, y_hi),
+        "T (K)",
+        "Mn (kg/mol)",
+    )?;
     if let Some(m) = consistency {
         let (mean, se) = (m.mean_mn_g_per_mol / 1e3, m.mean_mn_se_g_per_mol / 1e3);
         chart

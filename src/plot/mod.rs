@@ -172,6 +172,38 @@ pub fn temperature_chart<'a, 'b>(
     Ok(chart)
 }
 
+/// Builds a chart with one x and one y axis over `x` and `y` (made drawable by [`axis`]), with
+/// our caption, mesh and tick labels.
+pub fn plain_chart<'a, 'b>(
+    root: &'a DrawingArea<SVGBackend<'b>, plotters::coord::Shift>,
+    caption: &str,
+    x: (f64, f64),
+    y: (f64, f64),
+    x_desc: &str,
+    y_desc: &str,
+) -> Result<Chart<'a, 'b>, FigureError> {
+    let (x_lo, x_hi) = axis(x.0, x.1);
+    let (y_lo, y_hi) = axis(y.0, y.1);
+    let mut chart = ChartBuilder::on(root)
+        .caption(caption, ("sans-serif", 22).into_font().color(&INK))
+        .margin(16)
+        .x_label_area_size(48)
+        .y_label_area_size(80)
+        .build_cartesian_2d(x_lo..x_hi, y_lo..y_hi)?;
+    chart
+        .configure_mesh()
+        .light_line_style(WHITE.mix(0.0))
+        .bold_line_style(INK.mix(0.08))
+        .x_desc(x_desc)
+        .y_desc(y_desc)
+        .x_label_formatter(&|v| tick(*v, x_hi - x_lo))
+        .y_label_formatter(&|v| tick(*v, y_hi - y_lo))
+        .axis_desc_style(("sans-serif", 16).into_font().color(&INK))
+        .label_style(("sans-serif", 13).into_font().color(&INK))
+        .draw()?;
+    Ok(chart)
+}
+
 /// Our legend: a light box at `position` with the series labels.
 pub fn draw_legend<'a, 'b: 'a>(chart: &mut Chart<'a, 'b>, position: SeriesLabelPosition) -> Result<(), FigureError> {
     chart

@@ -1,7 +1,7 @@
 //! Predicted θ interval width against the temperature of one more run, with today's width
 //! and the recommended runs marked.
 
-use super::{draw_legend, marker_element, series_colour, series_marker, FigureError, Marker, INK};
+use super::{draw_legend, marker_element, series_colour, series_marker, FigureError, Marker};
 use crate::design::SeriesDesign;
 use plotters::coord::Shift;
 use plotters::element::DashedPathElement;
@@ -20,23 +20,14 @@ pub fn draw_next(root: &DrawingArea<SVGBackend, Shift>, designs: &[SeriesDesign]
         temps.iter().copied().fold(f64::NEG_INFINITY, f64::max),
     );
     let (y_lo, y_hi) = super::axis(0.0, widths.iter().copied().fold(0.0, f64::max) * 1.15);
-    let mut chart = ChartBuilder::on(root)
-        .caption("Where to measure next", ("sans-serif", 22).into_font().color(&INK))
-        .margin(16)
-        .x_label_area_size(48)
-        .y_label_area_size(80)
-        .build_cartesian_2d(x_lo..x_hi, y_lo..y_hi)?;
-    chart
-        .configure_mesh()
-        .light_line_style(WHITE.mix(0.0))
-        .bold_line_style(INK.mix(0.08))
-        .x_desc("temperature of the next run (°C)")
-        .y_desc("predicted 95 % interval width of θ (K)")
-        .x_label_formatter(&|v| super::tick(*v, x_hi - x_lo))
-        .y_label_formatter(&|v| super::tick(*v, y_hi - y_lo))
-        .axis_desc_style(("sans-serif", 16).into_font().color(&INK))
-        .label_style(("sans-serif", 13).into_font().color(&INK))
-        .draw()?;
+    let mut chart = super::plain_chart(
+        root,
+        "Where to measure next",
+        (x_lo, x_hi),
+        (y_lo, y_hi),
+        "temperature of the next run (°C)",
+        &format!("predicted {:.0} % interval width of θ (K)", designs.first().map_or(95.0, |d| d.confidence * 100.0)),
+    )?;
     for (i, d) in designs.iter().enumerate() {
         let colour = series_colour(i);
         let mut pts: Vec<(f64, f64)> =

@@ -443,7 +443,7 @@ pub fn theta_from_points(
         result.ci_method = "fieller";
         result.ci_reason = "Fieller's interval inverts the t test of A2(θ) = 0 exactly for the line; it is asymmetric where it should be and never invents a bound".into();
     }
-    result.flory = flory_parameters(&line, theta, points, quantity, volumes);
+    result.flory = flory_parameters(&line, points, quantity, volumes);
     result.stability = stability(&line, quantity, volumes, settings.a2_tolerance);
     result.line = Some(line);
     result
@@ -497,7 +497,6 @@ pub fn local_crossing(points: &[TemperaturePoint]) -> ModelTheta {
 
 fn flory_parameters(
     line: &InverseTemperatureLine,
-    theta: f64,
     points: &[TemperaturePoint],
     quantity: Quantity,
     volumes: Option<Volumes>,
@@ -527,7 +526,6 @@ fn flory_parameters(
             }
         })
         .collect();
-    let _ = theta;
     Some(FloryParameters { psi1, psi1_se: var_a.sqrt() / k, kappa1_at_theta: psi1, temperatures })
 }
 
