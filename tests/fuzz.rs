@@ -11,9 +11,18 @@ use thetaseek::input::{read_file, read_solvents, ReadOptions};
 use thetaseek::report::{render_terminal, table_csv, to_json, Report, ReportSettings};
 use thetaseek::theta::{Quantity, ThetaSettings};
 
+/// A fixed seed keeps CI reproducible; `PROPTEST_RNG_SEED=N` (or `random`) explores further.
+fn seed() -> proptest::test_runner::RngSeed {
+    match std::env::var("PROPTEST_RNG_SEED").as_deref() {
+        Ok("random") => proptest::test_runner::RngSeed::Random,
+        Ok(v) => v.parse().unwrap_or(proptest::test_runner::RngSeed::Fixed(2026)),
+        Err(_) => proptest::test_runner::RngSeed::Fixed(2026),
+    }
+}
+
 fn config() -> ProptestConfig {
     let cases = std::env::var("PROPTEST_CASES").ok().and_then(|v| v.parse().ok()).unwrap_or(200);
-    ProptestConfig { cases, failure_persistence: None, ..ProptestConfig::default() }
+    ProptestConfig { cases, failure_persistence: None, rng_seed: seed(), ..ProptestConfig::default() }
 }
 
 /// Everything `thetaseek analyze` does after reading the file, in memory.

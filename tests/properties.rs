@@ -16,9 +16,18 @@ use thetaseek::thermo::flory_krigbaum_a2;
 use thetaseek::theta::ThetaSettings;
 use thetaseek::virial::{FormChoice, VirialForm};
 
+/// A fixed seed keeps CI reproducible; `PROPTEST_RNG_SEED=N` (or `random`) explores further.
+fn seed() -> proptest::test_runner::RngSeed {
+    match std::env::var("PROPTEST_RNG_SEED").as_deref() {
+        Ok("random") => proptest::test_runner::RngSeed::Random,
+        Ok(v) => v.parse().unwrap_or(proptest::test_runner::RngSeed::Fixed(2026)),
+        Err(_) => proptest::test_runner::RngSeed::Fixed(2026),
+    }
+}
+
 fn config() -> ProptestConfig {
     let cases = std::env::var("PROPTEST_CASES").ok().and_then(|v| v.parse().ok()).unwrap_or(24);
-    ProptestConfig { cases, ..ProptestConfig::default() }
+    ProptestConfig { cases, rng_seed: seed(), ..ProptestConfig::default() }
 }
 
 /// Rows "series,T,c,Π" of simulated series (θ, ψ1 per series), seeded.

@@ -5,9 +5,10 @@ use std::fmt::Write;
 
 /// Formats `value ± se` with the SE to two significant figures and the value to match.
 pub fn plus_minus(value: f64, se: f64) -> String {
-    if !(se.is_finite() && se > 0.0) {
-        return format!("{value:.4e}");
+    if !(se.is_finite() && se > 0.0) || !value.is_finite() {
+        return format!("{value:.4e} ± {se:.2e}");
     }
+    // Both are finite and se > 0, so the exponents lie within ±324.
     let exponent = value.abs().max(se).log10().floor() as i32;
     let se_exponent = se.log10().floor() as i32;
     // Two significant figures of the SE, but never more than 6 decimals of mantissa: an SE
@@ -196,5 +197,13 @@ mod tests {
         assert_eq!(plus_minus(1.234e-4, 5.6e-6), "(1.234 ± 0.056)e-4");
         assert_eq!(plus_minus(12.346, 0.12), "12.35 ± 0.12");
         assert_eq!(plus_minus(499_999.985, 1e-9), "(5.000000 ± 0.000000)e5");
+    }
+
+    #[test]
+    fn fuzz_found_plus_minus_overflowed_on_an_infinite_value() {
+        // tests/fuzz.rs: an infinite A2 made `exponent − se_exponent` overflow i32.
+        assert_eq!(plus_minus(f64::INFINITY, 1e-3), "inf ± 1.00e-3");
+        assert_eq!(plus_minus(f64::NAN, 1.0), "NaN ± 1.00e0");
+        assert!(plus_minus(1e300, 1e-300).starts_with("(1.000000 ± 0.000000)e300"));
     }
 }
