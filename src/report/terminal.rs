@@ -5,7 +5,7 @@ use std::fmt::Write;
 
 /// Formats `value ± se` with the SE to two significant figures and the value to match.
 pub fn plus_minus(value: f64, se: f64) -> String {
-    if !(se.is_finite() && se > 0.0) || !value.is_finite() {
+    if !(se.is_finite() && se > 0.0 && value.is_finite()) {
         return format!("{value:.4e} ± {se:.2e}");
     }
     // Both are finite and se > 0, so the exponents lie within ±324.
