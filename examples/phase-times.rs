@@ -27,7 +27,9 @@ fn main() {
     };
     let results = analyze(&dataset.series, &dataset.tabulated, &settings);
     lap("analyze");
-    let report = Report::new(Vec::new(), ReportSettings::new("auto"), Vec::new(), &results, &dataset);
+    let detail = thetaseek::report::Detail::for_series_count(results.len());
+    let report_settings = ReportSettings { report_detail: detail, ..ReportSettings::new("auto") };
+    let report = Report::new(Vec::new(), report_settings, Vec::new(), &results, &dataset);
     lap("report");
     let json = thetaseek::report::report_json(&report);
     lap("json");

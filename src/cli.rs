@@ -208,6 +208,17 @@ pub enum VirialArg {
     Sqrt,
 }
 
+/// `--report-detail` values.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum DetailArg {
+    /// Full up to 200 series, fits above.
+    Auto,
+    /// Every reading with its fitted value and residual, and every candidate form.
+    Full,
+    /// Per-temperature results only.
+    Fits,
+}
+
 #[derive(Debug, Args)]
 pub struct AnalyzeArgs {
     /// Input CSV files, read as one dataset.
@@ -230,6 +241,12 @@ pub struct AnalyzeArgs {
     /// or with warnings).
     #[arg(long)]
     pub needs_attention: bool,
+
+    /// How much of each fit the JSON report holds: 'full' (every reading and candidate form),
+    /// 'fits' (per-temperature results only), or 'auto' (full up to 200 series, fits above;
+    /// full whenever figures or HTML are written, which need the readings).
+    #[arg(long, value_enum, default_value_t = DetailArg::Auto)]
+    pub report_detail: DetailArg,
 
     /// Write one self-contained HTML report here (figures inline, no network needed).
     #[arg(long, value_name = "PATH")]

@@ -79,10 +79,11 @@ pub fn write_atomic_with(path: &Path, fill: impl FnOnce(&mut File) -> io::Result
     result
 }
 
-/// Writes through any writer (stdout in use, a failing writer in tests); a broken pipe is not
-/// an error, since the reader simply stopped reading.
-pub fn write_stream(mut out: impl Write, bytes: &[u8]) -> io::Result<()> {
-    match out.write_all(bytes).and_then(|_| out.flush()) {
+/// Writes through any writer (stdout in use, a failing writer in tests) with `fill`; a broken
+/// pipe is not an error, since the reader simply stopped reading.
+pub fn write_stream(out: impl Write, fill: impl FnOnce(&mut dyn Write) -> io::Result<()>) -> io::Result<()> {
+    let mut out = io::BufWriter::with_capacity(1 << 16, out);
+    match fill(&mut out).and_then(|_| out.flush()) {
         Err(e) if e.kind() == io::ErrorKind::BrokenPipe => Ok(()),
         other => other,
     }
@@ -150,7 +151,7 @@ mod tests {
                 Ok(())
             }
         }
-        assert!(write_stream(Failing(io::ErrorKind::BrokenPipe), b"x").is_ok());
-        assert!(write_stream(Failing(io::ErrorKind::StorageFull), b"x").is_err());
+        assert!(write_stream(Failing(io::ErrorKind::BrokenPipe), |w| w.write_all(b"x")).is_ok());
+        assert!(write_stream(Failing(io::ErrorKind::StorageFull), |w| w.write_all(b"x")).is_err());
     }
 }

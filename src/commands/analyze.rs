@@ -1,13 +1,13 @@
 //! `thetaseek analyze`: read → group → fit → θ → report.
 
 use super::{check_outputs, load, write_outputs, Bar, Loaded, PendingOutput};
-use crate::cli::{AnalyzeArgs, ReadArgs, VirialArg};
+use crate::cli::{AnalyzeArgs, DetailArg, ReadArgs, VirialArg};
 use thetaseek::analysis::{self, Settings, Status};
 use thetaseek::error::Error;
 use thetaseek::input::ReadOptions;
 use thetaseek::output::Destination;
 use thetaseek::plot;
-use thetaseek::report::{self, Report, ReportSettings};
+use thetaseek::report::{self, Detail, Report, ReportSettings};
 use thetaseek::theta::{ThetaSettings, Volumes};
 use thetaseek::units::{ConcentrationUnit, PressureUnit, TemperatureUnit};
 use thetaseek::virial::{FormChoice, VirialForm};
@@ -39,6 +39,12 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
         polymer_specific_volume_ml_per_g: args.polymer_specific_volume,
         solvent_molar_volume_ml_per_mol: args.solvent_molar_volume,
         a2_tolerance_mol_ml_per_g2: args.a2_tolerance,
+        report_detail: detail(
+            args,
+            results.len()
+                + names_in_order(critical.iter().map(|r| r.series.as_str())).len()
+                + names_in_order(scattering.iter().map(|r| r.series.as_str())).len(),
+        ),
         ..ReportSettings::new(&format!("{:?}", args.read.virial).to_lowercase())
     };
     let mut report = Report::new(inputs, report_settings, run_warnings, &results, &dataset);
@@ -55,11 +61,11 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
 
     let mut outputs = Vec::new();
     if let Some(path) = &args.report {
-        outputs.push(PendingOutput { destination: Destination::parse(path), bytes: report::report_json(&report) });
+        outputs.push(PendingOutput::streamed(Destination::parse(path), |out| report::write_report_json(&report, out)));
     }
     if let Some(path) = &args.table {
         let bytes = report::table_csv(&report).map_err(|e| Error::Setting(format!("cannot render the table: {e}")))?;
-        outputs.push(PendingOutput { destination: Destination::parse(path), bytes });
+        outputs.push(PendingOutput::bytes(Destination::parse(path), bytes));
     }
     let figures = if args.figures.is_some() || args.html.is_some() {
         plot::figures_for_report(&report).map_err(|e| Error::Setting(e.to_string()))?
@@ -68,14 +74,11 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
     };
     if let Some(path) = &args.html {
         let html = report::html::analyze_html(&report, &figures, &report::html::report_date());
-        outputs.push(PendingOutput { destination: Destination::File(path.clone()), bytes: html.into_bytes() });
+        outputs.push(PendingOutput::bytes(Destination::File(path.clone()), html.into_bytes()));
     }
     if let Some(dir) = &args.figures {
         for figure in figures {
-            outputs.push(PendingOutput {
-                destination: Destination::File(dir.join(figure.file_name)),
-                bytes: figure.svg.into_bytes(),
-            });
+            outputs.push(PendingOutput::bytes(Destination::File(dir.join(figure.file_name)), figure.svg.into_bytes()));
         }
     }
     if let Some(path) = &args.series_table {
@@ -83,7 +86,7 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
             if args.needs_attention { report::SeriesFilter::NeedsAttention } else { report::SeriesFilter::All };
         let bytes = report::series_table_csv(&report, filter)
             .map_err(|e| Error::Setting(format!("cannot render the series table: {e}")))?;
-        outputs.push(PendingOutput { destination: Destination::parse(path), bytes });
+        outputs.push(PendingOutput::bytes(Destination::parse(path), bytes));
     }
     if outputs.iter().filter(|o| o.destination == Destination::Stdout).count() > 1 {
         return Err(Error::Setting(
@@ -110,6 +113,17 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
         }
     }
     Ok(())
+}
+
+/// The report's detail: figures and HTML need the readings; otherwise `auto` follows the
+/// number of series.
+fn detail(args: &AnalyzeArgs, series: usize) -> Detail {
+    match args.report_detail {
+        _ if args.figures.is_some() || args.html.is_some() => Detail::Full,
+        DetailArg::Full => Detail::Full,
+        DetailArg::Fits => Detail::Fits,
+        DetailArg::Auto => Detail::for_series_count(series),
+    }
 }
 
 /// The library's form choice for the command-line value.

@@ -8,16 +8,50 @@ use std::path::{Path, PathBuf};
 use thetaseek::dataset::{Dataset, TabulatedRow};
 use thetaseek::error::Error;
 use thetaseek::input::{self, ReadOptions};
-use thetaseek::output::{same_file, write_atomic, write_stream, Destination};
+use thetaseek::output::{same_file, write_atomic_with, write_stream, Destination};
 use thetaseek::report::InputFile;
 use thetaseek::theta::Quantity;
 
-/// An output rendered in memory, waiting to be written.
-pub struct PendingOutput {
+/// An output waiting to be written: rendered in memory, or rendered straight into its file
+/// (a campaign's report is written as it is serialised, never held whole in memory).
+pub struct PendingOutput<'a> {
     /// Where it goes.
     pub destination: Destination,
-    /// Its bytes.
-    pub bytes: Vec<u8>,
+    /// What goes there.
+    pub content: Content<'a>,
+}
+
+/// Writes an output into a writer.
+pub type Render<'a> = Box<dyn Fn(&mut dyn std::io::Write) -> std::io::Result<()> + 'a>;
+
+/// The bytes of an output, or how to write them.
+pub enum Content<'a> {
+    /// Already rendered.
+    Bytes(Vec<u8>),
+    /// Rendered while writing.
+    Streamed(Render<'a>),
+}
+
+impl<'a> PendingOutput<'a> {
+    /// An output already rendered.
+    pub fn bytes(destination: Destination, bytes: Vec<u8>) -> Self {
+        PendingOutput { destination, content: Content::Bytes(bytes) }
+    }
+
+    /// An output rendered by `write` as it is written.
+    pub fn streamed(
+        destination: Destination,
+        write: impl Fn(&mut dyn std::io::Write) -> std::io::Result<()> + 'a,
+    ) -> Self {
+        PendingOutput { destination, content: Content::Streamed(Box::new(write)) }
+    }
+
+    fn write_to(&self, out: &mut dyn std::io::Write) -> std::io::Result<()> {
+        match &self.content {
+            Content::Bytes(bytes) => out.write_all(bytes),
+            Content::Streamed(write) => write(out),
+        }
+    }
 }
 
 /// Reads an input file whole (inputs are only ever opened for reading), refusing one larger
@@ -78,17 +112,15 @@ pub fn check_outputs(outputs: &[PendingOutput], inputs: &[PathBuf]) -> Result<()
 /// Writes every pending output: files atomically, '-' to standard output.
 pub fn write_outputs(outputs: Vec<PendingOutput>) -> Result<(), Error> {
     for out in outputs {
-        match out.destination {
-            Destination::Stdout => write_stream(std::io::stdout().lock(), &out.bytes).map_err(|source| Error::Io {
-                action: "cannot write",
-                path: PathBuf::from("-"),
-                source,
-            })?,
-            Destination::File(path) => write_atomic(&path, &out.bytes).map_err(|source| Error::Io {
-                action: "cannot write",
-                path: path.clone(),
-                source,
-            })?,
+        match &out.destination {
+            Destination::Stdout => write_stream(std::io::stdout().lock(), |w| out.write_to(w))
+                .map_err(|source| Error::Io { action: "cannot write", path: PathBuf::from("-"), source })?,
+            Destination::File(path) => write_atomic_with(path, |file| {
+                let mut buffered = std::io::BufWriter::with_capacity(1 << 20, file);
+                out.write_to(&mut buffered)?;
+                std::io::Write::flush(&mut buffered)
+            })
+            .map_err(|source| Error::Io { action: "cannot write", path: path.clone(), source })?,
         }
     }
     Ok(())

@@ -93,12 +93,12 @@ pub fn run(args: &NextArgs) -> Result<(), Error> {
         series: designs,
     };
     if let Some(path) = &args.report {
-        outputs.push(PendingOutput { destination: Destination::parse(path), bytes: report::to_json(&next) });
+        outputs.push(PendingOutput::bytes(Destination::parse(path), report::to_json(&next)));
     }
     if let Some(path) = &args.figure {
         let svg = thetaseek::plot::render_svg(900, 560, |root| thetaseek::plot::draw_next(root, &next.series))
             .map_err(|e| Error::Setting(e.to_string()))?;
-        outputs.push(PendingOutput { destination: Destination::File(path.clone()), bytes: svg.into_bytes() });
+        outputs.push(PendingOutput::bytes(Destination::File(path.clone()), svg.into_bytes()));
     }
     check_outputs(&outputs, &args.files)?;
     let stdout_taken = outputs.iter().any(|o| o.destination == Destination::Stdout);
@@ -135,8 +135,16 @@ fn from_report_json(report: &serde_json::Value) -> Result<Vec<(String, Vec<Measu
             let concentrations: Vec<f64> = fit
                 .get("points")
                 .and_then(|r| r.as_array())
-                .map(|r| r.iter().filter_map(|r| num(r, "concentration_g_per_ml")).map(|c| c * 1e3).collect())
-                .unwrap_or_default();
+                .ok_or_else(|| {
+                    format!(
+                        "series '{name}': the report holds no readings (written with --report-detail fits); \
+                         rerun analyze with --report-detail full, or give the data file"
+                    )
+                })?
+                .iter()
+                .filter_map(|r| num(r, "concentration_g_per_ml"))
+                .map(|c| c * 1e3)
+                .collect();
             measured.push(MeasuredTemperature {
                 point: TemperaturePoint { temperature_k: t, value, se: num(p, "se") },
                 concentrations,

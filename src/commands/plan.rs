@@ -67,7 +67,7 @@ pub fn run(args: &PlanArgs) -> Result<(), Error> {
     let plan_report = PlanReport::new(inputs, &settings, plan);
     let mut outputs = Vec::new();
     if let Some(path) = &args.report {
-        outputs.push(PendingOutput { destination: Destination::parse(path), bytes: report::to_json(&plan_report) });
+        outputs.push(PendingOutput::bytes(Destination::parse(path), report::to_json(&plan_report)));
     }
     let svg = if args.figure.is_some() || args.html.is_some() {
         Some(
@@ -79,10 +79,10 @@ pub fn run(args: &PlanArgs) -> Result<(), Error> {
     };
     if let Some(path) = &args.html {
         let html = report::html::plan_html(&plan_report, svg.as_deref(), &report::html::report_date());
-        outputs.push(PendingOutput { destination: Destination::File(path.clone()), bytes: html.into_bytes() });
+        outputs.push(PendingOutput::bytes(Destination::File(path.clone()), html.into_bytes()));
     }
     if let (Some(path), Some(svg)) = (&args.figure, svg) {
-        outputs.push(PendingOutput { destination: Destination::File(path.clone()), bytes: svg.into_bytes() });
+        outputs.push(PendingOutput::bytes(Destination::File(path.clone()), svg.into_bytes()));
     }
     let mut all_inputs = args.inputs.clone();
     all_inputs.push(args.solvents.clone());

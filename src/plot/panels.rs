@@ -44,7 +44,7 @@ fn fitted(f: &FitReport, c: f64) -> f64 {
 }
 
 /// Splits the area into a title strip and `n` panels (the last one also holds the x axis).
-fn layout<'a>(
+pub(super) fn layout<'a>(
     root: &DrawingArea<SVGBackend<'a>, Shift>,
     n: usize,
     title: &str,
@@ -56,9 +56,10 @@ fn layout<'a>(
 
 /// One panel: concentration (g/L) shared along x, its own y; only the bottom panel (`last`)
 /// labels the x axis.
-fn panel_chart<'a, 'b>(
+pub(super) fn panel_chart<'a, 'b>(
     area: &'a DrawingArea<SVGBackend<'b>, Shift>,
     last: bool,
+    x_desc: &str,
     x: (f64, f64),
     y: (f64, f64),
     y_desc: &str,
@@ -83,7 +84,7 @@ fn panel_chart<'a, 'b>(
         .axis_desc_style(("sans-serif", 13).into_font().color(&INK))
         .label_style(("sans-serif", 12).into_font().color(&INK));
     if last {
-        mesh.x_desc("c (g/L)");
+        mesh.x_desc(x_desc);
     } else {
         mesh.x_labels(0);
     }
@@ -92,7 +93,8 @@ fn panel_chart<'a, 'b>(
 }
 
 fn concentration_range(s: &SeriesReport) -> (f64, f64) {
-    let c_max = s.fits.iter().flat_map(|f| f.points.iter().map(|p| p.concentration_g_per_ml)).fold(0.0, f64::max);
+    let c_max =
+        s.fits.iter().flat_map(|f| f.points.iter().flatten().map(|p| p.concentration_g_per_ml)).fold(0.0, f64::max);
     axis(0.0, c_max * 1.08)
 }
 
@@ -100,7 +102,8 @@ fn concentration_range(s: &SeriesReport) -> (f64, f64) {
 pub fn draw_reduced_pressure(root: &DrawingArea<SVGBackend, Shift>, s: &SeriesReport) -> Result<(), FigureError> {
     let (c_lo, c_hi) = concentration_range(s);
     let c_scale = 1.0e3; // shown in g/L (= mg/mL), which reads better than 0.00x g/mL
-    let all: Vec<f64> = s.fits.iter().flat_map(|f| f.points.iter().map(|p| p.reduced_pressure_mol_per_g)).collect();
+    let all: Vec<f64> =
+        s.fits.iter().flat_map(|f| f.points.iter().flatten().map(|p| p.reduced_pressure_mol_per_g)).collect();
     let e = power_of_ten(all.iter().fold(0.0, |m: f64, v| m.max(v.abs())));
     let scale = 10f64.powi(-e);
     let unit = if e == 0 { "mol/g".to_string() } else { format!("{} mol/g", superscript(e)) };
@@ -108,7 +111,7 @@ pub fn draw_reduced_pressure(root: &DrawingArea<SVGBackend, Shift>, s: &SeriesRe
     let last = s.fits.len().saturating_sub(1);
     for (k, (f, area)) in s.fits.iter().zip(panels.iter()).enumerate() {
         let (label, colour) = quality(f);
-        let mut ys: Vec<f64> = f.points.iter().map(|p| p.reduced_pressure_mol_per_g * scale).collect();
+        let mut ys: Vec<f64> = f.points.iter().flatten().map(|p| p.reduced_pressure_mol_per_g * scale).collect();
         ys.push(f.inverse_mn_mol_per_g * scale);
         ys.extend((0..=20).map(|i| fitted(f, c_hi * i as f64 / 20.0) * scale));
         let (lo, hi) = ys.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), v| (a.min(*v), b.max(*v)));
@@ -117,6 +120,7 @@ pub fn draw_reduced_pressure(root: &DrawingArea<SVGBackend, Shift>, s: &SeriesRe
         let mut chart = panel_chart(
             area,
             k == last,
+            "c (g/L)",
             (c_lo * c_scale, c_hi * c_scale),
             (y_lo, y_hi),
             &format!("Π/(cRT) ({unit})"),
@@ -127,7 +131,7 @@ pub fn draw_reduced_pressure(root: &DrawingArea<SVGBackend, Shift>, s: &SeriesRe
             (c * c_scale, fitted(f, c) * scale)
         });
         chart.draw_series(LineSeries::new(curve, colour.stroke_width(2)))?;
-        chart.draw_series(f.points.iter().map(|p| {
+        chart.draw_series(f.points.iter().flatten().map(|p| {
             marker_element(
                 Marker::Circle,
                 (p.concentration_g_per_ml * c_scale, p.reduced_pressure_mol_per_g * scale),
@@ -165,12 +169,14 @@ pub fn draw_residuals(root: &DrawingArea<SVGBackend, Shift>, s: &SeriesReport) -
         let r: Vec<(f64, f64)> = f
             .points
             .iter()
+            .flatten()
             .filter_map(|p| {
                 p.studentized_residual.filter(|v| v.is_finite()).map(|v| (p.concentration_g_per_ml * c_scale, v))
             })
             .collect();
         let m = axis(-3.5, r.iter().fold(3.5f64, |m, (_, v)| m.max(v.abs() * 1.1))).1;
-        let mut chart = panel_chart(area, k == last, (c_lo * c_scale, c_hi * c_scale), (-m, m), "residual / SD", 5)?;
+        let mut chart =
+            panel_chart(area, k == last, "c (g/L)", (c_lo * c_scale, c_hi * c_scale), (-m, m), "residual / SD", 5)?;
         let x_end = c_hi * c_scale;
         chart.draw_series(std::iter::once(PathElement::new(vec![(0.0, 0.0), (x_end, 0.0)], INK.mix(0.5))))?;
         for level in [-3.0, 3.0] {

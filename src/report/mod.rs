@@ -135,6 +135,30 @@ pub struct ReportSettings {
     pub solvent_molar_volume_ml_per_mol: Option<f64>,
     /// |A2| tolerance of the stability advice, mol mL/g².
     pub a2_tolerance_mol_ml_per_g2: f64,
+    /// `full` (every reading and every candidate form) or `fits` (per-temperature results only).
+    pub report_detail: Detail,
+}
+
+/// How much of each fit the report holds.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Detail {
+    /// Every reading with its fitted value and residual, and every candidate form.
+    Full,
+    /// Per-temperature results without the readings: a campaign's report stays a few times
+    /// the size of its input instead of fifteen.
+    Fits,
+}
+
+impl Detail {
+    /// `Full` up to [`CAMPAIGN_SERIES`] series, `Fits` above.
+    pub fn for_series_count(n: usize) -> Self {
+        if n <= CAMPAIGN_SERIES {
+            Detail::Full
+        } else {
+            Detail::Fits
+        }
+    }
 }
 
 impl ReportSettings {
@@ -153,6 +177,7 @@ impl ReportSettings {
             polymer_specific_volume_ml_per_g: None,
             solvent_molar_volume_ml_per_mol: None,
             a2_tolerance_mol_ml_per_g2: crate::theta::DEFAULT_A2_TOLERANCE,
+            report_detail: Detail::Full,
         }
     }
 }
@@ -227,8 +252,9 @@ pub struct FitReport {
     pub virial_form: VirialForm,
     /// Why that form.
     pub virial_form_reason: String,
-    /// Forms considered by `--virial auto`, with their AICc.
-    pub virial_candidates: Vec<Candidate>,
+    /// Forms considered by `--virial auto`, with their AICc (absent at detail `fits`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub virial_candidates: Option<Vec<Candidate>>,
     /// Whether per-point SDs weighted the fit.
     pub weighted: bool,
     /// Number-average molar mass Mn, g/mol.
@@ -257,8 +283,9 @@ pub struct FitReport {
     pub r_squared: f64,
     /// Diagnostics.
     pub warnings: Vec<WarningReport>,
-    /// Every reading with its fitted value and residual.
-    pub points: Vec<PointReport>,
+    /// Every reading with its fitted value and residual (absent at detail `fits`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub points: Option<Vec<PointReport>>,
 }
 
 /// One reading in a fit.
@@ -286,26 +313,11 @@ fn finite(x: f64) -> Option<f64> {
 }
 
 impl FitReport {
-    /// Converts one fit (SI) into report units.
-    pub fn new(t: &TemperatureFit, series_set: &crate::dataset::TemperatureSet) -> Self {
+    /// Converts one fit (SI) into report units; the readings only at [`Detail::Full`].
+    pub fn new(t: &TemperatureFit, series_set: &crate::dataset::TemperatureSet, detail: Detail) -> Self {
         let f = &t.fit;
-        let y: Vec<f64> = crate::virial::Readings {
-            temperature_k: t.temperature_k,
-            concentration: &series_set.concentration_kg_per_m3,
-            pressure: &series_set.pressure_pa,
-            pressure_sd: None,
-        }
-        .reduced();
-        let points = (0..series_set.len())
-            .map(|i| PointReport {
-                line: series_set.origins[i].line,
-                concentration_g_per_ml: series_set.concentration_kg_per_m3[i] * G_PER_ML_PER_KG_PER_M3,
-                pressure_pa: series_set.pressure_pa[i],
-                reduced_pressure_mol_per_g: y[i] * MOL_PER_G_PER_MOL_PER_KG,
-                fitted_mol_per_g: f.fitted_reduced[i] * MOL_PER_G_PER_MOL_PER_KG,
-                studentized_residual: finite(f.lsq.studentized[i]),
-            })
-            .collect();
+        let full = detail == Detail::Full;
+        let points = full.then(|| Self::points(t, series_set));
         let unweighted_reduced = !t.weighted && f.form != VirialForm::Sqrt;
         FitReport {
             temperature_k: t.temperature_k,
@@ -313,7 +325,7 @@ impl FitReport {
             n_points: t.n_points,
             virial_form: f.form,
             virial_form_reason: t.choice_reason.clone(),
-            virial_candidates: t.candidates.clone(),
+            virial_candidates: full.then(|| t.candidates.clone()),
             weighted: t.weighted,
             mn_g_per_mol: f.mn() * G_PER_MOL_PER_KG_PER_MOL,
             mn_se_g_per_mol: f.mn_se() * G_PER_MOL_PER_KG_PER_MOL,
@@ -334,17 +346,39 @@ impl FitReport {
             points,
         }
     }
+
+    /// Every reading of one fit in report units.
+    fn points(t: &TemperatureFit, series_set: &crate::dataset::TemperatureSet) -> Vec<PointReport> {
+        let f = &t.fit;
+        let y: Vec<f64> = crate::virial::Readings {
+            temperature_k: t.temperature_k,
+            concentration: &series_set.concentration_kg_per_m3,
+            pressure: &series_set.pressure_pa,
+            pressure_sd: None,
+        }
+        .reduced();
+        (0..series_set.len())
+            .map(|i| PointReport {
+                line: series_set.origins[i].line,
+                concentration_g_per_ml: series_set.concentration_kg_per_m3[i] * G_PER_ML_PER_KG_PER_M3,
+                pressure_pa: series_set.pressure_pa[i],
+                reduced_pressure_mol_per_g: y[i] * MOL_PER_G_PER_MOL_PER_KG,
+                fitted_mol_per_g: f.fitted_reduced[i] * MOL_PER_G_PER_MOL_PER_KG,
+                studentized_residual: finite(f.lsq.studentized[i]),
+            })
+            .collect()
+    }
 }
 
 impl SeriesReport {
     /// Converts one series' results; `series` supplies the readings behind each fit.
-    pub fn new(result: &SeriesResult, series: Option<&crate::dataset::Series>) -> Self {
+    pub fn new(result: &SeriesResult, series: Option<&crate::dataset::Series>, detail: Detail) -> Self {
         let sets = series.map_or(&[][..], |s| &s.temperatures[..]);
         let fits = result
             .fits
             .iter()
             .filter_map(|fit| {
-                sets.iter().find(|s| s.temperature_k == fit.temperature_k).map(|set| FitReport::new(fit, set))
+                sets.iter().find(|s| s.temperature_k == fit.temperature_k).map(|set| FitReport::new(fit, set, detail))
             })
             .collect();
         let skipped_temperatures: Vec<SkippedReport> = result.skipped.iter().map(SkippedReport::from).collect();
@@ -386,6 +420,17 @@ impl SeriesReport {
     }
 }
 
+/// A series that needs a look: refused, partial, without a bracketed θ, or with warnings.
+pub fn needs_attention(s: &SeriesReport) -> bool {
+    let bracketed = match (&s.theta, &s.critical) {
+        (Some(t), _) => t.crossing == crate::theta::Crossing::Bracketed,
+        // The Shultz–Flory route has no crossing: its θ is a limit.
+        (None, Some(_)) => true,
+        (None, None) => false,
+    };
+    s.status != Status::Ok || !bracketed || !s.warnings.is_empty() || s.fits.iter().any(|f| !f.warnings.is_empty())
+}
+
 impl From<&SkippedTemperature> for SkippedReport {
     fn from(s: &SkippedTemperature) -> Self {
         SkippedReport { temperature_k: s.temperature_k, n_points: s.n_points, reason: s.reason.clone() }
@@ -404,6 +449,7 @@ impl Report {
     ) -> Self {
         let solvents: std::collections::HashMap<&str, &str> =
             dataset.solvents.iter().map(|(s, v)| (s.as_str(), v.as_str())).collect();
+        let detail = settings.report_detail;
         Report {
             schema_version: SCHEMA_VERSION,
             tool_version: env!("CARGO_PKG_VERSION").to_string(),
@@ -416,7 +462,7 @@ impl Report {
                 .map(|(i, r)| {
                     // Results list the osmometry series first, in dataset order, then the tables.
                     let series = dataset.series.get(i).filter(|s| s.name == r.name);
-                    let mut report = SeriesReport::new(r, series);
+                    let mut report = SeriesReport::new(r, series, detail);
                     report.solvent = solvents.get(r.name.as_str()).map(|v| v.to_string());
                     report
                 })
@@ -549,16 +595,25 @@ pub fn to_json<T: Serialize>(report: &T) -> Vec<u8> {
     bytes
 }
 
-/// Above this many series the report is written compact (one line): a campaign's pretty
-/// report is mostly indentation.
-pub const COMPACT_JSON_SERIES: usize = 200;
+/// Above this many series a run is a campaign: the report is written compact (one line; a
+/// pretty campaign report is mostly indentation), at [`Detail::Fits`] unless asked otherwise,
+/// and the terminal shows a digest instead of every series.
+pub const CAMPAIGN_SERIES: usize = 200;
 
 /// The analysis report as JSON: pretty for a few series, compact for a campaign.
 pub fn report_json(report: &Report) -> Vec<u8> {
-    if report.series.len() <= COMPACT_JSON_SERIES {
-        return to_json(report);
-    }
-    let mut bytes = serde_json::to_vec(report).expect("the report holds only serialisable values");
-    bytes.push(b'\n');
+    let mut bytes = Vec::new();
+    write_report_json(report, &mut bytes).expect("writing to memory cannot fail");
     bytes
+}
+
+/// [`report_json`] written straight into `out`, so that a campaign's report is never held
+/// whole in memory.
+pub fn write_report_json(report: &Report, mut out: &mut dyn std::io::Write) -> std::io::Result<()> {
+    if report.series.len() <= CAMPAIGN_SERIES {
+        serde_json::to_writer_pretty(&mut out, report)?;
+    } else {
+        serde_json::to_writer(&mut out, report)?;
+    }
+    out.write_all(b"\n")
 }

@@ -74,15 +74,9 @@ pub enum SeriesFilter {
 
 /// One row per series: θ (K and °C), interval, crossing, weighted-mean Mn, warnings count.
 pub fn series_table_csv(report: &Report, filter: SeriesFilter) -> PolarsResult<Vec<u8>> {
-    use crate::theta::Crossing;
     let keep = |s: &&super::SeriesReport| match filter {
         SeriesFilter::All => true,
-        SeriesFilter::NeedsAttention => {
-            s.status != crate::analysis::Status::Ok
-                || s.theta.as_ref().is_none_or(|t| t.crossing != Crossing::Bracketed)
-                || !s.warnings.is_empty()
-                || s.fits.iter().any(|f| !f.warnings.is_empty())
-        }
+        SeriesFilter::NeedsAttention => super::needs_attention(s),
     };
     let rows: Vec<&super::SeriesReport> = report.series.iter().filter(keep).collect();
     let theta = |f: &dyn Fn(&super::ThetaReport) -> Option<f64>| -> Vec<Option<f64>> {

@@ -53,8 +53,16 @@ pub fn theta_line(t: &super::ThetaReport) -> String {
     }
 }
 
-/// Renders the whole report as text for a terminal.
+/// Series listed by name in a campaign's digest.
+const DIGEST_SERIES: usize = 20;
+
+/// Renders the report as text for a terminal: every series of a small run, a digest of a
+/// campaign (more than [`super::CAMPAIGN_SERIES`] series), whose full listing would run to
+/// megabytes.
 pub fn render_terminal(report: &Report) -> String {
+    if report.series.len() > super::CAMPAIGN_SERIES {
+        return render_digest(report);
+    }
     let mut out = String::new();
     for s in &report.series {
         let _ = writeln!(out, "series {}  [{}]", s.name, format!("{:?}", s.status).to_lowercase());
@@ -148,6 +156,47 @@ pub fn render_terminal(report: &Report) -> String {
             if r.disagree { " — the routes DISAGREE: do not use the combined value as it is" } else { "" }
         );
         out.push('\n');
+    }
+    for w in &report.warnings {
+        let _ = writeln!(out, "! {w}");
+    }
+    out.push_str(&render_summary(report));
+    out
+}
+
+/// A campaign on one screen: the first series that need a look (one line each), the route
+/// comparisons that disagree, the run's warnings and the summary.
+fn render_digest(report: &Report) -> String {
+    let attention: Vec<&super::SeriesReport> = report.series.iter().filter(|s| super::needs_attention(s)).collect();
+    let mut out = format!(
+        "{} series; {} need a look{}\n",
+        report.series.len(),
+        attention.len(),
+        if attention.is_empty() {
+            String::new()
+        } else {
+            format!(
+                " (first {} below; --series-table FILE --needs-attention lists them all)",
+                attention.len().min(DIGEST_SERIES)
+            )
+        }
+    );
+    for s in attention.iter().take(DIGEST_SERIES) {
+        let status = format!("{:?}", s.status).to_lowercase();
+        let what = match (&s.theta, &s.reason) {
+            (_, Some(reason)) => reason.clone(),
+            (Some(t), None) => theta_line(t),
+            (None, None) => String::new(),
+        };
+        let warnings = s.warnings.len() + s.fits.iter().map(|f| f.warnings.len()).sum::<usize>();
+        let _ = writeln!(out, "  {} [{status}, {warnings} warnings]: {what}", s.name);
+    }
+    let disagreeing: Vec<&super::RouteComparison> = report.routes.iter().filter(|r| r.disagree).collect();
+    if !report.routes.is_empty() {
+        let _ = writeln!(out, "routes compared for {} series; {} disagree", report.routes.len(), disagreeing.len());
+        for r in disagreeing.iter().take(DIGEST_SERIES) {
+            let _ = writeln!(out, "  {}: χ² = {:.2}, p = {:.3}", r.series, r.chi2, r.p_value);
+        }
     }
     for w in &report.warnings {
         let _ = writeln!(out, "! {w}");
