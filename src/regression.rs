@@ -105,7 +105,12 @@ impl GivensQr {
                 self.qty[k] = z;
                 return;
             }
-            let h = rkk.hypot(xk);
+            // √(a² + b²) directly is several times faster than libm's hypot; hypot only where
+            // the squares would overflow or underflow.
+            let h = match (rkk * rkk + xk * xk).sqrt() {
+                h if h.is_normal() && h < 1e150 && h > 1e-150 => h,
+                _ => rkk.hypot(xk),
+            };
             let (c, s) = (rkk / h, xk / h);
             for j in k..self.p {
                 let (a, b) = (self.r[k][j], row[j]);
