@@ -31,6 +31,41 @@ pub struct ScatteringFit {
     pub rg_se_nm: Option<f64>,
     /// α_s = Rg(T)/Rg(θ), with Rg(θ) interpolated at the estimated θ.
     pub expansion_factor: Option<f64>,
+    /// The readings and both extrapolations, for the Zimm plot.
+    pub zimm: ZimmGrid,
+}
+
+/// What a Zimm plot of one temperature draws: every reading, the zero-angle values per
+/// concentration and, with angles, the zero-concentration values per angle with their line
+/// 1/Mw (1 + q² Rg²/3). Report units: c in g/mL, q² in 1/µm², K c/R in mol/g.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ZimmGrid {
+    /// Every reading.
+    pub readings: Vec<ZimmReading>,
+    /// K c/R extrapolated to q = 0 at each concentration (the readings themselves without angles).
+    pub zero_angle: Vec<ZimmReading>,
+    /// K c/R extrapolated to c = 0 at each angle (empty without angles).
+    pub zero_concentration: Vec<ZimmReading>,
+    /// Intercept of the zero-concentration line in q², 1/Mw, mol/g (null without angles).
+    pub zero_concentration_intercept_mol_per_g: Option<f64>,
+    /// Slope of the zero-concentration line in q², mol µm²/g (null without angles).
+    pub zero_concentration_slope_mol_um2_per_g: Option<f64>,
+}
+
+/// One point of a Zimm plot.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct ZimmReading {
+    /// c, g/mL.
+    pub concentration_g_per_ml: f64,
+    /// q², 1/µm².
+    pub q2_per_um2: f64,
+    /// K c/R, mol/g.
+    pub kc_over_r_mol_per_g: f64,
+}
+
+/// SI (c kg/m³, q² 1/m², K c/R mol/kg) to a Zimm point in report units.
+fn zimm_point(c: f64, q2: f64, y: f64) -> ZimmReading {
+    ZimmReading { concentration_g_per_ml: c * 1e-3, q2_per_um2: q2 * 1e-12, kc_over_r_mol_per_g: y * 1e-3 }
 }
 
 fn distinct(values: impl Iterator<Item = f64>) -> Vec<f64> {
@@ -74,6 +109,10 @@ pub fn fit_temperature(rows: &[&ScatteringRow]) -> Option<ScatteringFit> {
     if a.is_nan() || a <= 0.0 {
         return None;
     }
+    let readings = rows.iter().map(|r| zimm_point(r.concentration, q2(r), r.kc_over_r)).collect();
+    let zero_angle = c0.iter().zip(&y0).map(|(c, y)| zimm_point(*c, 0.0, *y)).collect();
+    let mut zero_concentration = Vec::new();
+    let mut zero_concentration_line = None;
     // Zero-concentration values per angle, then Rg² = 3 (slope/intercept) in q².
     let (rg, rg_se) = if angles.len() >= 2 {
         let (qq, yc): (Vec<f64>, Vec<f64>) = angles
@@ -85,7 +124,11 @@ pub fn fit_temperature(rows: &[&ScatteringRow]) -> Option<ScatteringFit> {
                 (distinct(x.iter().copied()).len() >= 2).then(|| line(&x, &y)).flatten().map(|l| (q, l.0))
             })
             .unzip();
-        match (qq.len() >= 3).then(|| line(&qq, &yc)).flatten() {
+        zero_concentration = qq.iter().zip(&yc).map(|(q, y)| zimm_point(0.0, *q, *y)).collect();
+        let fitted = (qq.len() >= 3).then(|| line(&qq, &yc)).flatten();
+        // mol/kg per 1/m² → mol/g per 1/µm²: 10⁻³ × 10¹².
+        zero_concentration_line = fitted.map(|l| (l.0 * 1e-3, l.1 * 1e9));
+        match fitted {
             Some((i, s, vi, vs, cis)) if i > 0.0 && s > 0.0 => {
                 let rg2 = 3.0 * s / i;
                 // Var(s/i) by the delta method.
@@ -109,6 +152,13 @@ pub fn fit_temperature(rows: &[&ScatteringRow]) -> Option<ScatteringFit> {
         rg_nm: rg.map(|r| r * 1e9),
         rg_se_nm: rg_se.map(|r| r * 1e9),
         expansion_factor: None,
+        zimm: ZimmGrid {
+            readings,
+            zero_angle,
+            zero_concentration,
+            zero_concentration_intercept_mol_per_g: zero_concentration_line.map(|l| l.0),
+            zero_concentration_slope_mol_um2_per_g: zero_concentration_line.map(|l| l.1),
+        },
     })
 }
 

@@ -112,3 +112,34 @@ fn a_rayleigh_ratio_without_an_optical_constant_is_refused() {
         .code(65);
     assert!(String::from_utf8_lossy(&a.get_output().stderr).contains("optical constant"));
 }
+
+#[test]
+fn the_zimm_plot_draws_every_reading_and_both_extrapolations() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("ls.csv");
+    std::fs::write(&path, zimm_csv(0.002, false)).unwrap();
+    let figures = dir.path().join("figures");
+    Command::cargo_bin("thetaseek")
+        .unwrap()
+        .arg("analyze")
+        .arg(&path)
+        .args(["--bootstrap", "0", "-q", "--refractive-index", "1.33", "--wavelength", "633", "--figures"])
+        .arg(&figures)
+        .assert()
+        .success();
+    let svg = std::fs::read_to_string(figures.join("ls-zimm.svg")).unwrap();
+    let doc = roxmltree::Document::parse(&svg).unwrap();
+    let text: String = doc.descendants().filter_map(|n| n.text()).collect::<Vec<_>>().join("\n");
+    assert!(text.contains("Zimm plot") && text.contains("q² + k c") && text.contains("Rg = "), "{text}");
+    // 5 temperatures × 5 concentrations × 5 angles, one circle each.
+    let circles = doc.descendants().filter(|n| n.has_tag_name("circle")).count();
+    assert_eq!(circles, 125);
+    let report = run(&zimm_csv(0.002, false), &[]);
+    let zimm = &report["series"][0]["light_scattering"][0]["zimm"];
+    assert_eq!(zimm["readings"].as_array().unwrap().len(), 25);
+    assert_eq!(zimm["zero_angle"].as_array().unwrap().len(), 5);
+    assert_eq!(zimm["zero_concentration"].as_array().unwrap().len(), 5);
+    // Both extrapolations meet at 1/Mw = 1/500 kg/mol = 2e-6 mol/g.
+    let intercept = zimm["zero_concentration_intercept_mol_per_g"].as_f64().unwrap();
+    assert!((intercept - 2e-6).abs() < 2e-8, "{intercept}");
+}

@@ -80,3 +80,22 @@ fn the_html_report_shows_the_routes_compared() {
         text.contains("id=\"routes\"") && text.contains("critical_temperatures") && text.contains("inverse variance")
     );
 }
+
+/// Published critical temperatures of three poly(α-methylstyrene) fractions in
+/// methylcyclohexane (Mn 19 700, 32 300 and 72 000 g/mol; Tc 305.70 ± 0.09, 318.3 ± 0.4 and
+/// 328.9 ± 0.4 K). Source: the abstract of "Phase separation temperatures in the
+/// poly(α-methylstyrene) + methylcyclohexane system", as shown at
+/// https://staging.scite.ai/reports/phase-separation-temperatures-in-the-VVmZpR, whose authors
+/// report θ = 357 ± 5 K and ψ1 = 0.49 ± 0.06 (one SD) from these points.
+/// v̄ and V1 are from memory: PαMS density ≈ 1.07 g/mL, so v̄ ≈ 0.935 mL/g; methylcyclohexane
+/// 98.19 g/mol at ≈ 0.770 g/mL, so V1 ≈ 127.5 mL/mol. ψ1 scales with √(V1/v̄) far from the
+/// 1/(2x) term, so a few per cent in these shifts ψ1 by about as much; θ hardly moves.
+#[test]
+fn published_critical_temperatures_of_fractions_give_the_published_theta_and_psi1() {
+    let fractions = [(19.700, 305.70), (32.300, 318.3), (72.000, 328.9)];
+    let volumes = thetaseek::theta::Volumes { specific_volume: 0.935e-3, molar_volume: 127.5e-6 };
+    let route = thetaseek::theta::critical_route(&fractions, volumes, 0.95).unwrap();
+    assert!((route.theta_k - 357.0).abs() < 5.0, "θ = {} K against the published 357 ± 5 K", route.theta_k);
+    assert!((route.psi1 - 0.49).abs() < 0.06, "ψ1 = {} against the published 0.49 ± 0.06", route.psi1);
+    assert_eq!((route.fractions, route.dof), (3, 1));
+}

@@ -10,6 +10,7 @@ mod mn;
 mod next;
 mod panels;
 mod plan;
+mod zimm;
 
 pub use a2_temperature::{draw_a2_overlay, draw_a2_temperature};
 pub use format::{axis, power_of_ten, superscript, tick};
@@ -17,6 +18,7 @@ pub use mn::draw_mn;
 pub use next::draw_next;
 pub use panels::{draw_reduced_pressure, draw_residuals};
 pub use plan::draw_plan;
+pub use zimm::draw_zimm;
 
 use crate::report::{Report, SeriesReport};
 use plotters::coord::types::RangedCoordf64;
@@ -260,7 +262,7 @@ pub struct Figure {
 }
 
 /// Every figure of a report: per series A2(T), reduced-pressure panels, Mn(T) and residuals
-/// (the last three for osmometry series), plus an overlay of all series when there are several.
+/// (the last three for osmometry series), Zimm plots (light-scattering series), plus an overlay of all series when there are several.
 pub fn figures_for_report(report: &Report) -> Result<Vec<Figure>, FigureError> {
     let mut figures = Vec::new();
     let mut used: Vec<String> = Vec::new();
@@ -281,6 +283,10 @@ pub fn figures_for_report(report: &Report) -> Result<Vec<Figure>, FigureError> {
             push("reduced-pressure", render_svg(900, h, |root| draw_reduced_pressure(root, s))?);
             push("mn-temperature", render_svg(900, 500, |root| draw_mn(root, s, *i))?);
             push("residuals", render_svg(900, h, |root| draw_residuals(root, s))?);
+        }
+        if !s.light_scattering.is_empty() {
+            let h = zimm::zimm_height(s.light_scattering.len());
+            push("zimm", render_svg(900, h, |root| draw_zimm(root, s))?);
         }
     }
     let overlay: Vec<(usize, &SeriesReport)> =
