@@ -107,7 +107,7 @@ fn campaign(c: &mut Criterion) {
     g.bench_function("read and analyse", |b| {
         b.iter(|| {
             let contents = read_file("c.csv", 0, text.as_bytes(), &ReadOptions::default()).unwrap();
-            let dataset = Dataset::new(&contents.measurements, &[], &[], &[], &[]);
+            let dataset = Dataset::new(contents.readings, &[], &[], &[], &[]);
             analyze(&dataset.series, &dataset.tabulated, &settings)
         })
     });

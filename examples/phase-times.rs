@@ -19,7 +19,7 @@ fn main() {
     lap("read file");
     let contents = read_file(&path, 0, &bytes, &ReadOptions::default()).unwrap();
     lap("parse");
-    let dataset = Dataset::new(&contents.measurements, &[], &[], &contents.volumes, &contents.solvents);
+    let dataset = Dataset::new(contents.readings, &[], &[], &contents.volumes, &contents.solvents);
     lap("group");
     let settings = Settings {
         theta: ThetaSettings { bootstrap_replicates: 0, ..ThetaSettings::default() },

@@ -114,9 +114,10 @@ pub struct Dataset {
 
 impl Dataset {
     /// Groups readings and rows into series and attaches each series' v̄ and V1 (the first
-    /// value given for a series name is used).
+    /// value given for a series name is used). [`group`] readings of your own first, or give
+    /// [`GroupedReadings::from`] a slice of them.
     pub fn new(
-        measurements: &[Measurement],
+        readings: GroupedReadings,
         a2_rows: &[TabulatedRow],
         chi_rows: &[TabulatedRow],
         volumes: &[(String, Volumes)],
@@ -127,7 +128,7 @@ impl Dataset {
             by_name.entry(name.as_str()).or_insert(*v);
         }
         let find = |name: &str| by_name.get(name).copied();
-        let mut series = group(measurements);
+        let mut series = readings.into_series();
         for s in &mut series {
             s.volumes = find(&s.name);
         }
@@ -163,37 +164,169 @@ pub const TEMPERATURE_GROUPING_K: f64 = 0.01;
 /// Groups readings into series (in order of first appearance) and temperatures (ascending).
 /// Readings within each temperature keep their input order.
 pub fn group(measurements: &[Measurement]) -> Vec<Series> {
-    let mut order: Vec<&str> = Vec::new();
-    let mut by_series: HashMap<&str, HashMap<i64, TemperatureSet>> = HashMap::new();
-    for m in measurements {
-        let sets = by_series.entry(&m.series).or_insert_with(|| {
-            order.push(&m.series);
-            HashMap::new()
+    GroupedReadings::from(measurements).into_series()
+}
+
+impl From<&[Measurement]> for GroupedReadings {
+    fn from(measurements: &[Measurement]) -> Self {
+        let mut readings = GroupedReadings::default();
+        for m in measurements {
+            readings.push(m);
+        }
+        readings
+    }
+}
+
+/// One series' temperatures while grouping: a short list searched in place (a series has a
+/// handful of temperatures), indexed by a map only once it grows long.
+#[derive(Debug, Clone, PartialEq, Default)]
+struct Sets {
+    /// Key and readings (`temperature_k` holds the running sum until the end).
+    sets: Vec<(i64, TemperatureSet)>,
+    index: Option<HashMap<i64, usize>>,
+    last: usize,
+}
+
+impl Sets {
+    fn get(&mut self, key: i64) -> &mut TemperatureSet {
+        // Readings of one temperature usually follow each other.
+        let at = match self.sets.get(self.last) {
+            Some((k, _)) if *k == key => Some(self.last),
+            _ => match &self.index {
+                Some(index) => index.get(&key).copied(),
+                None => self.sets.iter().position(|(k, _)| *k == key),
+            },
+        };
+        let at = at.unwrap_or_else(|| {
+            self.sets.push((key, TemperatureSet::default()));
+            let at = self.sets.len() - 1;
+            match &mut self.index {
+                Some(index) => {
+                    index.insert(key, at);
+                }
+                None if self.sets.len() > 16 => {
+                    self.index = Some(self.sets.iter().enumerate().map(|(i, (k, _))| (*k, i)).collect());
+                }
+                None => {}
+            }
+            at
         });
+        self.last = at;
+        &mut self.sets[at].1
+    }
+
+    /// Gives back the spare capacity of every vector (a series is usually complete once the
+    /// rows move on to the next one; a campaign holds a hundred thousand such vectors).
+    fn shrink(&mut self) {
+        self.sets.shrink_to_fit();
+        for (_, set) in &mut self.sets {
+            set.concentration_kg_per_m3.shrink_to_fit();
+            set.pressure_pa.shrink_to_fit();
+            set.pressure_sd_pa.shrink_to_fit();
+            set.origins.shrink_to_fit();
+        }
+    }
+}
+
+/// Readings being grouped, one at a time, into series and temperatures, without holding them
+/// as rows first; several files are merged by [`Self::absorb`].
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct GroupedReadings {
+    order: Vec<(std::sync::Arc<str>, Sets)>,
+    by_name: HashMap<std::sync::Arc<str>, usize>,
+    current: Option<usize>,
+    readings: usize,
+}
+
+impl GroupedReadings {
+    /// Adds one reading.
+    pub fn push(&mut self, m: &Measurement) {
+        // Rows of one series usually follow each other: no lookup while the name repeats.
+        let i = match self.current {
+            Some(i) if *self.order[i].0 == *m.series => i,
+            previous => match self.by_name.get(&m.series) {
+                Some(&i) => i,
+                None => {
+                    if let Some(p) = previous {
+                        self.order[p].1.shrink();
+                    }
+                    self.order.push((m.series.clone(), Sets::default()));
+                    self.by_name.insert(m.series.clone(), self.order.len() - 1);
+                    self.order.len() - 1
+                }
+            },
+        };
+        self.current = Some(i);
+        self.readings += 1;
         let key = (m.temperature_k / TEMPERATURE_GROUPING_K).round() as i64;
-        let set = sets.entry(key).or_default();
+        let set = self.order[i].1.get(key);
         set.temperature_k += m.temperature_k;
         set.concentration_kg_per_m3.push(m.concentration_kg_per_m3);
         set.pressure_pa.push(m.pressure_pa);
         set.pressure_sd_pa.push(m.pressure_sd_pa);
         set.origins.push(m.origin);
     }
-    order
-        .into_iter()
-        .map(|name| {
-            let mut temperatures: Vec<(i64, TemperatureSet)> =
-                by_series.remove(name).unwrap_or_default().into_iter().collect();
-            temperatures.sort_by_key(|(key, _)| *key);
-            let temperatures = temperatures
-                .into_iter()
-                .map(|(_, mut set)| {
-                    set.temperature_k /= set.len() as f64;
-                    set
-                })
-                .collect();
-            Series { name: name.to_string(), temperatures, volumes: None }
-        })
-        .collect()
+
+    /// Appends the readings of `other` (a later file) as if they had been pushed here (the
+    /// mean temperature of a temperature given in both may differ in the last bit, since its
+    /// sum is formed in two parts).
+    pub fn absorb(&mut self, other: GroupedReadings) {
+        if self.order.is_empty() {
+            *self = other;
+            self.current = None;
+            return;
+        }
+        self.readings += other.readings;
+        for (name, sets) in other.order {
+            let i = match self.by_name.get(&name) {
+                Some(&i) => i,
+                None => {
+                    self.order.push((name.clone(), Sets::default()));
+                    self.by_name.insert(name, self.order.len() - 1);
+                    self.order.len() - 1
+                }
+            };
+            for (key, set) in sets.sets {
+                let into = self.order[i].1.get(key);
+                into.temperature_k += set.temperature_k;
+                into.concentration_kg_per_m3.extend(set.concentration_kg_per_m3);
+                into.pressure_pa.extend(set.pressure_pa);
+                into.pressure_sd_pa.extend(set.pressure_sd_pa);
+                into.origins.extend(set.origins);
+            }
+        }
+        self.current = None;
+    }
+
+    /// Number of readings added.
+    pub fn len(&self) -> usize {
+        self.readings
+    }
+
+    /// True when no reading was added.
+    pub fn is_empty(&self) -> bool {
+        self.readings == 0
+    }
+
+    /// The series, in order of first appearance, temperatures ascending, each temperature the
+    /// mean of its readings.
+    pub fn into_series(self) -> Vec<Series> {
+        self.order
+            .into_iter()
+            .map(|(name, sets)| {
+                let mut temperatures = sets.sets;
+                temperatures.sort_by_key(|(key, _)| *key);
+                let temperatures = temperatures
+                    .into_iter()
+                    .map(|(_, mut set)| {
+                        set.temperature_k /= set.len() as f64;
+                        set
+                    })
+                    .collect();
+                Series { name: name.to_string(), temperatures, volumes: None }
+            })
+            .collect()
+    }
 }
 
 #[cfg(test)]
@@ -221,5 +354,37 @@ mod tests {
         assert_eq!(b.temperatures[0].temperature_k, 300.0);
         assert_eq!(b.temperatures[1].concentration_kg_per_m3, vec![1.0, 3.0]);
         assert!((b.temperatures[1].temperature_k - 310.0005).abs() < 1e-9);
+    }
+
+    #[test]
+    fn a_series_with_many_temperatures_is_grouped_like_one_with_few() {
+        // Past 16 temperatures the grouping switches to an index: same result, any order.
+        let data: Vec<Measurement> =
+            (0..40).rev().flat_map(|t| [m("a", 300.0 + t as f64, 1.0), m("a", 300.0 + t as f64, 2.0)]).collect();
+        let series = group(&data);
+        assert_eq!(series[0].temperatures.len(), 40);
+        assert!(series[0]
+            .temperatures
+            .iter()
+            .enumerate()
+            .all(|(i, s)| s.temperature_k == 300.0 + i as f64 && s.len() == 2));
+    }
+
+    #[test]
+    fn readings_grouped_in_pieces_and_absorbed_match_readings_grouped_at_once() {
+        let data: Vec<Measurement> =
+            (0..60).map(|i| m(["a", "b", "c"][i % 3], 300.0 + (i % 7) as f64 + 0.001 * i as f64, i as f64)).collect();
+        let mut pieces = GroupedReadings::from(&data[..25]);
+        pieces.absorb(GroupedReadings::from(&data[25..]));
+        assert_eq!(pieces.len(), 60);
+        let (a, b) = (pieces.into_series(), group(&data));
+        assert_eq!(a.len(), b.len());
+        for (x, y) in a.iter().zip(&b) {
+            assert_eq!((&x.name, x.temperatures.len()), (&y.name, y.temperatures.len()));
+            for (s, t) in x.temperatures.iter().zip(&y.temperatures) {
+                assert!((s.temperature_k - t.temperature_k).abs() <= 1e-12 * t.temperature_k);
+                assert_eq!((&s.concentration_kg_per_m3, &s.origins), (&t.concentration_kg_per_m3, &t.origins));
+            }
+        }
     }
 }

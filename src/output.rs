@@ -54,14 +54,29 @@ pub fn write_atomic(path: &Path, bytes: &[u8]) -> io::Result<()> {
 /// [`write_atomic`] with the writing done by `fill`, so that failures part-way (a full disk)
 /// can be tested with a writer that fails.
 pub fn write_atomic_with(path: &Path, fill: impl FnOnce(&mut File) -> io::Result<()>) -> io::Result<()> {
-    let dir = match path.parent() {
-        Some(p) if !p.as_os_str().is_empty() => p,
-        _ => Path::new("."),
-    };
-    let mut temp = tempfile::Builder::new().prefix(".thetaseek-").suffix(".part").tempfile_in(dir)?;
-    let temp_path = temp.path().to_path_buf();
-    in_progress().push(temp_path.clone());
-    let result = (|| {
+    let mut file = AtomicFile::create(path)?;
+    fill(file.file())?;
+    file.commit()
+}
+
+/// A file being written beside its destination, renamed over it by [`AtomicFile::commit`];
+/// dropped without a commit (an error, an interrupt), it leaves the destination as it was and
+/// no temporary file behind. Several can be open at once, for outputs written side by side.
+pub struct AtomicFile {
+    temp: Option<tempfile::NamedTempFile>,
+    temp_path: PathBuf,
+    path: PathBuf,
+}
+
+impl AtomicFile {
+    /// Starts a file that will replace `path`.
+    pub fn create(path: &Path) -> io::Result<Self> {
+        let dir = match path.parent() {
+            Some(p) if !p.as_os_str().is_empty() => p,
+            _ => Path::new("."),
+        };
+        let temp = tempfile::Builder::new().prefix(".thetaseek-").suffix(".part").tempfile_in(dir)?;
+        in_progress().push(temp.path().to_path_buf());
         // Temporary files are private (0600); a report is an ordinary file: keep the mode of
         // the file it replaces, or rw-r--r-- for a new one.
         #[cfg(unix)]
@@ -70,13 +85,27 @@ pub fn write_atomic_with(path: &Path, fill: impl FnOnce(&mut File) -> io::Result
             let mode = std::fs::metadata(path).map(|m| m.permissions().mode() & 0o777).unwrap_or(0o644);
             temp.as_file().set_permissions(std::fs::Permissions::from_mode(mode))?;
         }
-        fill(temp.as_file_mut())?;
+        Ok(AtomicFile { temp_path: temp.path().to_path_buf(), temp: Some(temp), path: path.to_path_buf() })
+    }
+
+    /// The temporary file, to write into.
+    pub fn file(&mut self) -> &mut File {
+        self.temp.as_mut().expect("present until commit").as_file_mut()
+    }
+
+    /// Flushes to disk and renames over the destination.
+    pub fn commit(mut self) -> io::Result<()> {
+        let temp = self.temp.take().expect("present until commit");
         temp.as_file().sync_all()?;
-        Ok(())
-    })();
-    let result = result.and_then(|()| temp.persist(path).map(|_| ()).map_err(|e| e.error));
-    in_progress().retain(|p| *p != temp_path);
-    result
+        temp.persist(&self.path).map(|_| ()).map_err(|e| e.error)
+    }
+}
+
+impl Drop for AtomicFile {
+    fn drop(&mut self) {
+        // Uncommitted, tempfile removes the file itself; either way it is no longer in progress.
+        in_progress().retain(|p| *p != self.temp_path);
+    }
 }
 
 /// Writes through any writer (stdout in use, a failing writer in tests) with `fill`; a broken

@@ -33,7 +33,7 @@ fn readings(name: &str, temps: &[f64], theta: f64, concentrations: &[f64], rng: 
 const C: [f64; 5] = [2.0, 4.0, 6.0, 8.0, 10.0];
 
 fn report_of(rows: &[Measurement]) -> Report {
-    let dataset = Dataset::new(rows, &[], &[], &[], &[]);
+    let dataset = Dataset::new(rows.into(), &[], &[], &[], &[]);
     let settings = Settings {
         theta: ThetaSettings { bootstrap_replicates: 0, ..ThetaSettings::default() },
         ..Settings::default()

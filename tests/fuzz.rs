@@ -40,7 +40,7 @@ fn pipeline(bytes: &[u8]) {
         Some(Quantity::HalfMinusChi) => (Vec::new(), contents.tabulated.clone()),
         None => (Vec::new(), Vec::new()),
     };
-    let dataset = Dataset::new(&contents.measurements, &a2, &chi, &contents.volumes, &contents.solvents);
+    let dataset = Dataset::new(contents.readings, &a2, &chi, &contents.volumes, &contents.solvents);
     let settings = Settings {
         theta: ThetaSettings { bootstrap_replicates: 10, ..ThetaSettings::default() },
         ..Settings::default()

@@ -54,7 +54,7 @@ fn report(header: &str, rows: &[String], settings: &Settings) -> Report {
         let _ = writeln!(text, "{r}");
     }
     let contents = read_file("p.csv", 0, text.as_bytes(), &ReadOptions::default()).unwrap();
-    let dataset = Dataset::new(&contents.measurements, &[], &[], &[], &[]);
+    let dataset = Dataset::new(contents.readings, &[], &[], &[], &[]);
     let results = analyze(&dataset.series, &dataset.tabulated, settings);
     Report::new(Vec::new(), ReportSettings::new("auto"), Vec::new(), &results, &dataset)
 }
@@ -143,7 +143,7 @@ proptest! {
             }
         }
         let contents = read_file("p.csv", 0, text.as_bytes(), &ReadOptions::default()).unwrap();
-        let dataset = Dataset::new(&contents.measurements, &[], &[], &[], &[]);
+        let dataset = Dataset::new(contents.readings, &[], &[], &[], &[]);
         let settings = Settings { virial: FormChoice::Fixed(VirialForm::Linear), ..no_bootstrap() };
         let results = analyze(&dataset.series, &dataset.tabulated, &settings);
         let got = results[0].theta.as_ref().unwrap().theta_k.unwrap();

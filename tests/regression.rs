@@ -25,7 +25,7 @@ fn figures_of(text: &'static str) -> usize {
             Some(Quantity::HalfMinusChi) => (Vec::new(), contents.tabulated.clone()),
             None => (Vec::new(), Vec::new()),
         };
-        let dataset = Dataset::new(&contents.measurements, &a2, &chi, &[], &[]);
+        let dataset = Dataset::new(contents.readings, &a2, &chi, &[], &[]);
         let settings = Settings {
             theta: ThetaSettings { bootstrap_replicates: 0, ..ThetaSettings::default() },
             ..Settings::default()

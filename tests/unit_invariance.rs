@@ -6,7 +6,6 @@ use rand::SeedableRng;
 use rand_chacha::ChaCha8Rng;
 use std::fmt::Write;
 use thetaseek::analysis::{analyze, Settings};
-use thetaseek::dataset::group;
 use thetaseek::input::{read_file, ReadOptions};
 use thetaseek::simulate::{simulate, Noise, VirialTruth};
 use thetaseek::theta::ThetaSettings;
@@ -39,7 +38,7 @@ fn celsius_g_per_ml_pascal_and_kelvin_g_per_l_head_give_the_same_results() {
             theta: ThetaSettings { bootstrap_replicates: 0, ..ThetaSettings::default() },
             ..Settings::default()
         };
-        analyze(&group(&contents.measurements), &[], &settings)
+        analyze(&contents.readings.into_series(), &[], &settings)
     };
     let (ra, rb) = (run(&a), run(&b));
     assert_eq!(ra[0].fits.len(), 4);

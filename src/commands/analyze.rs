@@ -23,11 +23,11 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
             args.bootstrap, args.max_bootstrap
         )));
     }
-    let Loaded { inputs, dataset, warnings: run_warnings, critical, volumes, scattering } =
-        load(&args.files, &options, args.read.max_input_mb)?;
-    let bar = Bar::new(analysis::work_units(&dataset.series, &dataset.tabulated, &settings), args.quiet);
-    let results = analysis::analyze_with_progress(&dataset.series, &dataset.tabulated, &settings, &bar);
-    bar.finish();
+    let loaded = load(&args.files, &options, args.read.max_input_mb)?;
+    let series_count = loaded.dataset.series.len()
+        + loaded.dataset.tabulated.len()
+        + names_in_order(loaded.critical.iter().map(|r| r.series.as_str())).len()
+        + names_in_order(loaded.scattering.iter().map(|r| r.series.as_str())).len();
     let report_settings = ReportSettings {
         temperature_unit: options.temperature_unit.map(|u| u.to_string()),
         concentration_unit: options.concentration_unit.map(|u| u.to_string()),
@@ -39,14 +39,17 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
         polymer_specific_volume_ml_per_g: args.polymer_specific_volume,
         solvent_molar_volume_ml_per_mol: args.solvent_molar_volume,
         a2_tolerance_mol_ml_per_g2: args.a2_tolerance,
-        report_detail: detail(
-            args,
-            results.len()
-                + names_in_order(critical.iter().map(|r| r.series.as_str())).len()
-                + names_in_order(scattering.iter().map(|r| r.series.as_str())).len(),
-        ),
+        report_detail: detail(args, series_count),
         ..ReportSettings::new(&format!("{:?}", args.read.virial).to_lowercase())
     };
+    // A campaign without figures is analysed and written a chunk of series at a time.
+    if series_count > report::CAMPAIGN_SERIES && args.figures.is_none() && args.html.is_none() {
+        return super::campaign::run(args, loaded, &settings, report_settings);
+    }
+    let Loaded { inputs, dataset, warnings: run_warnings, critical, volumes, scattering } = loaded;
+    let bar = Bar::new(analysis::work_units(&dataset.series, &dataset.tabulated, &settings), args.quiet);
+    let results = analysis::analyze_with_progress(&dataset.series, &dataset.tabulated, &settings, &bar);
+    bar.finish();
     let mut report = Report::new(inputs, report_settings, run_warnings, &results, &dataset);
     add_critical_series(&mut report, &critical, &volumes, &settings);
     add_scattering_series(&mut report, &scattering, &volumes, &settings);
@@ -190,7 +193,7 @@ pub(crate) fn read_options(args: &ReadArgs) -> Result<ReadOptions, Error> {
 }
 
 /// Why series were refused, grouped by reason with counts (a campaign may refuse thousands).
-fn grouped_reasons(report: &Report) -> String {
+pub(super) fn grouped_reasons(report: &Report) -> String {
     let mut groups: Vec<(String, usize, String)> = Vec::new();
     for s in &report.series {
         let reason = s.reason.clone().unwrap_or_default();
@@ -214,7 +217,7 @@ fn grouped_reasons(report: &Report) -> String {
 }
 
 /// The Shultz–Flory route for every series of critical temperatures, in order of appearance.
-fn add_critical_series(
+pub(super) fn add_critical_series(
     report: &mut Report,
     rows: &[thetaseek::input::CriticalRow],
     volumes: &[(String, Volumes)],
@@ -234,7 +237,7 @@ fn add_critical_series(
 
 /// Light-scattering series: Zimm fits per temperature, then the same θ machinery (on the
 /// light-scattering A2, a weight-average quantity).
-fn add_scattering_series(
+pub(super) fn add_scattering_series(
     report: &mut Report,
     rows: &[thetaseek::input::ScatteringRow],
     volumes: &[(String, Volumes)],
@@ -258,7 +261,7 @@ fn add_scattering_series(
 }
 
 /// Distinct names in order of first appearance.
-fn names_in_order<'a>(names: impl Iterator<Item = &'a str>) -> Vec<&'a str> {
+pub(super) fn names_in_order<'a>(names: impl Iterator<Item = &'a str>) -> Vec<&'a str> {
     let mut seen = std::collections::HashSet::new();
     names.filter(|n| seen.insert(*n)).collect()
 }

@@ -1,6 +1,7 @@
 //! One file per subcommand: orchestration and file I/O only; the science is in the library.
 
 pub mod analyze;
+mod campaign;
 pub mod next;
 pub mod plan;
 
@@ -54,18 +55,45 @@ impl<'a> PendingOutput<'a> {
     }
 }
 
-/// Reads an input file whole (inputs are only ever opened for reading), refusing one larger
-/// than `max_mb` megabytes before reading it.
-pub fn read_input(path: &Path, max_mb: u64) -> Result<Vec<u8>, Error> {
+/// Opens an input file for reading (inputs are only ever opened for reading), refusing one
+/// larger than `max_mb` megabytes before reading it.
+pub fn open_input(path: &Path, max_mb: u64) -> Result<std::fs::File, Error> {
     let io = |source| Error::Io { action: "cannot read", path: path.to_path_buf(), source };
-    let size = std::fs::metadata(path).map_err(io)?.len();
+    let file = std::fs::File::open(path).map_err(io)?;
+    let size = file.metadata().map_err(io)?.len();
     if size > max_mb.saturating_mul(1 << 20) {
         return Err(Error::Input(thetaseek::error::InputError::file(
             &path.display().to_string(),
             format!("the file is {} MB, above the limit of {max_mb} MB; raise it with --max-input-mb", size >> 20),
         )));
     }
-    std::fs::read(path).map_err(io)
+    Ok(file)
+}
+
+/// Reads an input file whole (see [`open_input`]).
+pub fn read_input(path: &Path, max_mb: u64) -> Result<Vec<u8>, Error> {
+    let mut bytes = Vec::new();
+    std::io::Read::read_to_end(&mut open_input(path, max_mb)?, &mut bytes).map_err(|source| Error::Io {
+        action: "cannot read",
+        path: path.to_path_buf(),
+        source,
+    })?;
+    Ok(bytes)
+}
+
+/// A reader that hashes every byte it passes on, so that a file read a block at a time is
+/// still recorded with its SHA-256.
+struct Hashing<R> {
+    inner: R,
+    hasher: sha2::Sha256,
+}
+
+impl<R: std::io::Read> std::io::Read for Hashing<R> {
+    fn read(&mut self, buf: &mut [u8]) -> std::io::Result<usize> {
+        let n = self.inner.read(buf)?;
+        sha2::Digest::update(&mut self.hasher, &buf[..n]);
+        Ok(n)
+    }
 }
 
 /// A terminal progress bar on stderr (hidden when stderr is not a terminal or `quiet`).
@@ -88,6 +116,13 @@ impl Bar {
     /// Removes the bar from the terminal.
     pub fn finish(&self) {
         self.0.finish_and_clear();
+    }
+}
+
+impl Bar {
+    /// `n` more units done.
+    pub fn advance_by(&self, n: u64) {
+        self.0.inc(n);
     }
 }
 
@@ -145,20 +180,21 @@ pub struct Loaded {
 /// Reads every data file (osmometry, A2 or χ tables) into one dataset.
 pub fn load(files: &[PathBuf], options: &ReadOptions, max_mb: u64) -> Result<Loaded, Error> {
     let mut inputs = Vec::new();
-    let mut measurements = Vec::new();
+    let mut readings = thetaseek::dataset::GroupedReadings::default();
     let (mut a2_rows, mut chi_rows): (Vec<TabulatedRow>, Vec<TabulatedRow>) = (Vec::new(), Vec::new());
     let (mut volumes, mut solvents) = (Vec::new(), Vec::new());
     let mut critical = Vec::new();
     let mut scattering = Vec::new();
     let mut warnings = Vec::new();
     for (index, path) in files.iter().enumerate() {
-        let bytes = read_input(path, max_mb)?;
         let name = path.display().to_string();
-        let contents = input::read_file(&name, index, &bytes, options)?;
+        let mut source = Hashing { inner: open_input(path, max_mb)?, hasher: sha2::Sha256::default() };
+        let contents = input::read_source(&name, index, &mut source, options, input::BLOCK_BYTES)?;
+        inputs.push(InputFile::from_digest(&name, &sha2::Digest::finalize(source.hasher)));
         for column in &contents.ignored_columns {
             warnings.push(format!("{name}: column '{column}' is not used"));
         }
-        measurements.extend(contents.measurements);
+        readings.absorb(contents.readings);
         match contents.quantity {
             Some(Quantity::SecondVirial) => a2_rows.extend(contents.tabulated),
             Some(Quantity::HalfMinusChi) => chi_rows.extend(contents.tabulated),
@@ -168,8 +204,7 @@ pub fn load(files: &[PathBuf], options: &ReadOptions, max_mb: u64) -> Result<Loa
         solvents.extend(contents.solvents);
         critical.extend(contents.critical);
         scattering.extend(contents.scattering);
-        inputs.push(InputFile::new(&name, &bytes));
     }
-    let dataset = Dataset::new(&measurements, &a2_rows, &chi_rows, &volumes, &solvents);
+    let dataset = Dataset::new(readings, &a2_rows, &chi_rows, &volumes, &solvents);
     Ok(Loaded { inputs, dataset, warnings, critical, volumes, scattering })
 }

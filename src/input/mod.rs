@@ -7,13 +7,15 @@
 //! The kind of file is recognised from its columns: `pressure` or `head` → osmometry
 //! readings; `a2` → A2 already fitted at each temperature; `chi` → χ at each temperature.
 
+mod blocks;
 mod columns;
 mod scan;
 
+pub use blocks::{read_source, BLOCK_BYTES};
 pub use columns::{parse_header_cell, HeaderCell, Role};
 pub use scan::{scan, Layout, RecordLine};
 
-use crate::dataset::{Measurement, Origin, TabulatedRow};
+use crate::dataset::{GroupedReadings, Measurement, Origin, TabulatedRow};
 use crate::error::InputError;
 use crate::theta::{Quantity, TemperaturePoint, Volumes};
 use crate::units::{
@@ -77,8 +79,8 @@ pub struct ScatteringRow {
 /// What one file held, in SI units.
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct FileContents {
-    /// Osmometry readings, in file order (blank lines dropped).
-    pub measurements: Vec<Measurement>,
+    /// Osmometry readings, grouped into series and temperatures as they were read.
+    pub readings: GroupedReadings,
     /// A2 or χ per temperature, for tables of those.
     pub tabulated: Vec<TabulatedRow>,
     /// What `tabulated` holds.
@@ -116,10 +118,37 @@ pub fn read_file(
     bytes: &[u8],
     options: &ReadOptions,
 ) -> Result<FileContents, InputError> {
-    let table = Table::parse(name, file_index, bytes)?;
-    let mut contents = if table.has(Role::Pressure) || table.has(Role::Head) {
-        read_osmometry(&table, options)?
-    } else if table.has(Role::A2) || table.has(Role::Chi) {
+    read_table(Table::parse(name, file_index, bytes)?, options)
+}
+
+/// [`read_file`] that frees the file's bytes as soon as the CSV reader has its text (a
+/// campaign's bytes and text would otherwise sit in memory together with its values).
+pub fn read_file_owned(
+    name: &str,
+    file_index: usize,
+    bytes: Vec<u8>,
+    options: &ReadOptions,
+) -> Result<FileContents, InputError> {
+    let table = Table::parse(name, file_index, &bytes)?;
+    drop(bytes);
+    read_table(table, options)
+}
+
+fn read_table(table: Table, options: &ReadOptions) -> Result<FileContents, InputError> {
+    let name = table.name;
+    if table.has(Role::Pressure) || table.has(Role::Head) {
+        let columns = read_osmometry(&table, options)?;
+        let contents = FileContents {
+            volumes: without_rows(table.volumes()?),
+            solvents: without_rows(table.solvents()?),
+            ignored_columns: table.ignored_columns(),
+            ..FileContents::default()
+        };
+        // The text (the larger part) is freed before the readings are grouped.
+        drop(table);
+        return Ok(FileContents { readings: columns.group(), ..contents });
+    }
+    let mut contents = if table.has(Role::A2) || table.has(Role::Chi) {
         read_tabulated(&table, options)?
     } else if table.has(Role::CriticalTemperature) {
         read_critical(&table)?
@@ -134,9 +163,9 @@ pub fn read_file(
             "there is no such column; the header needs temperature, concentration and pressure (or head), each with its unit, e.g. 'temperature (C),concentration (g/mL),pressure (Pa)' — or temperature and 'a2 (mol mL/g2)' or 'chi'",
         ));
     };
-    contents.volumes = table.volumes()?;
-    contents.solvents = table.solvents()?;
-    contents.ignored_columns = table.cells.iter().filter(|c| c.role.is_none()).map(|c| c.raw.clone()).collect();
+    contents.volumes = without_rows(table.volumes()?);
+    contents.solvents = without_rows(table.solvents()?);
+    contents.ignored_columns = table.ignored_columns();
     Ok(contents)
 }
 
@@ -249,9 +278,14 @@ pub fn file_stem(name: &str) -> String {
 }
 
 fn check_utf8(name: &str, bytes: &[u8]) -> Result<(), InputError> {
+    check_utf8_from(name, bytes, 1)
+}
+
+/// [`check_utf8`] for bytes that start on line `first_line` of the file.
+fn check_utf8_from(name: &str, bytes: &[u8], first_line: usize) -> Result<(), InputError> {
     let Err(e) = std::str::from_utf8(bytes) else { return Ok(()) };
     let before = &bytes[..e.valid_up_to()];
-    let line = 1 + before.iter().filter(|b| **b == b'\n').count();
+    let line = first_line + before.iter().filter(|b| **b == b'\n').count();
     let line_start = before.iter().rposition(|b| *b == b'\n').map_or(0, |p| p + 1);
     let field = 1 + before[line_start..].iter().filter(|b| **b == b',').count();
     Err(InputError::at(
@@ -337,6 +371,17 @@ struct Table<'a> {
     layout: Layout,
     columns: Vec<StringChunked>,
     roles: HashMap<Role, usize>,
+    /// For one block of a file read in blocks: the column-wide checks are recorded here (does
+    /// every value of this block exceed the limit, and the refusal at its first row) and
+    /// decided once every block is read. `None` for a file read whole.
+    deferred: Option<std::sync::Mutex<Vec<DeferredCheck>>>,
+}
+
+/// One column-wide check of one block (see [`Table::refuse_if_all_exceed`]).
+struct DeferredCheck {
+    column: usize,
+    all_exceed: bool,
+    refusal: Option<InputError>,
 }
 
 impl<'a> Table<'a> {
@@ -352,6 +397,20 @@ impl<'a> Table<'a> {
             return Err(InputError::at(name, layout.header_line, None, None, "the header has no data rows under it"));
         }
         let frame = parse_with_polars(name, bytes)?;
+        Table::from_frame(name, file_index, cells, layout, roles, frame, false)
+    }
+
+    /// A table over the text columns polars read for `layout`'s records; `deferred` for one
+    /// block of a file read in blocks.
+    fn from_frame(
+        name: &'a str,
+        file_index: usize,
+        cells: Vec<HeaderCell>,
+        layout: Layout,
+        roles: HashMap<Role, usize>,
+        frame: DataFrame,
+        deferred: bool,
+    ) -> Result<Self, InputError> {
         if frame.height() != layout.records.len() {
             return Err(InputError::file(
                 name,
@@ -368,7 +427,17 @@ impl<'a> Table<'a> {
             .map(|c| c.as_materialized_series().str().cloned())
             .collect::<Result<Vec<_>, _>>()
             .map_err(|e| InputError::file(name, format!("a column could not be read as text: {e}")))?;
-        Ok(Table { name, file_index, cells, layout, columns, roles })
+        let deferred = deferred.then(|| std::sync::Mutex::new(Vec::new()));
+        Ok(Table { name, file_index, cells, layout, columns, roles, deferred })
+    }
+
+    /// The column-wide checks recorded for a block (see [`Table::deferred`]).
+    fn take_deferred(&self) -> Vec<DeferredCheck> {
+        self.deferred.as_ref().map_or(Vec::new(), |d| std::mem::take(&mut *d.lock().unwrap_or_else(|p| p.into_inner())))
+    }
+
+    fn ignored_columns(&self) -> Vec<String> {
+        self.cells.iter().filter(|c| c.role.is_none()).map(|c| c.raw.clone()).collect()
     }
 
     fn has(&self, role: Role) -> bool {
@@ -444,7 +513,13 @@ impl<'a> Table<'a> {
     /// means the header names the wrong unit: `limit` is exceeded by all (`above`) rows.
     fn refuse_if_all_exceed(&self, col: usize, raw: &[f64], limit: f64, message: &str) -> Result<(), InputError> {
         let rows: Vec<usize> = self.rows().collect();
-        if !rows.is_empty() && rows.iter().all(|&r| raw[r] > limit) {
+        let all_exceed = rows.iter().all(|&r| raw[r] > limit);
+        if let Some(deferred) = &self.deferred {
+            let refusal = rows.first().map(|&r| self.refuse(col, r, message));
+            deferred.lock().unwrap_or_else(|p| p.into_inner()).push(DeferredCheck { column: col, all_exceed, refusal });
+            return Ok(());
+        }
+        if !rows.is_empty() && all_exceed {
             return Err(self.refuse(col, rows[0], message));
         }
         Ok(())
@@ -464,6 +539,51 @@ impl<'a> Table<'a> {
             return Err(self.refuse(col, row, what));
         }
         Ok(v)
+    }
+
+    /// Every row of a column at once, in one pass down the column (a campaign has hundreds of
+    /// thousands of rows): `convert` turns each number into its value or refuses it. Blank
+    /// records, and empty cells where `allow_empty`, give NaN. Any value that does not parse
+    /// cleanly goes through [`Table::number`], so the messages are the row-by-row ones; the
+    /// error carries its row, for [`first_in_row_order`].
+    fn parse_column(
+        &self,
+        col: usize,
+        allow_empty: bool,
+        convert: impl Fn(usize, f64) -> Result<f64, InputError>,
+    ) -> Result<Vec<f64>, (usize, InputError)> {
+        let mut out = Vec::with_capacity(self.layout.records.len());
+        for (row, (text, record)) in self.columns[col].iter().zip(&self.layout.records).enumerate() {
+            let text = text.map_or("", str::trim);
+            if record.blank || (allow_empty && text.is_empty()) {
+                out.push(f64::NAN);
+                continue;
+            }
+            let value = match f64::from_str(text) {
+                Ok(v) if v.is_finite() && (v == 0.0 || v.is_normal()) => v,
+                _ => return Err((row, self.number(col, row).err().unwrap_or_else(|| self.refuse(col, row, "")))),
+            };
+            out.push(convert(row, value).map_err(|e| (row, e))?);
+        }
+        Ok(out)
+    }
+
+    /// [`Table::parse_column`] with the checks of [`Table::checked`].
+    fn checked_column(
+        &self,
+        col: usize,
+        allow_empty: bool,
+        to_si: impl Fn(f64) -> f64,
+        zero_ok: bool,
+        what: &str,
+    ) -> Result<Vec<f64>, (usize, InputError)> {
+        self.parse_column(col, allow_empty, |row, x| {
+            let v = to_si(x);
+            if v < 0.0 || (!zero_ok && v == 0.0) {
+                return Err(self.refuse(col, row, what));
+            }
+            Ok(v)
+        })
     }
 
     /// The unit written in the header, or the one given by `flag` when the header has none.
@@ -532,18 +652,49 @@ impl<'a> Table<'a> {
         }
     }
 
+    /// The series name of every row, one shared string per run of rows of one series (blank
+    /// records get an empty name).
+    fn series_column(&self) -> Result<Vec<std::sync::Arc<str>>, (usize, InputError)> {
+        let mut out: Vec<std::sync::Arc<str>> = Vec::with_capacity(self.layout.records.len());
+        let mut last: std::sync::Arc<str> = std::sync::Arc::from("");
+        let Some(col) = self.column(Role::Series) else {
+            for (row, record) in self.layout.records.iter().enumerate() {
+                if !record.blank {
+                    let name = self.series(row).map_err(|e| (row, e))?;
+                    if *last != *name {
+                        last = std::sync::Arc::from(name.as_ref());
+                    }
+                }
+                out.push(last.clone());
+            }
+            return Ok(out);
+        };
+        for (row, (text, record)) in self.columns[col].iter().zip(&self.layout.records).enumerate() {
+            let name = text.map_or("", str::trim);
+            if !record.blank {
+                if name.is_empty() {
+                    return Err((row, self.series(row).err().unwrap_or_else(|| self.refuse(col, row, ""))));
+                }
+                if *last != *name {
+                    last = std::sync::Arc::from(name);
+                }
+            }
+            out.push(last.clone());
+        }
+        Ok(out)
+    }
+
     fn temperatures(&self, options: &ReadOptions) -> Result<Vec<f64>, InputError> {
         let col = self.require(Role::Temperature)?;
         let unit: TemperatureUnit = self.unit(col, options.temperature_unit, "--temperature-unit")?;
-        let mut raw = vec![f64::NAN; self.layout.records.len()];
-        let mut out = vec![f64::NAN; self.layout.records.len()];
-        for row in self.rows() {
-            raw[row] = self.number(col, row)?;
-            let t = unit.to_kelvin(raw[row]);
+        let raw = self.parse_column(col, false, |_, x| Ok(x)).map_err(|(_, e)| e)?;
+        let mut out = Vec::with_capacity(raw.len());
+        for (row, x) in raw.iter().enumerate() {
+            let t = unit.to_kelvin(*x);
             if t <= 0.0 {
                 return Err(self.refuse(col, row, "a temperature must lie above absolute zero (0 K)"));
             }
-            out[row] = t;
+            out.push(t);
         }
         if unit == TemperatureUnit::Celsius {
             self.refuse_if_all_exceed(
@@ -557,9 +708,10 @@ impl<'a> Table<'a> {
     }
 
     /// The solvent of each series from a `solvent` column (one solvent per series).
-    fn solvents(&self) -> Result<Vec<(String, String)>, InputError> {
+    /// The solvent of each series (first row of each series with its record index).
+    fn solvents(&self) -> Result<Vec<(String, String, usize)>, InputError> {
         let Some(col) = self.column(Role::Solvent) else { return Ok(Vec::new()) };
-        let mut out: Vec<(String, String)> = Vec::new();
+        let mut out: Vec<(String, String, usize)> = Vec::new();
         let mut seen: HashMap<String, usize> = HashMap::new();
         for row in self.rows() {
             let series = self.series(row)?.into_owned();
@@ -580,7 +732,7 @@ impl<'a> Table<'a> {
                 Some(_) => {}
                 None => {
                     seen.insert(series.clone(), out.len());
-                    out.push((series, solvent));
+                    out.push((series, solvent, row));
                 }
             }
         }
@@ -589,7 +741,7 @@ impl<'a> Table<'a> {
 
     /// v̄ and V1 per series from `polymer specific volume` and `solvent molar volume` columns;
     /// both are needed, and each series must give one value of each.
-    fn volumes(&self) -> Result<Vec<(String, Volumes)>, InputError> {
+    fn volumes(&self) -> Result<Vec<(String, Volumes, usize)>, InputError> {
         let (Some(vc), Some(mc)) = (self.column(Role::SpecificVolume), self.column(Role::MolarVolume)) else {
             return match (self.column(Role::SpecificVolume), self.column(Role::MolarVolume)) {
                 (Some(c), None) | (None, Some(c)) => Err(InputError::at(
@@ -604,7 +756,7 @@ impl<'a> Table<'a> {
         };
         let v_unit: SpecificVolumeUnit = self.unit(vc, None, "")?;
         let m_unit: MolarVolumeUnit = self.unit(mc, None, "")?;
-        let mut out: Vec<(String, Volumes)> = Vec::new();
+        let mut out: Vec<(String, Volumes, usize)> = Vec::new();
         let mut seen: HashMap<String, usize> = HashMap::new();
         for row in self.rows() {
             let series = self.series(row)?.into_owned();
@@ -635,7 +787,7 @@ impl<'a> Table<'a> {
                 Some(_) => {}
                 None => {
                     seen.insert(series.clone(), out.len());
-                    out.push((series, v));
+                    out.push((series, v, row));
                 }
             }
         }
@@ -643,7 +795,18 @@ impl<'a> Table<'a> {
     }
 }
 
-fn read_osmometry(table: &Table, options: &ReadOptions) -> Result<FileContents, InputError> {
+fn without_rows<T>(v: Vec<(String, T, usize)>) -> Vec<(String, T)> {
+    v.into_iter().map(|(s, t, _)| (s, t)).collect()
+}
+
+/// The error of the earliest row among those of several columns (ties go to the earlier
+/// column), as a row-by-row pass would have met it.
+fn first_in_row_order<const N: usize>(errors: [Option<(usize, InputError)>; N]) -> (usize, InputError) {
+    // `min_by_key` keeps the first of equal keys: the earlier column.
+    errors.into_iter().flatten().min_by_key(|(row, _)| *row).expect("called with at least one error")
+}
+
+fn read_osmometry(table: &Table, options: &ReadOptions) -> Result<OsmometryColumns, InputError> {
     let temperatures = table.temperatures(options)?;
     let c_col = table.require(Role::Concentration)?;
     let c_unit: ConcentrationUnit = table.unit(c_col, options.concentration_unit, "--concentration-unit")?;
@@ -690,67 +853,108 @@ fn read_osmometry(table: &Table, options: &ReadOptions) -> Result<FileContents, 
         (Some(i), _) => Some((i, table.unit(i, options.pressure_unit, "--pressure-unit")?)),
         (None, _) => None,
     };
-    let mut measurements = Vec::with_capacity(table.layout.records.len());
-    let mut last_series: Option<std::sync::Arc<str>> = None;
-    for row in table.rows() {
-        let pressure_pa = match &source {
+    // Column by column (in parallel), then row by row; where several values are wrong the
+    // first in row order is reported, and within a row the first column in the order
+    // pressure (or head, density), sd, series, concentration.
+    let pressure = || -> Result<Vec<f64>, (usize, InputError)> {
+        match &source {
             Source::Pressure(col, unit) => {
-                table.checked(*col, row, |x| unit.to_si(x), true, "an osmotic pressure cannot be negative")?
+                table.checked_column(*col, false, |x| unit.to_si(x), true, "an osmotic pressure cannot be negative")
             }
             Source::Head(col, unit, density) => {
-                let h = table.checked(*col, row, |x| unit.to_si(x), true, "a head cannot be negative")?;
+                let h = table.checked_column(*col, false, |x| unit.to_si(x), true, "a head cannot be negative");
                 let rho = match density {
                     Some((d, du)) => {
-                        table.checked(*d, row, |x| du.to_si(x), false, "a density must be greater than zero")?
+                        table.checked_column(*d, false, |x| du.to_si(x), false, "a density must be greater than zero")
                     }
-                    None => options.solvent_density_kg_per_m3.unwrap_or(f64::NAN),
+                    None => Ok(vec![options.solvent_density_kg_per_m3.unwrap_or(f64::NAN); table.layout.records.len()]),
                 };
-                head_to_pressure_pa(rho, h)
+                match (h, rho) {
+                    (Ok(h), Ok(rho)) => Ok(h.iter().zip(&rho).map(|(h, r)| head_to_pressure_pa(*r, *h)).collect()),
+                    (h, rho) => Err(first_in_row_order([h.err(), rho.err()])),
+                }
             }
-        };
-        let pressure_sd_pa = match sd {
-            Some((col, unit)) if !table.text(col, row).is_empty() => Some(table.checked(
+        }
+    };
+    let sd_values = || match sd {
+        Some((col, unit)) => table
+            .checked_column(
                 col,
-                row,
+                true,
                 |x| unit.to_si(x),
                 false,
                 "a standard deviation must be greater than zero (leave it empty if unknown)",
-            )?),
-            _ => None,
-        };
-        // Rows of one series usually follow each other: share its name.
-        let name = table.series(row)?;
-        let series = match &last_series {
-            Some(last) if **last == *name => last.clone(),
-            _ => std::sync::Arc::from(name.as_ref()),
-        };
-        last_series = Some(series.clone());
-        measurements.push(Measurement {
-            series,
-            temperature_k: temperatures[row],
-            concentration_kg_per_m3: {
-                let c = table.checked(
+            )
+            .map(Some),
+        None => Ok(None),
+    };
+    let concentration = || {
+        let c_max = MAX_CONCENTRATION_KG_PER_M3;
+        table.parse_column(c_col, false, |row, x| {
+            let c = c_unit.to_si(x);
+            if c <= 0.0 {
+                return Err(table.refuse(c_col, row, "a concentration must be greater than zero"));
+            }
+            if c > c_max {
+                return Err(table.refuse(
                     c_col,
                     row,
-                    |x| c_unit.to_si(x),
-                    false,
-                    "a concentration must be greater than zero",
-                )?;
-                if c > MAX_CONCENTRATION_KG_PER_M3 {
-                    return Err(table.refuse(
-                        c_col,
-                        row,
-                        "above 2 g/mL this is not a solution: check the value and its unit",
-                    ));
-                }
-                c
-            },
-            pressure_pa,
-            pressure_sd_pa,
-            origin: Origin { file: table.file_index, line: table.line(row) },
-        });
+                    "above 2 g/mL this is not a solution: check the value and its unit",
+                ));
+            }
+            Ok(c)
+        })
+    };
+    let (pressure, (sd_values, (names, concentration))) =
+        rayon::join(pressure, || rayon::join(sd_values, || rayon::join(|| table.series_column(), concentration)));
+    let (pressure, sd_values, names, concentration) = match (pressure, sd_values, names, concentration) {
+        (Ok(p), Ok(s), Ok(n), Ok(c)) => (p, s, n, c),
+        (p, s, n, c) => return Err(first_in_row_order([p.err(), s.err(), n.err(), c.err()]).1),
+    };
+    let rows: Vec<(usize, usize)> = table.rows().map(|row| (row, table.line(row))).collect();
+    Ok(OsmometryColumns {
+        file_index: table.file_index,
+        rows,
+        names,
+        temperatures,
+        concentration,
+        pressure,
+        sd: sd_values,
+    })
+}
+
+/// An osmometry file's values, one vector per column (SI), kept apart from the text they came
+/// from so that the text can be freed before the readings are grouped.
+struct OsmometryColumns {
+    file_index: usize,
+    /// (record index, line) of every non-blank record.
+    rows: Vec<(usize, usize)>,
+    names: Vec<std::sync::Arc<str>>,
+    temperatures: Vec<f64>,
+    concentration: Vec<f64>,
+    pressure: Vec<f64>,
+    sd: Option<Vec<f64>>,
+}
+
+impl OsmometryColumns {
+    fn group(self) -> GroupedReadings {
+        let mut readings = GroupedReadings::default();
+        self.group_into(&mut readings);
+        readings
     }
-    Ok(FileContents { measurements, ..FileContents::default() })
+
+    fn group_into(self, readings: &mut GroupedReadings) {
+        for &(row, line) in &self.rows {
+            readings.push(&Measurement {
+                series: self.names[row].clone(),
+                temperature_k: self.temperatures[row],
+                concentration_kg_per_m3: self.concentration[row],
+                pressure_pa: self.pressure[row],
+                pressure_sd_pa: self.sd.as_ref().map(|s| s[row]).filter(|v| !v.is_nan()),
+                origin: Origin { file: self.file_index, line },
+            });
+        }
+    }
 }
 
 /// Static light scattering: `kc/r (mol/g)`, or `rayleigh ratio (1/cm)` with the optical

@@ -29,37 +29,85 @@ pub const BOM: &[u8] = b"\xef\xbb\xbf";
 /// Splits `bytes` into records: `#` at the start of a line makes a comment, the first other
 /// line is the header. Returns `None` when there is no header at all.
 pub fn scan(bytes: &[u8]) -> Option<Layout> {
-    let bytes = bytes.strip_prefix(BOM).unwrap_or(bytes);
-    let mut header: Option<(usize, Vec<String>)> = None;
-    let mut records = Vec::new();
+    let header = scan_header(bytes)?;
+    let block = scan_records(&bytes[header.data_start..], header.data_line, true);
+    Some(Layout { header_line: header.line, header: header.fields, records: block.records })
+}
+
+/// The header of a CSV and where its data begin.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Header {
+    /// 1-based line of the header.
+    pub line: usize,
+    /// Header fields, unquoted and trimmed.
+    pub fields: Vec<String>,
+    /// Byte offset just past the header line (a byte-order mark included).
+    pub data_start: usize,
+    /// 1-based line at `data_start`.
+    pub data_line: usize,
+}
+
+/// Finds the header: the first line that is neither a comment nor blank.
+pub fn scan_header(bytes: &[u8]) -> Option<Header> {
+    let bom = if bytes.starts_with(BOM) { BOM.len() } else { 0 };
+    let body = &bytes[bom..];
     let mut line = 1usize;
     let mut pos = 0usize;
-    while pos < bytes.len() {
+    while pos < body.len() {
         let start_line = line;
+        let (end, next, newlines) = record_end(body, pos);
+        let text = &body[pos..end];
+        let text = text.strip_suffix(b"\r").unwrap_or(text);
+        pos = next;
+        line += newlines;
+        if text.first() == Some(&b'#') || text.iter().all(u8::is_ascii_whitespace) {
+            continue;
+        }
+        return Some(Header { line: start_line, fields: split_fields(text), data_start: bom + pos, data_line: line });
+    }
+    None
+}
+
+/// The records of one block of data lines.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Records {
+    /// Every record, blank ones included.
+    pub records: Vec<RecordLine>,
+    /// Bytes of the block these records span: a record cut off by the end of a block that is
+    /// not the end of the file is left for the next block.
+    pub consumed: usize,
+    /// 1-based line just after them.
+    pub next_line: usize,
+}
+
+/// The records of `bytes` (data lines, after the header), the first starting on `first_line`;
+/// `at_end` says whether the file ends with these bytes.
+pub fn scan_records(bytes: &[u8], first_line: usize, at_end: bool) -> Records {
+    // One record per line at most: reserving that avoids doubling a campaign's vector.
+    let mut records = Vec::with_capacity(bytes.iter().filter(|b| **b == b'\n').count() + 1);
+    let mut line = first_line;
+    let mut pos = 0usize;
+    while pos < bytes.len() {
         let (end, next, newlines) = record_end(bytes, pos);
+        if !at_end && end == bytes.len() {
+            break;
+        }
         let text = &bytes[pos..end];
         let text = text.strip_suffix(b"\r").unwrap_or(text);
+        let start_line = line;
         pos = next;
         line += newlines;
         if text.first() == Some(&b'#') {
             continue;
         }
-        match header {
-            None => {
-                if text.iter().all(u8::is_ascii_whitespace) {
-                    continue;
-                }
-                header = Some((start_line, split_fields(text)));
-            }
-            // Data rows are only counted, not copied: this pass runs over every byte.
-            Some(_) => records.push(RecordLine {
-                line: start_line,
-                n_fields: count_fields(text),
-                blank: text.iter().all(|b| b.is_ascii_whitespace() || *b == b','),
-            }),
-        }
+        // Data rows are only counted, not copied: this pass runs over every byte.
+        records.push(RecordLine {
+            line: start_line,
+            n_fields: count_fields(text),
+            blank: text.iter().all(|b| b.is_ascii_whitespace() || *b == b','),
+        });
     }
-    header.map(|(header_line, header)| Layout { header_line, header, records })
+    Records { records, consumed: pos, next_line: line }
 }
 
 /// End of the record starting at `pos` (exclusive, before the newline), the start of the next
@@ -128,6 +176,19 @@ mod tests {
         assert_eq!(layout.header, vec!["a", "b"]);
         let lines: Vec<_> = layout.records.iter().map(|r| (r.line, r.n_fields, r.blank)).collect();
         assert_eq!(lines, vec![(3, 2, false), (4, 1, true), (6, 2, false), (8, 2, false)]);
+    }
+
+    #[test]
+    fn records_cut_at_any_byte_resume_where_they_stopped() {
+        let text = b"# c\na,b\n1,\"x\ny\"\n# mid\n\n3,4\n5,6";
+        let whole = scan(text).unwrap();
+        let header = scan_header(text).unwrap();
+        for cut in header.data_start..text.len() {
+            let first = scan_records(&text[header.data_start..cut], header.data_line, false);
+            let rest = scan_records(&text[header.data_start + first.consumed..], first.next_line, true);
+            let joined: Vec<RecordLine> = first.records.into_iter().chain(rest.records).collect();
+            assert_eq!(joined, whole.records, "cut at {cut}");
+        }
     }
 
     #[test]

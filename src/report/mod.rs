@@ -7,7 +7,7 @@ mod table;
 mod terminal;
 mod theta;
 
-pub use table::{series_table_csv, table_csv, SeriesFilter};
+pub use table::{series_table_csv, table_csv, table_rows_csv, SeriesFilter};
 pub use terminal::{plus_minus, render_summary, render_terminal};
 pub use theta::{LineReport, ThetaPointReport, ThetaReport};
 
@@ -103,7 +103,11 @@ pub struct InputFile {
 impl InputFile {
     /// Records a file and hashes its bytes.
     pub fn new(path: &str, bytes: &[u8]) -> Self {
-        let digest = Sha256::digest(bytes);
+        Self::from_digest(path, &Sha256::digest(bytes))
+    }
+
+    /// Records a file whose SHA-256 was computed while it was read.
+    pub fn from_digest(path: &str, digest: &[u8]) -> Self {
         InputFile { path: path.to_string(), sha256: digest.iter().map(|b| format!("{b:02x}")).collect() }
     }
 }
@@ -207,6 +211,10 @@ pub struct SeriesReport {
     pub critical: Option<crate::theta::CriticalRoute>,
     /// Per-temperature light-scattering fits (Mw, A2, Rg, α_s) of a light-scattering series.
     pub light_scattering: Vec<crate::scattering::ScatteringFit>,
+    /// Warnings of the per-temperature fits, counted (kept when a campaign's record drops the
+    /// fits themselves).
+    #[serde(skip)]
+    pub fit_warnings: usize,
 }
 
 /// A skipped temperature.
@@ -400,6 +408,7 @@ impl SeriesReport {
             warnings.extend(t.warnings.iter().cloned());
         }
         let theta = result.theta.as_ref().map(|t| ThetaReport::new(t, result.quantity));
+        let fit_warnings = result.fits.iter().map(|f| f.warnings.len()).sum();
         SeriesReport {
             name: result.name.clone(),
             solvent: None,
@@ -416,7 +425,26 @@ impl SeriesReport {
             },
             critical: None,
             light_scattering: Vec::new(),
+            fit_warnings,
         }
+    }
+
+    /// What a campaign keeps of a series once it is written: everything the summary, the
+    /// digest, the per-series table and the route comparison read, without the per-temperature
+    /// fits and the bulky parts of the θ analysis.
+    pub fn into_record(mut self) -> Self {
+        self.fits = Vec::new();
+        self.skipped_temperatures = Vec::new();
+        if let Some(t) = &mut self.theta {
+            t.models = Vec::new();
+            t.points = Vec::new();
+            t.warnings = Vec::new();
+            t.ci_reason = String::new();
+            t.bootstrap = None;
+            t.joint = None;
+            t.line = None;
+        }
+        self
     }
 }
 
@@ -428,7 +456,7 @@ pub fn needs_attention(s: &SeriesReport) -> bool {
         (None, Some(_)) => true,
         (None, None) => false,
     };
-    s.status != Status::Ok || !bracketed || !s.warnings.is_empty() || s.fits.iter().any(|f| !f.warnings.is_empty())
+    s.status != Status::Ok || !bracketed || !s.warnings.is_empty() || s.fit_warnings > 0
 }
 
 impl From<&SkippedTemperature> for SkippedReport {
@@ -489,6 +517,7 @@ impl Report {
             route: "critical_temperatures",
             critical,
             light_scattering: Vec::new(),
+            fit_warnings: 0,
         });
     }
 
@@ -512,6 +541,7 @@ impl Report {
             route: "light_scattering",
             critical: None,
             light_scattering: fits,
+            fit_warnings: 0,
         });
     }
 
@@ -599,6 +629,58 @@ pub fn to_json<T: Serialize>(report: &T) -> Vec<u8> {
 /// pretty campaign report is mostly indentation), at [`Detail::Fits`] unless asked otherwise,
 /// and the terminal shows a digest instead of every series.
 pub const CAMPAIGN_SERIES: usize = 200;
+
+/// A campaign's report written one series at a time, compact, with the same bytes as
+/// [`report_json`] of the whole report: the header fields, each series as it is ready, then
+/// the route comparisons. The writer is passed to each call, so that the caller may move the
+/// bytes on (to a file, chunk by chunk) in between.
+#[derive(Debug, Default)]
+pub struct ReportStream {
+    written: usize,
+}
+
+impl ReportStream {
+    /// Writes everything before the first series.
+    pub fn begin(
+        out: &mut dyn std::io::Write,
+        inputs: &[InputFile],
+        settings: &ReportSettings,
+        warnings: &[String],
+    ) -> std::io::Result<Self> {
+        // Keys in the order of the fields of [`Report`].
+        write!(out, "{{\"schema_version\":{SCHEMA_VERSION},\"tool_version\":")?;
+        serde_json::to_writer(&mut *out, env!("CARGO_PKG_VERSION"))?;
+        out.write_all(b",\"inputs\":")?;
+        serde_json::to_writer(&mut *out, inputs)?;
+        out.write_all(b",\"settings\":")?;
+        serde_json::to_writer(&mut *out, settings)?;
+        out.write_all(b",\"warnings\":")?;
+        serde_json::to_writer(&mut *out, warnings)?;
+        out.write_all(b",\"series\":[")?;
+        Ok(ReportStream { written: 0 })
+    }
+
+    /// Appends one series already serialised by [`series_json`].
+    pub fn push(&mut self, out: &mut dyn std::io::Write, series_json: &[u8]) -> std::io::Result<()> {
+        if self.written > 0 {
+            out.write_all(b",")?;
+        }
+        self.written += 1;
+        out.write_all(series_json)
+    }
+
+    /// Writes the route comparisons and closes the report.
+    pub fn finish(self, out: &mut dyn std::io::Write, routes: &[RouteComparison]) -> std::io::Result<()> {
+        out.write_all(b"],\"routes\":")?;
+        serde_json::to_writer(&mut *out, routes)?;
+        out.write_all(b"}\n")
+    }
+}
+
+/// One series as compact JSON, for [`ReportStream::push`].
+pub fn series_json(series: &SeriesReport) -> Vec<u8> {
+    serde_json::to_vec(series).expect("a series report holds only serialisable values")
+}
 
 /// The analysis report as JSON: pretty for a few series, compact for a campaign.
 pub fn report_json(report: &Report) -> Vec<u8> {

@@ -6,7 +6,13 @@ use polars::prelude::*;
 
 /// Renders the table: series, temperature, form, Mn, A2, A3 with SEs, dof, reduced χ², warnings.
 pub fn table_csv(report: &Report) -> PolarsResult<Vec<u8>> {
-    let rows = report.series.iter().flat_map(|s| s.fits.iter().map(move |f| (s, f)));
+    table_rows_csv(&report.series, true)
+}
+
+/// The table's rows for some series, with or without the header line: a campaign writes its
+/// table one chunk of series at a time.
+pub fn table_rows_csv(series_reports: &[super::SeriesReport], header: bool) -> PolarsResult<Vec<u8>> {
+    let rows = series_reports.iter().flat_map(|s| s.fits.iter().map(move |f| (s, f)));
     let mut series = Vec::new();
     let mut status = Vec::new();
     let mut t_k = Vec::new();
@@ -59,7 +65,7 @@ pub fn table_csv(report: &Report) -> PolarsResult<Vec<u8>> {
     ];
     let mut frame = DataFrame::new(height, columns)?;
     let mut bytes = Vec::new();
-    CsvWriter::new(&mut bytes).include_header(true).finish(&mut frame)?;
+    CsvWriter::new(&mut bytes).include_header(header).finish(&mut frame)?;
     Ok(bytes)
 }
 
@@ -102,9 +108,7 @@ pub fn series_table_csv(report: &Report, filter: SeriesFilter) -> PolarsResult<V
         Column::new("Mn (g/mol)".into(), theta(&|t| t.mn_consistency.as_ref().map(|m| m.mean_mn_g_per_mol))),
         Column::new(
             "warnings".into(),
-            rows.iter()
-                .map(|s| (s.warnings.len() + s.fits.iter().map(|f| f.warnings.len()).sum::<usize>()) as u32)
-                .collect::<Vec<u32>>(),
+            rows.iter().map(|s| (s.warnings.len() + s.fit_warnings) as u32).collect::<Vec<u32>>(),
         ),
         Column::new(
             "reason".into(),

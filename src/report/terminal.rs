@@ -188,7 +188,7 @@ fn render_digest(report: &Report) -> String {
             (Some(t), None) => theta_line(t),
             (None, None) => String::new(),
         };
-        let warnings = s.warnings.len() + s.fits.iter().map(|f| f.warnings.len()).sum::<usize>();
+        let warnings = s.warnings.len() + s.fit_warnings;
         let _ = writeln!(out, "  {} [{status}, {warnings} warnings]: {what}", s.name);
     }
     let disagreeing: Vec<&super::RouteComparison> = report.routes.iter().filter(|r| r.disagree).collect();

@@ -1,0 +1,198 @@
+//! `thetaseek analyze` on a campaign (more than [`report::CAMPAIGN_SERIES`] series, no figures):
+//! the series are analysed a chunk at a time, each chunk's JSON and table rows written straight
+//! into the (temporary) output files, and only a short record of each series kept for the
+//! summary, the digest, the per-series table and the route comparison. Memory then grows with
+//! the input, not with the report.
+
+use super::analyze::{add_critical_series, add_scattering_series, grouped_reasons};
+use super::{Bar, Loaded};
+use crate::cli::AnalyzeArgs;
+use rayon::prelude::*;
+use std::io::Write;
+use std::path::PathBuf;
+use thetaseek::analysis::{self, Settings, Status};
+use thetaseek::error::Error;
+use thetaseek::output::{same_file, write_atomic, write_stream, AtomicFile, Destination};
+use thetaseek::report::{self, Report, ReportSettings, ReportStream, SeriesReport};
+
+/// Series analysed and written together: enough to keep both cores busy, few enough that a
+/// chunk's reports stay a few megabytes.
+const CHUNK_SERIES: usize = 1024;
+
+/// An output written as the run goes: a temporary file renamed at the end, or standard output
+/// (held until the end, so that a run that fails prints no partial report).
+struct Sink {
+    path: PathBuf,
+    file: Option<AtomicFile>,
+    held: Vec<u8>,
+}
+
+impl Sink {
+    fn open(destination: Destination) -> Result<Self, Error> {
+        match destination {
+            Destination::Stdout => Ok(Sink { path: PathBuf::from("-"), file: None, held: Vec::new() }),
+            Destination::File(path) => {
+                let file = AtomicFile::create(&path).map_err(|source| io_error(&path, source))?;
+                Ok(Sink { path, file: Some(file), held: Vec::new() })
+            }
+        }
+    }
+
+    /// Moves what was written since the last call into the file.
+    fn flush(&mut self) -> Result<(), Error> {
+        if let Some(file) = &mut self.file {
+            file.file().write_all(&self.held).map_err(|source| io_error(&self.path, source))?;
+            self.held.clear();
+        }
+        Ok(())
+    }
+
+    fn commit(mut self) -> Result<(), Error> {
+        self.flush()?;
+        let path = self.path.clone();
+        match self.file.take() {
+            Some(file) => file.commit().map_err(|source| io_error(&path, source)),
+            None => write_stream(std::io::stdout().lock(), |w| w.write_all(&self.held))
+                .map_err(|source| io_error(&path, source)),
+        }
+    }
+}
+
+fn io_error(path: &std::path::Path, source: std::io::Error) -> Error {
+    Error::Io { action: "cannot write", path: path.to_path_buf(), source }
+}
+
+/// Runs `analyze` on a campaign.
+pub fn run(
+    args: &AnalyzeArgs,
+    loaded: Loaded,
+    settings: &Settings,
+    report_settings: ReportSettings,
+) -> Result<(), Error> {
+    let Loaded { inputs, dataset, warnings: run_warnings, critical, volumes, scattering } = loaded;
+    // Every output is checked before the first series is analysed.
+    let destinations: Vec<Destination> =
+        [&args.report, &args.table, &args.series_table].into_iter().flatten().map(|p| Destination::parse(p)).collect();
+    if destinations.iter().filter(|d| **d == Destination::Stdout).count() > 1 {
+        return Err(Error::Setting(
+            "only one of --report, --table and --series-table can go to standard output ('-')".into(),
+        ));
+    }
+    for d in &destinations {
+        if let Destination::File(path) = d {
+            if args.files.iter().any(|input| same_file(path, input)) {
+                return Err(Error::OutputIsInput(path.clone()));
+            }
+        }
+    }
+    let stdout_taken = destinations.contains(&Destination::Stdout);
+    let mut json = args.report.as_deref().map(|p| Sink::open(Destination::parse(p))).transpose()?;
+    let mut table = args.table.as_deref().map(|p| Sink::open(Destination::parse(p))).transpose()?;
+    let mut stream = match &mut json {
+        Some(sink) => Some(
+            ReportStream::begin(&mut sink.held, &inputs, &report_settings, &run_warnings)
+                .map_err(|source| io_error(&sink.path, source))?,
+        ),
+        None => None,
+    };
+    let detail = report_settings.report_detail;
+    let solvents: std::collections::HashMap<&str, &str> =
+        dataset.solvents.iter().map(|(s, v)| (s.as_str(), v.as_str())).collect();
+    let bar = Bar::new(analysis::work_units(&dataset.series, &dataset.tabulated, settings), args.quiet);
+    let mut records: Vec<SeriesReport> = Vec::with_capacity(dataset.series.len() + dataset.tabulated.len());
+    let mut table_started = false;
+    let want_json = json.is_some();
+    // Writes one chunk's reports, then keeps only their records.
+    let mut emit = |reports: Vec<(SeriesReport, Vec<u8>)>, records: &mut Vec<SeriesReport>| -> Result<(), Error> {
+        if let (Some(sink), Some(stream)) = (&mut json, &mut stream) {
+            for (_, bytes) in &reports {
+                stream.push(&mut sink.held, bytes).map_err(|source| io_error(&sink.path, source))?;
+            }
+            sink.flush()?;
+        }
+        let reports: Vec<SeriesReport> = reports.into_iter().map(|(r, _)| r).collect();
+        if let Some(sink) = &mut table {
+            let rows = report::table_rows_csv(&reports, !table_started)
+                .map_err(|e| Error::Setting(format!("cannot render the table: {e}")))?;
+            table_started = true;
+            sink.held.extend_from_slice(&rows);
+            sink.flush()?;
+        }
+        records.extend(reports.into_iter().map(SeriesReport::into_record));
+        Ok(())
+    };
+    let finish = |mut r: SeriesReport| {
+        r.solvent = solvents.get(r.name.as_str()).map(|v| v.to_string());
+        let bytes = if want_json { report::series_json(&r) } else { Vec::new() };
+        (r, bytes)
+    };
+    for (k, chunk) in dataset.series.chunks(CHUNK_SERIES).enumerate() {
+        let reports: Vec<(SeriesReport, Vec<u8>)> = chunk
+            .par_iter()
+            .enumerate()
+            .map(|(i, s)| {
+                let index = (k * CHUNK_SERIES + i) as u64;
+                let result = analysis::analyze_series_with_progress(s, settings, index, &bar);
+                finish(SeriesReport::new(&result, Some(s), detail))
+            })
+            .collect();
+        emit(reports, &mut records)?;
+    }
+    let tabulated: Vec<(SeriesReport, Vec<u8>)> = dataset
+        .tabulated
+        .par_iter()
+        .map(|s| {
+            let result = analysis::analyze_tabulated(s, settings);
+            bar.advance_by(1);
+            finish(SeriesReport::new(&result, None, detail))
+        })
+        .collect();
+    emit(tabulated, &mut records)?;
+    bar.finish();
+    // Critical-temperature and light-scattering series are few: added as the whole-run path does.
+    let mut report = Report { series: Vec::new(), ..Report::new(inputs, report_settings, run_warnings, &[], &dataset) };
+    add_critical_series(&mut report, &critical, &volumes, settings);
+    add_scattering_series(&mut report, &scattering, &volumes, settings);
+    let others: Vec<(SeriesReport, Vec<u8>)> = std::mem::take(&mut report.series).into_iter().map(finish).collect();
+    emit(others, &mut records)?;
+    if !table_started {
+        if let Some(sink) = &mut table {
+            let header = report::table_rows_csv(&[], true)
+                .map_err(|e| Error::Setting(format!("cannot render the table: {e}")))?;
+            sink.held.extend_from_slice(&header);
+        }
+    }
+    report.series = records;
+    report.compare_routes();
+    if report.series.iter().all(|s| s.status == Status::Refused) {
+        if !args.quiet {
+            eprint!("{}", report::render_terminal(&report));
+        }
+        return Err(Error::NothingAnalysed(grouped_reasons(&report)));
+    }
+    if let (Some(sink), Some(stream)) = (&mut json, stream) {
+        stream.finish(&mut sink.held, &report.routes).map_err(|source| io_error(&sink.path, source))?;
+    }
+    for sink in [json, table].into_iter().flatten() {
+        sink.commit()?;
+    }
+    if let Some(path) = &args.series_table {
+        let filter =
+            if args.needs_attention { report::SeriesFilter::NeedsAttention } else { report::SeriesFilter::All };
+        let bytes = report::series_table_csv(&report, filter)
+            .map_err(|e| Error::Setting(format!("cannot render the series table: {e}")))?;
+        match Destination::parse(path) {
+            Destination::Stdout => write_stream(std::io::stdout().lock(), |w| w.write_all(&bytes))
+                .map_err(|source| io_error(std::path::Path::new("-"), source))?,
+            Destination::File(p) => write_atomic(&p, &bytes).map_err(|source| io_error(&p, source))?,
+        }
+    }
+    if !args.quiet {
+        if stdout_taken {
+            eprint!("{}", report::render_terminal(&report));
+        } else {
+            print!("{}", report::render_terminal(&report));
+        }
+    }
+    Ok(())
+}

@@ -1,0 +1,233 @@
+//! A large osmometry file read a block of records at a time, so that neither its bytes nor
+//! its text are ever in memory whole: each block is scanned for its line numbers, parsed by
+//! polars under the file's own header, checked and converted like a whole file, and its
+//! readings grouped at once. Checks that need every row of a column (every temperature above
+//! 200 °C, ...) are decided after the last block; where a file holds several errors, a later
+//! block's row error can be reported before such a column-wide refusal.
+
+use super::scan::{scan_header, scan_records, Layout};
+use super::{
+    check_structure, check_utf8_from, locate_roles, parse_header_cell, parse_with_polars, read_file_owned,
+    read_osmometry, FileContents, ReadOptions, Role, Table,
+};
+use crate::dataset::GroupedReadings;
+use crate::error::InputError;
+use crate::theta::Volumes;
+use std::collections::HashMap;
+use std::io::Read;
+
+/// Bytes read per block of a large osmometry file.
+pub const BLOCK_BYTES: usize = 4 << 20;
+
+/// Reads one CSV from `source`: an osmometry file larger than `block_bytes` a block at a
+/// time, any other file whole (through [`read_file_owned`]).
+pub fn read_source(
+    name: &str,
+    file_index: usize,
+    source: &mut dyn Read,
+    options: &ReadOptions,
+    block_bytes: usize,
+) -> Result<FileContents, InputError> {
+    let io = |e: std::io::Error| InputError::file(name, format!("cannot read the file: {e}"));
+    let mut buffer = Vec::new();
+    let mut at_end = fill(source, &mut buffer, block_bytes).map_err(io)?;
+    let header = (!at_end).then(|| scan_header(&buffer)).flatten();
+    let cells: Vec<super::HeaderCell> =
+        header.as_ref().map(|h| h.fields.iter().map(|f| parse_header_cell(f)).collect()).unwrap_or_default();
+    let osmometry = header.is_some()
+        && cells.iter().any(|c| matches!(c.role, Some(Role::Pressure) | Some(Role::Head)))
+        && std::str::from_utf8(&buffer[..header.as_ref().map_or(0, |h| h.data_start)]).is_ok();
+    let Some(header) = header.filter(|_| osmometry) else {
+        source.read_to_end(&mut buffer).map_err(io)?;
+        return read_file_owned(name, file_index, buffer, options);
+    };
+    let roles = locate_roles(name, header.line, &cells)?;
+    let header_bytes = buffer[..header.data_start].to_vec();
+    buffer.drain(..header.data_start);
+    let mut line = header.data_line;
+    let mut readings = GroupedReadings::default();
+    let mut merged = Merged::default();
+    let mut any_row = false;
+    loop {
+        let block = scan_records(&buffer, line, at_end);
+        if !block.records.is_empty() {
+            let text = &buffer[..block.consumed];
+            check_utf8_from(name, text, line)?;
+            any_row |= block.records.iter().any(|r| !r.blank);
+            let layout = Layout { header_line: header.line, header: header.fields.clone(), records: block.records };
+            check_structure(name, &layout)?;
+            let frame = parse_with_polars(name, &[&header_bytes[..], text].concat())?;
+            let table = Table::from_frame(name, file_index, cells.clone(), layout, roles.clone(), frame, true)?;
+            let columns = read_osmometry(&table, options)?;
+            merged.add(&table)?;
+            drop(table);
+            columns.group_into(&mut readings);
+        }
+        buffer.drain(..block.consumed);
+        line = block.next_line;
+        if at_end {
+            break;
+        }
+        at_end = fill(source, &mut buffer, block_bytes).map_err(io)?;
+    }
+    if !any_row {
+        return Err(InputError::at(name, header.line, None, None, "the header has no data rows under it"));
+    }
+    merged.decide()?;
+    Ok(FileContents {
+        readings,
+        volumes: merged.volumes.into_iter().map(|(s, v, _)| (s, v)).collect(),
+        solvents: merged.solvents.into_iter().map(|(s, v, _)| (s, v)).collect(),
+        ignored_columns: cells.iter().filter(|c| c.role.is_none()).map(|c| c.raw.clone()).collect(),
+        ..FileContents::default()
+    })
+}
+
+/// Reads until `buffer` holds at least `block_bytes` or the source ends; true at the end.
+fn fill(source: &mut dyn Read, buffer: &mut Vec<u8>, block_bytes: usize) -> std::io::Result<bool> {
+    let target = buffer.len() + block_bytes;
+    while buffer.len() < target {
+        let before = buffer.len();
+        source.take((target - before) as u64).read_to_end(buffer)?;
+        if buffer.len() == before {
+            return Ok(true);
+        }
+    }
+    Ok(false)
+}
+
+/// What the blocks give that spans the file: one solvent and one v̄/V1 per series, and the
+/// column-wide checks.
+#[derive(Default)]
+struct Merged {
+    solvents: Vec<(String, String, usize)>,
+    volumes: Vec<(String, Volumes, usize)>,
+    seen_solvent: HashMap<String, usize>,
+    seen_volumes: HashMap<String, usize>,
+    /// Per column: does every value so far exceed its limit, and the refusal at the file's
+    /// first row.
+    checks: Vec<(usize, bool, Option<InputError>)>,
+}
+
+impl Merged {
+    fn add(&mut self, table: &Table) -> Result<(), InputError> {
+        for (series, solvent, row) in table.solvents()? {
+            match self.seen_solvent.get(&series).map(|&i| &self.solvents[i].1) {
+                Some(first) if *first != solvent => {
+                    let col = table.column(Role::Solvent).unwrap_or(0);
+                    return Err(table.refuse(col, row, "a series must keep one solvent on every row"));
+                }
+                Some(_) => {}
+                None => {
+                    self.seen_solvent.insert(series.clone(), self.solvents.len());
+                    self.solvents.push((series, solvent, row));
+                }
+            }
+        }
+        for (series, v, row) in table.volumes()? {
+            match self.seen_volumes.get(&series).map(|&i| &self.volumes[i].1) {
+                Some(first) if *first != v => {
+                    let col = table.column(Role::SpecificVolume).unwrap_or(0);
+                    return Err(table.refuse(
+                        col,
+                        row,
+                        "a series must keep one specific volume and one molar volume on every row",
+                    ));
+                }
+                Some(_) => {}
+                None => {
+                    self.seen_volumes.insert(series.clone(), self.volumes.len());
+                    self.volumes.push((series, v, row));
+                }
+            }
+        }
+        for check in table.take_deferred() {
+            match self.checks.iter_mut().find(|(c, _, _)| *c == check.column) {
+                Some((_, all, refusal)) => {
+                    *all &= check.all_exceed;
+                    if refusal.is_none() {
+                        *refusal = check.refusal;
+                    }
+                }
+                None => self.checks.push((check.column, check.all_exceed, check.refusal)),
+            }
+        }
+        Ok(())
+    }
+
+    fn decide(&mut self) -> Result<(), InputError> {
+        match self.checks.iter_mut().find(|(_, all, refusal)| *all && refusal.is_some()) {
+            Some((_, _, refusal)) => Err(refusal.take().expect("checked above")),
+            None => Ok(()),
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::input::read_file;
+
+    /// Three series over four temperatures, with the things that make block edges awkward:
+    /// comments, blank lines, CRLF, a quoted name with a comma and a line break.
+    fn file(temperature_c: impl Fn(usize) -> f64, solvent_of_last: &str) -> Vec<u8> {
+        let mut text =
+            String::from("# invented\r\nseries,solvent,temperature (C),concentration (g/L),pressure (Pa)\r\n");
+        for (k, name) in ["a", "\"b, the\nsecond\"", "c"].iter().enumerate() {
+            for t in 0..4 {
+                for i in 1..=5 {
+                    let row = k * 20 + t * 5 + i;
+                    let solvent = if k == 2 && t == 3 { solvent_of_last } else { "mirane" };
+                    text.push_str(&format!(
+                        "{name},{solvent},{},{},{}\r\n",
+                        temperature_c(t),
+                        i,
+                        10.0 * i as f64 + row as f64 * 0.01
+                    ));
+                    if row % 17 == 0 {
+                        text.push_str("# note\r\n\r\n");
+                    }
+                }
+            }
+        }
+        text.into_bytes()
+    }
+
+    fn blocks(bytes: &[u8], size: usize) -> Result<FileContents, InputError> {
+        read_source("f.csv", 0, &mut &bytes[..], &ReadOptions::default(), size)
+    }
+
+    #[test]
+    fn a_file_read_in_blocks_of_any_size_is_read_as_it_is_whole() {
+        let bytes = file(|t| 20.0 + 5.0 * t as f64, "mirane");
+        let whole = read_file("f.csv", 0, &bytes, &ReadOptions::default()).unwrap();
+        for size in [40, 64, 100, 333, 1000, 1 << 20] {
+            assert_eq!(blocks(&bytes, size).unwrap(), whole, "blocks of {size} bytes");
+        }
+    }
+
+    #[test]
+    fn an_error_in_a_later_block_names_the_line_a_whole_read_names() {
+        let mut bytes = file(|t| 20.0 + 5.0 * t as f64, "mirane");
+        let at = bytes.len() - 30;
+        bytes.splice(at..at + 1, b"x".iter().copied());
+        let whole = read_file("f.csv", 0, &bytes, &ReadOptions::default()).unwrap_err().to_string();
+        for size in [50, 200, 1000] {
+            assert_eq!(blocks(&bytes, size).unwrap_err().to_string(), whole);
+        }
+    }
+
+    #[test]
+    fn column_wide_and_per_series_checks_span_the_blocks() {
+        // Every temperature above 200 °C: kelvin under a (C) header, refused at the first row.
+        let kelvin = file(|t| 293.15 + 5.0 * t as f64, "mirane");
+        let whole = read_file("f.csv", 0, &kelvin, &ReadOptions::default()).unwrap_err().to_string();
+        assert!(whole.contains("look like kelvin"), "{whole}");
+        assert_eq!(blocks(&kelvin, 100).unwrap_err().to_string(), whole);
+        // A series that changes solvent in a later block.
+        let two = file(|t| 20.0 + 5.0 * t as f64, "ostrol");
+        let whole = read_file("f.csv", 0, &two, &ReadOptions::default()).unwrap_err().to_string();
+        assert!(whole.contains("one solvent"), "{whole}");
+        assert_eq!(blocks(&two, 100).unwrap_err().to_string(), whole);
+    }
+}
