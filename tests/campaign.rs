@@ -76,3 +76,29 @@ fn a_campaign_prints_a_digest_not_every_series() {
     assert!(text.contains("summary: 250 series analysed, 0 refused"), "{text}");
     assert!(text.lines().count() < 40, "{text}");
 }
+
+#[test]
+fn the_report_written_series_by_series_is_the_report_written_whole() {
+    use thetaseek::report::{report_json, series_json, Detail, Report, ReportSettings, ReportStream};
+    let bytes = campaign(250).into_bytes();
+    let contents = thetaseek::input::read_file("c.csv", 0, &bytes, &Default::default()).unwrap();
+    let dataset = thetaseek::dataset::Dataset::new(contents.readings, &[], &[], &[], &[]);
+    let settings = thetaseek::analysis::Settings {
+        theta: thetaseek::theta::ThetaSettings { bootstrap_replicates: 0, ..Default::default() },
+        ..Default::default()
+    };
+    let results = thetaseek::analysis::analyze(&dataset.series, &[], &settings);
+    for detail in [Detail::Fits, Detail::Full] {
+        let report_settings = ReportSettings { report_detail: detail, ..ReportSettings::new("auto") };
+        let inputs = vec![thetaseek::report::InputFile::new("c.csv", &bytes)];
+        let mut report = Report::new(inputs, report_settings, vec!["a warning".into()], &results, &dataset);
+        report.compare_routes();
+        let mut streamed = Vec::new();
+        let mut stream = ReportStream::begin(&mut streamed, &report.inputs, &report.settings, &report.warnings).unwrap();
+        for s in &report.series {
+            stream.push(&mut streamed, &series_json(s)).unwrap();
+        }
+        stream.finish(&mut streamed, &report.routes).unwrap();
+        assert_eq!(String::from_utf8(streamed).unwrap(), String::from_utf8(report_json(&report)).unwrap());
+    }
+}
