@@ -147,8 +147,7 @@ where
             Some(s) => s.zip_map(&norms, f64::max),
             None => norms.map(|v| if v > 0.0 { v } else { 1.0 }),
         };
-        let gradient_inf =
-            (j.transpose() * &r).iter().zip(scale.iter()).map(|(g, d)| (g / d).abs()).fold(0.0, f64::max);
+        let gradient_inf = j.tr_mul(&r).iter().zip(scale.iter()).map(|(g, d)| (g / d).abs()).fold(0.0, f64::max);
         if gradient_inf <= 1e-15 * cost.sqrt().max(f64::MIN_POSITIVE) || cost == 0.0 {
             self.scale = Some(scale);
             self.done = Some("gradient vanished");
@@ -165,9 +164,11 @@ where
                 0.0
             }
         });
-        let rhs = DVector::from_fn(n + p, |i, _| if i < n { -r[i] } else { 0.0 });
+        let mut rhs = DVector::from_fn(n + p, |i, _| if i < n { -r[i] } else { 0.0 });
         let qr = a.qr();
-        let step = match qr.r().solve_upper_triangular(&(qr.q().transpose() * rhs)) {
+        // Qᵀ applied in place: Q itself is never formed.
+        qr.q_tr_mul(&mut rhs);
+        let step = match qr.r().solve_upper_triangular(&rhs.rows(0, p)) {
             Some(s) if finite_all(s.as_slice()) => s,
             _ => {
                 self.lambda *= self.nu;
@@ -179,10 +180,13 @@ where
         let candidate = &beta + &step;
         let r_new = problem.apply(&candidate)?;
         let cost_new = r_new.norm_squared();
-        let predicted = cost - (&r + &j * &step).norm_squared();
+        let mut linear = &j * &step;
+        linear += &r;
+        let predicted = cost - linear.norm_squared();
         let rho = if predicted > 0.0 { (cost - cost_new) / predicted } else { -1.0 };
-        let step_size = step.component_mul(&scale).norm();
-        let x_size = beta.component_mul(&scale).norm();
+        let scaled_norm =
+            |v: &DVector<f64>| v.iter().zip(scale.iter()).map(|(x, d)| (x * d).powi(2)).sum::<f64>().sqrt();
+        let (step_size, x_size) = (scaled_norm(&step), scaled_norm(&beta));
         self.scale = Some(scale);
         if cost_new.is_finite() && rho > 0.0 {
             self.lambda *= (1.0 - (2.0 * rho - 1.0).powi(3)).max(1.0 / 3.0);

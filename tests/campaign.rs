@@ -94,7 +94,8 @@ fn the_report_written_series_by_series_is_the_report_written_whole() {
         let mut report = Report::new(inputs, report_settings, vec!["a warning".into()], &results, &dataset);
         report.compare_routes();
         let mut streamed = Vec::new();
-        let mut stream = ReportStream::begin(&mut streamed, &report.inputs, &report.settings, &report.warnings).unwrap();
+        let mut stream =
+            ReportStream::begin(&mut streamed, &report.inputs, &report.settings, &report.warnings).unwrap();
         for s in &report.series {
             stream.push(&mut streamed, &series_json(s)).unwrap();
         }
