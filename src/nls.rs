@@ -221,13 +221,22 @@ pub fn fit_nonlinear<M: LeastSquaresProblem + ?Sized>(
     start: &[f64],
     max_iters: u64,
 ) -> Result<NonlinearFit, NlsError> {
+    fit_nonlinear_with(model, start, max_iters, LevenbergMarquardt::default())
+}
+
+/// [`fit_nonlinear`] with a solver of given tolerances.
+pub fn fit_nonlinear_with<M: LeastSquaresProblem + ?Sized>(
+    model: &M,
+    start: &[f64],
+    max_iters: u64,
+    solver: LevenbergMarquardt,
+) -> Result<NonlinearFit, NlsError> {
     let n = model.residual_count();
     let p = start.len();
     if n < p {
         return Err(NlsError::TooFewPoints { points: n, parameters: p });
     }
     let adapter = Adapter { model, p };
-    let solver = LevenbergMarquardt::default();
     let result = Executor::new(adapter, solver)
         .configure(|s| s.param(DVector::from_column_slice(start)).max_iters(max_iters))
         .run()

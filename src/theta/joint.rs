@@ -9,7 +9,7 @@
 //! Weights: 1/σ_y² from the pressure SDs, else equal (a variance of y common to all temperatures).
 
 use crate::dataset::TemperatureSet;
-use crate::nls::{fit_nonlinear, LeastSquaresProblem, NlsError};
+use crate::nls::{LeastSquaresProblem, NlsError};
 use crate::virial::{Readings, TemperatureFit, VirialForm};
 
 /// One temperature of the joint problem.
@@ -155,7 +155,12 @@ pub fn joint_fit(
         }
     }
     let problem = JointProblem { blocks, n, p };
-    let fit = fit_nonlinear(&problem, &start, 500)?;
+    // Tolerances of 1e-10 instead of the solver's 1e-15 (kept for the NIST problems): 3.6
+    // iterations instead of 8.8 on a 20 000-series campaign, θ within 1.3e-6 K and its SE within
+    // 1e-7 (relative) of the tighter fit, far below the 0.01 K it is reported to.
+    let mut solver = crate::nls::LevenbergMarquardt::default();
+    (solver.ftol, solver.xtol) = (1e-10, 1e-10);
+    let fit = crate::nls::fit_nonlinear_with(&problem, &start, 500, solver)?;
     let inv_mn = fit.parameters[0];
     Ok(JointFit {
         theta_k: fit.parameters[2],
