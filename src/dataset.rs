@@ -244,17 +244,7 @@ impl GroupedReadings {
         // Rows of one series usually follow each other: no lookup while the name repeats.
         let i = match self.current {
             Some(i) if *self.order[i].0 == *m.series => i,
-            previous => match self.by_name.get(&m.series) {
-                Some(&i) => i,
-                None => {
-                    if let Some(p) = previous {
-                        self.order[p].1.shrink();
-                    }
-                    self.order.push((m.series.clone(), Sets::default()));
-                    self.by_name.insert(m.series.clone(), self.order.len() - 1);
-                    self.order.len() - 1
-                }
-            },
+            _ => self.index_of(&m.series),
         };
         self.current = Some(i);
         self.readings += 1;
@@ -267,6 +257,20 @@ impl GroupedReadings {
         set.origins.push(m.origin);
     }
 
+    /// The index of series `name`, added at the end if new; a new series means the rows have
+    /// moved on, so the current one gives back its spare capacity.
+    fn index_of(&mut self, name: &std::sync::Arc<str>) -> usize {
+        if let Some(&i) = self.by_name.get(name) {
+            return i;
+        }
+        if let Some(previous) = self.current {
+            self.order[previous].1.shrink();
+        }
+        self.order.push((name.clone(), Sets::default()));
+        self.by_name.insert(name.clone(), self.order.len() - 1);
+        self.order.len() - 1
+    }
+
     /// Appends the readings of `other` (a later file) as if they had been pushed here (the
     /// mean temperature of a temperature given in both may differ in the last bit, since its
     /// sum is formed in two parts).
@@ -277,15 +281,9 @@ impl GroupedReadings {
             return;
         }
         self.readings += other.readings;
+        self.current = None;
         for (name, sets) in other.order {
-            let i = match self.by_name.get(&name) {
-                Some(&i) => i,
-                None => {
-                    self.order.push((name.clone(), Sets::default()));
-                    self.by_name.insert(name, self.order.len() - 1);
-                    self.order.len() - 1
-                }
-            };
+            let i = self.index_of(&name);
             for (key, set) in sets.sets {
                 let into = self.order[i].1.get(key);
                 into.temperature_k += set.temperature_k;
@@ -295,7 +293,6 @@ impl GroupedReadings {
                 into.origins.extend(set.origins);
             }
         }
-        self.current = None;
     }
 
     /// Number of readings added.

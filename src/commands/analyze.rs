@@ -108,12 +108,7 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
     let stdout_taken = outputs.iter().any(|o| o.destination == Destination::Stdout);
     write_outputs(outputs)?;
     if !args.quiet {
-        // The table goes to stderr when stdout carries the report or the CSV.
-        if stdout_taken {
-            eprint!("{}", report::render_terminal(&report));
-        } else {
-            print!("{}", report::render_terminal(&report));
-        }
+        super::print_terminal(&report, stdout_taken);
     }
     Ok(())
 }

@@ -199,11 +199,7 @@ pub fn run(
         }
     }
     if !args.quiet {
-        if stdout_taken {
-            eprint!("{}", report::render_terminal(&report));
-        } else {
-            print!("{}", report::render_terminal(&report));
-        }
+        super::print_terminal(&report, stdout_taken);
     }
     Ok(())
 }

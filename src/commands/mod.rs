@@ -132,6 +132,17 @@ impl thetaseek::analysis::Progress for Bar {
     }
 }
 
+/// Prints the terminal rendering of a report: on stdout, or on stderr when stdout carries the
+/// report or a CSV.
+pub fn print_terminal(report: &thetaseek::report::Report, stdout_taken: bool) {
+    let text = thetaseek::report::render_terminal(report);
+    if stdout_taken {
+        eprint!("{text}");
+    } else {
+        print!("{text}");
+    }
+}
+
 /// Refuses any output that would overwrite one of the inputs.
 pub fn check_outputs(outputs: &[PendingOutput], inputs: &[PathBuf]) -> Result<(), Error> {
     for out in outputs {
