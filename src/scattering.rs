@@ -1,6 +1,6 @@
 //! Static light scattering per temperature (Debye/Zimm): K c/R = 1/Mw (1 + q² Rg²/3) + 2 A2 c
-//! (Zimm 1948, J. Chem. Phys. 16, 1093) — note the factor 2 against the osmotic form
-//! Π/(cRT) = 1/Mn + A2 c. With several angles the data are extrapolated twice: per
+//! (+ 3 A3 c² when asked) (Zimm 1948, J. Chem. Phys. 16, 1093) — note the factors 2 and 3
+//! against the osmotic form Π/(cRT) = 1/Mn + A2 c + A3 c². With several angles the data are extrapolated twice: per
 //! concentration to q → 0 (the zero-angle values, fitted in c for Mw and A2) and per angle to
 //! c → 0 (fitted in q² for Rg, the z-average radius of gyration). SI units: c in kg/m³, K c/R in
 //! mol/kg, q in 1/m, Mw in kg/mol, A2 in mol m³/kg², Rg in m.
@@ -25,6 +25,10 @@ pub struct ScatteringFit {
     pub a2_mol_ml_per_g2: f64,
     /// SE of A2.
     pub a2_se_mol_ml_per_g2: f64,
+    /// A3 (light-scattering average), mol mL²/g³, when the zero-angle fit was quadratic in c.
+    pub a3_mol_ml2_per_g3: Option<f64>,
+    /// SE of A3, mol mL²/g³.
+    pub a3_se_mol_ml2_per_g3: Option<f64>,
     /// z-average radius of gyration, nm (with angles).
     pub rg_nm: Option<f64>,
     /// SE of Rg, nm.
@@ -81,8 +85,20 @@ fn line(x: &[f64], y: &[f64]) -> Option<(f64, f64, f64, f64, f64)> {
     Some((f.coefficients[0], f.coefficients[1], f.cov(0, 0), f.cov(1, 1), f.cov(0, 1)))
 }
 
-/// Fits one temperature's readings; `None` with fewer than 3 concentrations.
-pub fn fit_temperature(rows: &[&ScatteringRow]) -> Option<ScatteringFit> {
+/// The zero-angle values against c: K c/R0 = 1/Mw + 2 A2 c, or with `quadratic` (at least four
+/// concentrations) + 3 A3 c². Returns (1/Mw, 2 A2, Var 1/Mw, Var 2 A2, (3 A3, Var 3 A3)).
+type ZeroAngleLine = (f64, f64, f64, f64, Option<(f64, f64)>);
+
+fn zero_angle_fit(c: &[f64], y: &[f64], quadratic: bool) -> Option<ZeroAngleLine> {
+    if !quadratic {
+        return line(c, y).map(|(a, b, va, vb, _)| (a, b, va, vb, None));
+    }
+    let f = regression::fit(&regression::polynomial_design(c, 2), 3, y, None, Weights::Relative).ok()?;
+    Some((f.coefficients[0], f.coefficients[1], f.cov(0, 0), f.cov(1, 1), Some((f.coefficients[2], f.cov(2, 2)))))
+}
+
+/// Fits one temperature's readings; `None` with fewer than 3 concentrations (4 for `quadratic`).
+pub fn fit_temperature(rows: &[&ScatteringRow], quadratic: bool) -> Option<ScatteringFit> {
     let temperature_k = rows.iter().map(|r| r.temperature_k).sum::<f64>() / rows.len() as f64;
     let q2 = |r: &ScatteringRow| r.q.map_or(0.0, |q| q * q);
     let angles = distinct(rows.iter().map(|r| q2(r)));
@@ -102,10 +118,10 @@ pub fn fit_temperature(rows: &[&ScatteringRow]) -> Option<ScatteringFit> {
     } else {
         rows.iter().map(|r| (r.concentration, r.kc_over_r)).unzip()
     };
-    if distinct(c0.iter().copied()).len() < 3 {
+    if distinct(c0.iter().copied()).len() < if quadratic { 4 } else { 3 } {
         return None;
     }
-    let (a, b, va, vb, _) = line(&c0, &y0)?;
+    let (a, b, va, vb, curvature) = zero_angle_fit(&c0, &y0, quadratic)?;
     if a.is_nan() || a <= 0.0 {
         return None;
     }
@@ -149,6 +165,9 @@ pub fn fit_temperature(rows: &[&ScatteringRow]) -> Option<ScatteringFit> {
         // Kc/R = 1/Mw + 2 A2 c: the slope is twice A2.
         a2_mol_ml_per_g2: b / 2.0,
         a2_se_mol_ml_per_g2: vb.sqrt() / 2.0,
+        // … + 3 A3 c²: a third of the c² coefficient.
+        a3_mol_ml2_per_g3: curvature.map(|(k, _)| k / 3.0 * crate::units::A3_MOL_ML2_PER_G3_PER_SI),
+        a3_se_mol_ml2_per_g3: curvature.map(|(_, v)| v.sqrt() / 3.0 * crate::units::A3_MOL_ML2_PER_G3_PER_SI),
         rg_nm: rg.map(|r| r * 1e9),
         rg_se_nm: rg_se.map(|r| r * 1e9),
         expansion_factor: None,
@@ -163,7 +182,7 @@ pub fn fit_temperature(rows: &[&ScatteringRow]) -> Option<ScatteringFit> {
 }
 
 /// Fits every temperature of one series (temperatures grouped to 0.01 K, ascending).
-pub fn fit_series(rows: &[&ScatteringRow]) -> Vec<ScatteringFit> {
+pub fn fit_series(rows: &[&ScatteringRow], quadratic: bool) -> Vec<ScatteringFit> {
     let mut keys: Vec<i64> = rows.iter().map(|r| (r.temperature_k / 0.01).round() as i64).collect();
     keys.sort_unstable();
     keys.dedup();
@@ -171,7 +190,7 @@ pub fn fit_series(rows: &[&ScatteringRow]) -> Vec<ScatteringFit> {
         .filter_map(|&k| {
             let at: Vec<&ScatteringRow> =
                 rows.iter().copied().filter(|r| (r.temperature_k / 0.01).round() as i64 == k).collect();
-            fit_temperature(&at)
+            fit_temperature(&at, quadratic)
         })
         .collect()
 }

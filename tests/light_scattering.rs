@@ -143,3 +143,48 @@ fn the_zimm_plot_draws_every_reading_and_both_extrapolations() {
     let intercept = zimm["zero_concentration_intercept_mol_per_g"].as_f64().unwrap();
     assert!((intercept - 2e-6).abs() < 2e-8, "{intercept}");
 }
+
+#[test]
+fn a_quadratic_zero_angle_fit_recovers_a3_with_the_factor_three() {
+    use thetaseek::input::ScatteringRow;
+    // Invented truth (SI): Mw 500 kg/mol, A2 3e-4 mol m³/kg², A3 5e-6 mol m⁶/kg³ (a tenth of
+    // the concentration term at the top concentration), Rg 30 nm;
+    // K c/R = 1/Mw (1 + q² Rg²/3) + 2 A2 c + 3 A3 c² (Zimm 1948), noise-free.
+    let (inv_mw, a2, a3, rg) = (1.0 / 500.0, 3e-4, 5e-6, 30e-9);
+    let mut rows = Vec::new();
+    for c in [0.5, 1.0, 2.0, 3.0, 4.0, 5.0] {
+        for angle in [30.0, 60.0, 90.0, 120.0f64] {
+            let q = scattering_vector(N0, angle.to_radians(), LAMBDA);
+            let y = inv_mw * (1.0 + q * q * rg * rg / 3.0) + 2.0 * a2 * c + 3.0 * a3 * c * c;
+            rows.push(ScatteringRow {
+                series: "s".into(),
+                temperature_k: 310.0,
+                concentration: c,
+                kc_over_r: y,
+                q: Some(q),
+                line: 2,
+            });
+        }
+    }
+    let refs: Vec<&ScatteringRow> = rows.iter().collect();
+    let quadratic = &thetaseek::scattering::fit_series(&refs, true)[0];
+    assert!((quadratic.mw_g_per_mol - 5e5).abs() < 1e-6 * 5e5, "{quadratic:?}");
+    assert!((quadratic.a2_mol_ml_per_g2 - a2).abs() < 1e-9, "{quadratic:?}");
+    // mol m⁶/kg³ → mol mL²/g³: × 10³ (SI brochure prefixes: 1 mL = 1e-6 m³, 1 g = 1e-3 kg).
+    let a3_report = quadratic.a3_mol_ml2_per_g3.unwrap();
+    assert!((a3_report - a3 * 1e3).abs() < 1e-6 * a3 * 1e3, "{a3_report}");
+    // The straight line on the same data has no A3 and a biased A2.
+    let line = &thetaseek::scattering::fit_series(&refs, false)[0];
+    assert!(line.a3_mol_ml2_per_g3.is_none() && line.a2_mol_ml_per_g2 > 1.05 * a2, "{line:?}");
+}
+
+#[test]
+fn virial_quadratic_adds_the_a3_term_to_light_scattering_too() {
+    let straight = run(&zimm_csv(0.0, false), &[]);
+    assert!(straight["series"][0]["light_scattering"][0]["a3_mol_ml2_per_g3"].is_null());
+    let curved = run(&zimm_csv(0.0, false), &["--virial", "quadratic"]);
+    let fit = &curved["series"][0]["light_scattering"][0];
+    // The simulated data have no curvature: A3 comes back as zero within its SE.
+    let (a3, se) = (fit["a3_mol_ml2_per_g3"].as_f64().unwrap(), fit["a3_se_mol_ml2_per_g3"].as_f64().unwrap());
+    assert!(a3.abs() <= 3.0 * se + 1e-12, "{a3} ± {se}");
+}

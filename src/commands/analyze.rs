@@ -240,7 +240,10 @@ pub(super) fn add_scattering_series(
 ) {
     for name in names_in_order(rows.iter().map(|r| r.series.as_str())) {
         let of: Vec<&thetaseek::input::ScatteringRow> = rows.iter().filter(|r| r.series == name).collect();
-        let mut fits = thetaseek::scattering::fit_series(&of);
+        // `--virial quadratic` adds the 3 A3 c² term to the zero-angle fit; every other choice
+        // keeps the straight line.
+        let quadratic = settings.virial == FormChoice::Fixed(VirialForm::Quadratic);
+        let mut fits = thetaseek::scattering::fit_series(&of, quadratic);
         let v = volumes.iter().find(|(s, _)| s == name).map(|(_, v)| *v).or(settings.volumes);
         let theta = thetaseek::theta::theta_from_points(
             &thetaseek::scattering::points(&fits),

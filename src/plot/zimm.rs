@@ -1,6 +1,6 @@
 //! Zimm plots of a light-scattering series, one panel per temperature: K c/R against
 //! q² + k c (Zimm 1948, J. Chem. Phys. 16, 1093), the readings joined at each concentration,
-//! the zero-angle values (◆) with their line 1/Mw + 2 A2 c, and the zero-concentration values
+//! the zero-angle values (■) with their line 1/Mw + 2 A2 c (+ 3 A3 c²), and the zero-concentration values
 //! (▲) with their line 1/Mw (1 + q² Rg²/3). The two lines meet at 1/Mw on the y axis. Without
 //! angles the panel is a Debye plot, K c/R against c.
 
@@ -58,7 +58,9 @@ pub fn draw_zimm(root: &DrawingArea<SVGBackend, Shift>, s: &SeriesReport) -> Res
     for (n, (f, area)) in fits.iter().zip(panels.iter()).enumerate() {
         let z = &f.zimm;
         let inv_mw = 1.0 / f.mw_g_per_mol;
-        let zero_angle_line = |c: f64| inv_mw + 2.0 * f.a2_mol_ml_per_g2 * c;
+        // mol mL²/g³ × (g/mL)² = mol/g.
+        let a3 = f.a3_mol_ml2_per_g3.unwrap_or(0.0);
+        let zero_angle_line = |c: f64| inv_mw + 2.0 * f.a2_mol_ml_per_g2 * c + 3.0 * a3 * c * c;
         let c_max = z.readings.iter().map(|r| r.concentration_g_per_ml).fold(0.0, f64::max);
         let mut ys: Vec<f64> = z.readings.iter().map(|r| r.kc_over_r_mol_per_g * scale).collect();
         ys.extend(z.zero_angle.iter().chain(&z.zero_concentration).map(|r| r.kc_over_r_mol_per_g * scale));
@@ -85,7 +87,7 @@ pub fn draw_zimm(root: &DrawingArea<SVGBackend, Shift>, s: &SeriesReport) -> Res
             }
             chart.draw_series(at.iter().map(|p| marker_element(Marker::Circle, *p, 3, INK)))?;
         }
-        // Zero angle: ◆ and 1/Mw + 2 A2 c.
+        // Zero angle: ■ and 1/Mw + 2 A2 c (+ 3 A3 c²).
         let line: Vec<(f64, f64)> =
             (0..=20).map(|i| c_max * i as f64 / 20.0).map(|c| (x_of(c, 0.0), zero_angle_line(c) * scale)).collect();
         chart.draw_series(LineSeries::new(line, PALETTE[0].stroke_width(2)))?;
