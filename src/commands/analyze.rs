@@ -188,27 +188,10 @@ pub(crate) fn read_options(args: &ReadArgs) -> Result<ReadOptions, Error> {
 }
 
 /// Why series were refused, grouped by reason with counts (a campaign may refuse thousands).
-pub(super) fn grouped_reasons(report: &Report) -> String {
-    let mut groups: Vec<(String, usize, String)> = Vec::new();
-    for s in &report.series {
-        let reason = s.reason.clone().unwrap_or_default();
-        match groups.iter_mut().find(|(r, _, _)| *r == reason) {
-            Some(g) => g.1 += 1,
-            None => groups.push((reason, 1, s.name.clone())),
-        }
-    }
-    groups.sort_by_key(|g| std::cmp::Reverse(g.1));
-    let shown: Vec<String> = groups
-        .iter()
-        .take(5)
-        .map(|(r, n, first)| if *n == 1 { format!("{first}: {r}") } else { format!("{n} series (e.g. {first}): {r}") })
-        .collect();
-    let more = groups.len().saturating_sub(5);
-    if more > 0 {
-        format!("{}; and {more} other reasons", shown.join("; "))
-    } else {
-        shown.join("; ")
-    }
+fn grouped_reasons(report: &Report) -> String {
+    let mut tally = report::Tally::default();
+    report.series.iter().for_each(|s| tally.add(s));
+    tally.refusals_in_brief()
 }
 
 /// The Shultz–Flory route for every series of critical temperatures, in order of appearance.

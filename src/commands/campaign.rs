@@ -1,19 +1,19 @@
 //! `thetaseek analyze` on a campaign (more than [`report::CAMPAIGN_SERIES`] series, no figures):
 //! the series are analysed a chunk at a time, each chunk's JSON and table rows written straight
-//! into the (temporary) output files, and only a short record of each series kept for the
-//! summary, the digest, the per-series table and the route comparison. Memory then grows with
-//! the input, not with the report.
+//! into the (temporary) output files, the summary and digest tallied as they go; only the
+//! series that share a name with another route are kept, for the route comparison. Memory then
+//! grows with the input, not with the report.
 
-use super::analyze::{add_critical_series, add_scattering_series, grouped_reasons};
+use super::analyze::{add_critical_series, add_scattering_series, names_in_order};
 use super::{Bar, Loaded};
 use crate::cli::AnalyzeArgs;
 use rayon::prelude::*;
 use std::io::Write;
 use std::path::PathBuf;
-use thetaseek::analysis::{self, Settings, Status};
+use thetaseek::analysis::{self, Settings};
 use thetaseek::error::Error;
-use thetaseek::output::{same_file, write_atomic, write_stream, AtomicFile, Destination};
-use thetaseek::report::{self, Report, ReportSettings, ReportStream, SeriesReport};
+use thetaseek::output::{same_file, write_stream, AtomicFile, Destination};
+use thetaseek::report::{self, Report, ReportSettings, ReportStream, SeriesFilter, SeriesReport, Tally};
 
 /// Series analysed and written together (one chunk is written while the next is analysed):
 /// enough to keep both cores busy, few enough that the two chunks in flight stay a few
@@ -87,8 +87,8 @@ pub fn run(
         }
     }
     let stdout_taken = destinations.contains(&Destination::Stdout);
-    let mut json = args.report.as_deref().map(|p| Sink::open(Destination::parse(p))).transpose()?;
-    let mut table = args.table.as_deref().map(|p| Sink::open(Destination::parse(p))).transpose()?;
+    let open = |path: &Option<String>| path.as_deref().map(|p| Sink::open(Destination::parse(p))).transpose();
+    let (mut json, mut table, mut series_table) = (open(&args.report)?, open(&args.table)?, open(&args.series_table)?);
     let mut stream = match &mut json {
         Some(sink) => Some(
             ReportStream::begin(&mut sink.held, &inputs, &report_settings, &run_warnings)
@@ -96,15 +96,25 @@ pub fn run(
         ),
         None => None,
     };
+    let filter = if args.needs_attention { SeriesFilter::NeedsAttention } else { SeriesFilter::All };
     let detail = report_settings.report_detail;
     let solvents: std::collections::HashMap<&str, &str> =
         dataset.solvents.iter().map(|(s, v)| (s.as_str(), v.as_str())).collect();
+    // Only a series that shares its name with another route is compared, so only those are kept.
+    let other_routes: std::collections::HashSet<&str> = dataset
+        .tabulated
+        .iter()
+        .map(|s| s.name.as_str())
+        .chain(names_in_order(critical.iter().map(|r| r.series.as_str())))
+        .chain(names_in_order(scattering.iter().map(|r| r.series.as_str())))
+        .collect();
     let bar = Bar::new(analysis::work_units(&dataset.series, &dataset.tabulated, settings), args.quiet);
-    let mut records: Vec<SeriesReport> = Vec::with_capacity(dataset.series.len() + dataset.tabulated.len());
-    let mut table_started = false;
+    let mut kept: Vec<SeriesReport> = Vec::new();
+    let mut tally = Tally::default();
+    let mut header = true;
     let want_json = json.is_some();
-    // Writes one chunk's reports, then keeps only their records.
-    let mut emit = |reports: Vec<(SeriesReport, Vec<u8>)>, records: &mut Vec<SeriesReport>| -> Result<(), Error> {
+    // Writes one chunk's reports, tallies them, keeps those another route shares a name with.
+    let mut emit = |reports: Vec<(SeriesReport, Vec<u8>)>, kept: &mut Vec<SeriesReport>| -> Result<(), Error> {
         if let (Some(sink), Some(stream)) = (&mut json, &mut stream) {
             for (_, bytes) in &reports {
                 stream.push(&mut sink.held, bytes).map_err(|source| io_error(&sink.path, source))?;
@@ -112,14 +122,22 @@ pub fn run(
             sink.flush()?;
         }
         let reports: Vec<SeriesReport> = reports.into_iter().map(|(r, _)| r).collect();
+        let csv = |e: polars::prelude::PolarsError| Error::Setting(format!("cannot render the table: {e}"));
         if let Some(sink) = &mut table {
-            let rows = report::table_rows_csv(&reports, !table_started)
-                .map_err(|e| Error::Setting(format!("cannot render the table: {e}")))?;
-            table_started = true;
-            sink.held.extend_from_slice(&rows);
+            sink.held.extend_from_slice(&report::table_rows_csv(&reports, header).map_err(csv)?);
             sink.flush()?;
         }
-        records.extend(reports.into_iter().map(SeriesReport::into_record));
+        if let Some(sink) = &mut series_table {
+            sink.held.extend_from_slice(&report::series_table_rows_csv(&reports, filter, header).map_err(csv)?);
+            sink.flush()?;
+        }
+        header = false;
+        for r in reports {
+            tally.add(&r);
+            if r.route != "osmometry" || other_routes.contains(r.name.as_str()) {
+                kept.push(r.into_record());
+            }
+        }
         Ok(())
     };
     let finish = |mut r: SeriesReport| {
@@ -141,13 +159,13 @@ pub fn run(
                 })
                 .collect()
         };
-        let write = || pending.take().map_or(Ok(()), |p| emit(p, &mut records));
+        let write = || pending.take().map_or(Ok(()), |p| emit(p, &mut kept));
         let (written, reports) = rayon::join(write, analyse);
         written?;
         pending = Some(reports);
     }
     if let Some(p) = pending {
-        emit(p, &mut records)?;
+        emit(p, &mut kept)?;
     }
     let tabulated: Vec<(SeriesReport, Vec<u8>)> = dataset
         .tabulated
@@ -158,48 +176,45 @@ pub fn run(
             finish(SeriesReport::new(&result, None, detail))
         })
         .collect();
-    emit(tabulated, &mut records)?;
+    emit(tabulated, &mut kept)?;
     bar.finish();
     // Critical-temperature and light-scattering series are few: added as the whole-run path does.
     let mut report = Report { series: Vec::new(), ..Report::new(inputs, report_settings, run_warnings, &[], &dataset) };
     add_critical_series(&mut report, &critical, &volumes, settings);
     add_scattering_series(&mut report, &scattering, &volumes, settings);
     let others: Vec<(SeriesReport, Vec<u8>)> = std::mem::take(&mut report.series).into_iter().map(finish).collect();
-    emit(others, &mut records)?;
-    if !table_started {
+    emit(others, &mut kept)?;
+    if header {
+        // No series at all reached a table: the files still get their header line.
+        let csv = |e: polars::prelude::PolarsError| Error::Setting(format!("cannot render the table: {e}"));
         if let Some(sink) = &mut table {
-            let header = report::table_rows_csv(&[], true)
-                .map_err(|e| Error::Setting(format!("cannot render the table: {e}")))?;
-            sink.held.extend_from_slice(&header);
+            sink.held.extend_from_slice(&report::table_rows_csv(&[], true).map_err(csv)?);
+        }
+        if let Some(sink) = &mut series_table {
+            sink.held.extend_from_slice(&report::series_table_rows_csv(&[], filter, true).map_err(csv)?);
         }
     }
-    report.series = records;
+    report.series = kept;
     report.compare_routes();
-    if report.series.iter().all(|s| s.status == Status::Refused) {
+    if tally.all_refused() {
         if !args.quiet {
-            eprint!("{}", report::render_terminal(&report));
+            eprint!("{}", tally.render(&report.routes, &report.warnings));
         }
-        return Err(Error::NothingAnalysed(grouped_reasons(&report)));
+        return Err(Error::NothingAnalysed(tally.refusals_in_brief()));
     }
     if let (Some(sink), Some(stream)) = (&mut json, stream) {
         stream.finish(&mut sink.held, &report.routes).map_err(|source| io_error(&sink.path, source))?;
     }
-    for sink in [json, table].into_iter().flatten() {
+    for sink in [json, table, series_table].into_iter().flatten() {
         sink.commit()?;
     }
-    if let Some(path) = &args.series_table {
-        let filter =
-            if args.needs_attention { report::SeriesFilter::NeedsAttention } else { report::SeriesFilter::All };
-        let bytes = report::series_table_csv(&report, filter)
-            .map_err(|e| Error::Setting(format!("cannot render the series table: {e}")))?;
-        match Destination::parse(path) {
-            Destination::Stdout => write_stream(std::io::stdout().lock(), |w| w.write_all(&bytes))
-                .map_err(|source| io_error(std::path::Path::new("-"), source))?,
-            Destination::File(p) => write_atomic(&p, &bytes).map_err(|source| io_error(&p, source))?,
-        }
-    }
     if !args.quiet {
-        super::print_terminal(&report, stdout_taken);
+        let text = tally.render(&report.routes, &report.warnings);
+        if stdout_taken {
+            eprint!("{text}");
+        } else {
+            print!("{text}");
+        }
     }
     Ok(())
 }

@@ -7,8 +7,8 @@ mod table;
 mod terminal;
 mod theta;
 
-pub use table::{series_table_csv, table_csv, table_rows_csv, SeriesFilter};
-pub use terminal::{plus_minus, render_summary, render_terminal};
+pub use table::{series_table_csv, series_table_rows_csv, table_csv, table_rows_csv, SeriesFilter};
+pub use terminal::{plus_minus, render_summary, render_terminal, Tally};
 pub use theta::{LineReport, ThetaPointReport, ThetaReport};
 
 use crate::analysis::{SeriesResult, Status};

@@ -80,11 +80,21 @@ pub enum SeriesFilter {
 
 /// One row per series: θ (K and °C), interval, crossing, weighted-mean Mn, warnings count.
 pub fn series_table_csv(report: &Report, filter: SeriesFilter) -> PolarsResult<Vec<u8>> {
+    series_table_rows_csv(&report.series, filter, true)
+}
+
+/// The per-series table's rows for some series, with or without the header line (a campaign
+/// writes it a chunk of series at a time).
+pub fn series_table_rows_csv(
+    series_reports: &[super::SeriesReport],
+    filter: SeriesFilter,
+    header: bool,
+) -> PolarsResult<Vec<u8>> {
     let keep = |s: &&super::SeriesReport| match filter {
         SeriesFilter::All => true,
         SeriesFilter::NeedsAttention => super::needs_attention(s),
     };
-    let rows: Vec<&super::SeriesReport> = report.series.iter().filter(keep).collect();
+    let rows: Vec<&super::SeriesReport> = series_reports.iter().filter(keep).collect();
     let theta = |f: &dyn Fn(&super::ThetaReport) -> Option<f64>| -> Vec<Option<f64>> {
         rows.iter().map(|s| s.theta.as_ref().and_then(f)).collect()
     };
@@ -117,6 +127,6 @@ pub fn series_table_csv(report: &Report, filter: SeriesFilter) -> PolarsResult<V
     ];
     let mut frame = DataFrame::new(rows.len(), columns)?;
     let mut bytes = Vec::new();
-    CsvWriter::new(&mut bytes).include_header(true).finish(&mut frame)?;
+    CsvWriter::new(&mut bytes).include_header(header).finish(&mut frame)?;
     Ok(bytes)
 }

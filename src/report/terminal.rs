@@ -167,73 +167,149 @@ pub fn render_terminal(report: &Report) -> String {
 /// A campaign on one screen: the first series that need a look (one line each), the route
 /// comparisons that disagree, the run's warnings and the summary.
 fn render_digest(report: &Report) -> String {
-    let attention: Vec<&super::SeriesReport> = report.series.iter().filter(|s| super::needs_attention(s)).collect();
-    let mut out = format!(
-        "{} series; {} need a look{}\n",
-        report.series.len(),
-        attention.len(),
-        if attention.is_empty() {
-            String::new()
-        } else {
-            format!(
-                " (first {} below; --series-table FILE --needs-attention lists them all)",
-                attention.len().min(DIGEST_SERIES)
-            )
-        }
-    );
-    for s in attention.iter().take(DIGEST_SERIES) {
-        let status = format!("{:?}", s.status).to_lowercase();
-        let what = match (&s.theta, &s.reason) {
-            (_, Some(reason)) => reason.clone(),
-            (Some(t), None) => theta_line(t),
-            (None, None) => String::new(),
-        };
-        let warnings = s.warnings.len() + s.fit_warnings;
-        let _ = writeln!(out, "  {} [{status}, {warnings} warnings]: {what}", s.name);
-    }
-    let disagreeing: Vec<&super::RouteComparison> = report.routes.iter().filter(|r| r.disagree).collect();
-    if !report.routes.is_empty() {
-        let _ = writeln!(out, "routes compared for {} series; {} disagree", report.routes.len(), disagreeing.len());
-        for r in disagreeing.iter().take(DIGEST_SERIES) {
-            let _ = writeln!(out, "  {}: χ² = {:.2}, p = {:.3}", r.series, r.chi2, r.p_value);
-        }
-    }
-    for w in &report.warnings {
-        let _ = writeln!(out, "! {w}");
-    }
-    out.push_str(&render_summary(report));
-    out
+    let mut tally = Tally::default();
+    report.series.iter().for_each(|s| tally.add(s));
+    tally.render(&report.routes, &report.warnings)
 }
 
 /// Counts for the end of a run: series analysed and refused (reasons grouped), and how many
 /// have a bracketed, an extrapolated or no θ.
 pub fn render_summary(report: &Report) -> String {
-    use crate::analysis::Status;
-    use crate::theta::Crossing;
-    let refused: Vec<&super::SeriesReport> = report.series.iter().filter(|s| s.status == Status::Refused).collect();
-    let count =
-        |c: Crossing| report.series.iter().filter(|s| s.theta.as_ref().is_some_and(|t| t.crossing == c)).count();
-    let mut out = format!(
-        "summary: {} series analysed, {} refused; θ bracketed {}, extrapolated {}, none {}\n",
-        report.series.len() - refused.len(),
-        refused.len(),
-        count(Crossing::Bracketed),
-        count(Crossing::Extrapolated),
-        count(Crossing::None),
-    );
-    let mut groups: Vec<(&str, usize)> = Vec::new();
-    for s in &refused {
-        let reason = s.reason.as_deref().unwrap_or("");
-        match groups.iter_mut().find(|(r, _)| *r == reason) {
-            Some(g) => g.1 += 1,
-            None => groups.push((reason, 1)),
+    let mut tally = Tally::default();
+    report.series.iter().for_each(|s| tally.add(s));
+    tally.summary()
+}
+
+/// What the summary and a campaign's digest say, gathered one series at a time, so that a
+/// campaign need not keep its series to print them.
+#[derive(Debug, Clone, Default)]
+pub struct Tally {
+    series: usize,
+    refused: usize,
+    crossings: [usize; 3],
+    /// Refusal reasons with their count and the first series refused for each.
+    reasons: Vec<(String, usize, String)>,
+    attention: usize,
+    shown: Vec<String>,
+}
+
+impl Tally {
+    /// Counts one series.
+    pub fn add(&mut self, s: &super::SeriesReport) {
+        use crate::analysis::Status;
+        use crate::theta::Crossing;
+        self.series += 1;
+        if let Some(t) = &s.theta {
+            let k = match t.crossing {
+                Crossing::Bracketed => 0,
+                Crossing::Extrapolated => 1,
+                Crossing::None => 2,
+            };
+            self.crossings[k] += 1;
+        }
+        if s.status == Status::Refused {
+            self.refused += 1;
+            let reason = s.reason.clone().unwrap_or_default();
+            match self.reasons.iter_mut().find(|(r, _, _)| *r == reason) {
+                Some(g) => g.1 += 1,
+                None => self.reasons.push((reason, 1, s.name.clone())),
+            }
+        }
+        if super::needs_attention(s) {
+            self.attention += 1;
+            if self.shown.len() < DIGEST_SERIES {
+                let status = format!("{:?}", s.status).to_lowercase();
+                let what = match (&s.theta, &s.reason) {
+                    (_, Some(reason)) => reason.clone(),
+                    (Some(t), None) => theta_line(t),
+                    (None, None) => String::new(),
+                };
+                let warnings = s.warnings.len() + s.fit_warnings;
+                self.shown.push(format!("  {} [{status}, {warnings} warnings]: {what}", s.name));
+            }
         }
     }
-    groups.sort_by_key(|g| std::cmp::Reverse(g.1));
-    for (reason, n) in groups.iter().take(10) {
-        let _ = writeln!(out, "  refused {n}×: {reason}");
+
+    /// True when every series counted was refused (or none was counted).
+    pub fn all_refused(&self) -> bool {
+        self.refused == self.series
     }
-    out
+
+    /// The refusal reasons, most frequent first.
+    fn groups(&self) -> Vec<&(String, usize, String)> {
+        let mut groups: Vec<&(String, usize, String)> = self.reasons.iter().collect();
+        groups.sort_by_key(|g| std::cmp::Reverse(g.1));
+        groups
+    }
+
+    /// The summary lines.
+    pub fn summary(&self) -> String {
+        let [bracketed, extrapolated, none] = self.crossings;
+        let mut out = format!(
+            "summary: {} series analysed, {} refused; θ bracketed {bracketed}, extrapolated {extrapolated}, none {none}\n",
+            self.series - self.refused,
+            self.refused,
+        );
+        for (reason, n, _) in self.groups().into_iter().take(10) {
+            let _ = writeln!(out, "  refused {n}×: {reason}");
+        }
+        out
+    }
+
+    /// Why series were refused in one line, grouped by reason with counts.
+    pub fn refusals_in_brief(&self) -> String {
+        let groups = self.groups();
+        let shown: Vec<String> = groups
+            .iter()
+            .take(5)
+            .map(
+                |(r, n, first)| {
+                    if *n == 1 {
+                        format!("{first}: {r}")
+                    } else {
+                        format!("{n} series (e.g. {first}): {r}")
+                    }
+                },
+            )
+            .collect();
+        let more = groups.len().saturating_sub(5);
+        if more > 0 {
+            format!("{}; and {more} other reasons", shown.join("; "))
+        } else {
+            shown.join("; ")
+        }
+    }
+
+    /// The digest of a campaign: its series that need a look, the route comparisons that
+    /// disagree, the run's warnings and the summary.
+    pub fn render(&self, routes: &[super::RouteComparison], warnings: &[String]) -> String {
+        let mut out = format!(
+            "{} series; {} need a look{}\n",
+            self.series,
+            self.attention,
+            if self.attention == 0 {
+                String::new()
+            } else {
+                format!(" (first {} below; --series-table FILE --needs-attention lists them all)", self.shown.len())
+            }
+        );
+        for line in &self.shown {
+            out.push_str(line);
+            out.push('\n');
+        }
+        let disagreeing: Vec<&super::RouteComparison> = routes.iter().filter(|r| r.disagree).collect();
+        if !routes.is_empty() {
+            let _ = writeln!(out, "routes compared for {} series; {} disagree", routes.len(), disagreeing.len());
+            for r in disagreeing.iter().take(DIGEST_SERIES) {
+                let _ = writeln!(out, "  {}: χ² = {:.2}, p = {:.3}", r.series, r.chi2, r.p_value);
+            }
+        }
+        for w in warnings {
+            let _ = writeln!(out, "! {w}");
+        }
+        out.push_str(&self.summary());
+        out
+    }
 }
 
 #[cfg(test)]
