@@ -5,7 +5,7 @@ use assert_cmd::Command;
 use serde_json::Value;
 use std::fmt::Write;
 
-/// `n` simulated series (truth known): Mn 100 kg/mol, A2 = 2e-4 (1 − θ/T) mol m³/kg² with θ
+/// `n` simulated series (truth known): Mn 100 kg/mol, A2 = 2e-3 (1 − θ/T) mol m³/kg² with θ
 /// spread over 300–309 K, and a small deterministic ripple standing in for noise.
 fn campaign(n: usize) -> String {
     let mut text = String::from("series,temperature (K),concentration (g/L),pressure (Pa)\n");
@@ -15,7 +15,7 @@ fn campaign(n: usize) -> String {
         for t in [290.0, 300.0, 310.0, 320.0] {
             for c in [1.0, 2.0, 3.0, 4.0, 5.0] {
                 k += 1.0;
-                let a2 = 2e-4 * (1.0 - theta / t);
+                let a2 = 2e-3 * (1.0 - theta / t);
                 let pressure = c * 8.314_462_618 * t * (1.0 / 100.0 + a2 * c) * (1.0 + 1e-3 * k.sin());
                 let _ = writeln!(text, "s{i:04},{t},{c},{pressure:.6}");
             }
@@ -102,4 +102,34 @@ fn the_report_written_series_by_series_is_the_report_written_whole() {
         stream.finish(&mut streamed, &report.routes).unwrap();
         assert_eq!(String::from_utf8(streamed).unwrap(), String::from_utf8(report_json(&report)).unwrap());
     }
+}
+
+#[test]
+fn a_campaign_streams_its_series_table_and_still_compares_routes() {
+    let dir = tempfile::tempdir().unwrap();
+    // Invented critical temperatures of fractions for one series of the campaign.
+    std::fs::write(
+        dir.path().join("fractions.csv"),
+        "series,molar mass (g/mol),critical temperature (K)\ns0003,50000,290.1\ns0003,120000,295.6\ns0003,400000,299.4\ns0003,1500000,301.3\n",
+    )
+    .unwrap();
+    std::fs::write(dir.path().join("campaign.csv"), campaign(250)).unwrap();
+    let out = Command::cargo_bin("thetaseek")
+        .unwrap()
+        .current_dir(dir.path())
+        .args(["analyze", "campaign.csv", "fractions.csv", "--bootstrap", "0", "-q"])
+        .args(["--polymer-specific-volume", "0.9", "--solvent-molar-volume", "100"])
+        .args(["--report", "r.json", "--series-table", "-"])
+        .output()
+        .unwrap();
+    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+    let table = String::from_utf8(out.stdout).unwrap();
+    // Header, 250 osmometry series and the critical-temperature one.
+    assert_eq!(table.lines().count(), 252, "{table}");
+    assert!(table.starts_with("series,status,theta (K)"));
+    let report: Value = serde_json::from_slice(&std::fs::read(dir.path().join("r.json")).unwrap()).unwrap();
+    let routes = report["routes"].as_array().unwrap();
+    assert_eq!(routes.len(), 1, "{routes:?}");
+    assert_eq!(routes[0]["series"], "s0003");
+    assert_eq!(routes[0]["routes"].as_array().unwrap().len(), 2);
 }
