@@ -149,4 +149,32 @@ proptest! {
         let got = results[0].theta.as_ref().unwrap().theta_k.unwrap();
         prop_assert!((got - theta).abs() < 1e-8, "θ {} vs truth {}", got, theta);
     }
+
+    /// A large file is read a block of rows at a time; for any layout (shuffled rows, comments,
+    /// blank lines, CRLF, quoted names) and any block size it must give what one whole read gives.
+    #[test]
+    fn reading_in_blocks_of_any_size_gives_the_whole_file_read(
+        seed in 0u64..1000,
+        shuffle in 0u64..1000,
+        block in 16usize..3000,
+        crlf in proptest::bool::ANY,
+        every in 3usize..40,
+    ) {
+        let mut body = rows(seed, &[(300.0, 0.4), (310.0, 0.6), (295.0, 0.5)]);
+        body.shuffle(&mut ChaCha8Rng::seed_from_u64(shuffle));
+        let newline = if crlf { "\r\n" } else { "\n" };
+        let mut text = format!("# invented{newline}{}", HEADER.trim_end());
+        text.push_str(newline);
+        for (i, r) in body.iter().enumerate() {
+            let r = if i % 7 == 0 { r.replacen("s1,", "\"s1\",", 1) } else { r.clone() };
+            text.push_str(&r);
+            text.push_str(newline);
+            if i % every == 0 {
+                text.push_str(&format!("# note {i}{newline}{newline}"));
+            }
+        }
+        let whole = read_file("p.csv", 0, text.as_bytes(), &ReadOptions::default()).unwrap();
+        let blocks = thetaseek::input::read_source("p.csv", 0, &mut text.as_bytes(), &ReadOptions::default(), block).unwrap();
+        prop_assert_eq!(blocks, whole);
+    }
 }
