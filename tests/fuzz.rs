@@ -25,8 +25,16 @@ fn config() -> ProptestConfig {
     ProptestConfig { cases, failure_persistence: None, rng_seed: seed(), ..ProptestConfig::default() }
 }
 
-/// Everything `thetaseek analyze` does after reading the file, in memory.
+/// Everything `thetaseek analyze` does after reading the file, in memory. The file is also
+/// read a block of 48 bytes at a time (the path of files above 4 MB): that too must end in a
+/// result or a refusal, and where both reads succeed they must agree.
 fn pipeline(bytes: &[u8]) {
+    let options = ReadOptions { solvent_density_kg_per_m3: Some(870.0), ..ReadOptions::default() };
+    let in_blocks = thetaseek::input::read_source("fuzz.csv", 0, &mut &bytes[..], &options, 48);
+    let whole = read_file("fuzz.csv", 0, bytes, &options);
+    if let (Ok(a), Ok(b)) = (&in_blocks, &whole) {
+        assert_eq!(a, b, "a read in blocks differs from the whole read");
+    }
     let Ok(contents) = read_file(
         "fuzz.csv",
         0,
