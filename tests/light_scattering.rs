@@ -127,6 +127,20 @@ fn the_zimm_plot_draws_every_reading_and_both_extrapolations() {
         .arg(&figures)
         .assert()
         .success();
+    let html = dir.path().join("r.html");
+    Command::cargo_bin("thetaseek")
+        .unwrap()
+        .arg("analyze")
+        .arg(&path)
+        .args(["--bootstrap", "0", "-q", "--refractive-index", "1.33", "--wavelength", "633", "--html"])
+        .arg(&html)
+        .assert()
+        .success();
+    let page = std::fs::read_to_string(&html).unwrap();
+    // Well-formed XML (the page declares its doctype).
+    let options = roxmltree::ParsingOptions { allow_dtd: true, ..roxmltree::ParsingOptions::default() };
+    roxmltree::Document::parse_with_options(&page, options).unwrap();
+    assert!(page.contains("id=\"light-scattering\"") && page.contains("Rg (nm)") && page.contains("ls-zimm.svg"));
     let svg = std::fs::read_to_string(figures.join("ls-zimm.svg")).unwrap();
     let doc = roxmltree::Document::parse(&svg).unwrap();
     let text: String = doc.descendants().filter_map(|n| n.text()).collect::<Vec<_>>().join("\n");

@@ -79,6 +79,11 @@ fn the_html_report_shows_the_routes_compared() {
     assert!(
         text.contains("id=\"routes\"") && text.contains("critical_temperatures") && text.contains("inverse variance")
     );
+    // The Shultz–Flory result has its own table: θ, interval, ψ1 and what this θ means.
+    assert!(text.contains("id=\"critical\"") && text.contains("ψ1") && text.contains("infinite-molar-mass limit"));
+    // Well-formed XML (the page declares its doctype).
+    let options = roxmltree::ParsingOptions { allow_dtd: true, ..roxmltree::ParsingOptions::default() };
+    roxmltree::Document::parse_with_options(&text, options).unwrap();
 }
 
 /// Published critical temperatures of three poly(α-methylstyrene) fractions in

@@ -208,6 +208,66 @@ pub fn analyze_html(report: &Report, figures: &[Figure], date: &str) -> String {
     }
     let _ = writeln!(b, "</section>");
 
+    let scattering: Vec<&super::SeriesReport> =
+        report.series.iter().filter(|s| !s.light_scattering.is_empty()).collect();
+    if !scattering.is_empty() {
+        let _ = writeln!(b, "<section id=\"light-scattering\">\n<h2>Light scattering (weight averages)</h2>");
+        for s in scattering {
+            let _ = writeln!(b, "<h3>{}</h3>\n<div class=\"scroll\"><table>", escape(&s.name));
+            let _ = writeln!(
+                b,
+                "<tr><th>T</th><th>n</th><th>Mw (g/mol)</th><th>A2 (mol mL/g²)</th><th>A3 (mol mL²/g³)</th><th>Rg (nm)</th><th>α_s</th></tr>"
+            );
+            for f in &s.light_scattering {
+                let a3 = match (f.a3_mol_ml2_per_g3, f.a3_se_mol_ml2_per_g3) {
+                    (Some(a), Some(se)) => plus_minus(a, se),
+                    _ => "—".into(),
+                };
+                let rg = match (f.rg_nm, f.rg_se_nm) {
+                    (Some(r), Some(se)) => plus_minus(r, se),
+                    _ => "—".into(),
+                };
+                let _ = writeln!(
+                    b,
+                    "<tr><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td></tr>",
+                    k_and_c(Some(f.temperature_k)),
+                    f.n_points,
+                    escape(&plus_minus(f.mw_g_per_mol, f.mw_se_g_per_mol)),
+                    escape(&plus_minus(f.a2_mol_ml_per_g2, f.a2_se_mol_ml_per_g2)),
+                    escape(&a3),
+                    escape(&rg),
+                    f.expansion_factor.map_or("—".into(), |a| format!("{a:.3}"))
+                );
+            }
+            let _ = writeln!(b, "</table></div>");
+        }
+        let _ = writeln!(b, "</section>");
+    }
+    let critical: Vec<(&str, &crate::theta::CriticalRoute)> =
+        report.series.iter().filter_map(|s| s.critical.as_ref().map(|c| (s.name.as_str(), c))).collect();
+    if !critical.is_empty() {
+        let _ = writeln!(b, "<section id=\"critical\">\n<h2>Critical temperatures of fractions (Shultz–Flory)</h2>");
+        let _ = writeln!(b, "<div class=\"scroll\"><table>\n<tr><th>series</th><th>fractions</th><th>θ</th><th>interval (K)</th><th>ψ1</th></tr>");
+        for (name, c) in &critical {
+            let _ = writeln!(
+                b,
+                "<tr><td>{}</td><td class=\"num\">{}</td><td class=\"num\">{} ± {:.2} K</td><td class=\"num\">{}–{}</td><td class=\"num\">{}</td></tr>",
+                escape(name),
+                c.fractions,
+                k_and_c(Some(c.theta_k)),
+                c.se_k,
+                opt(c.ci_low_k, 2),
+                opt(c.ci_high_k, 2),
+                escape(&plus_minus(c.psi1, c.psi1_se))
+            );
+        }
+        let _ = writeln!(b, "</table></div>");
+        if let Some((_, c)) = critical.first() {
+            let _ = writeln!(b, "<p>{}</p>", escape(c.note));
+        }
+        let _ = writeln!(b, "</section>");
+    }
+
     let _ = writeln!(b, "<section id=\"models\">\n<h2>Across-temperature models</h2>");
     for s in &report.series {
         let Some(t) = &s.theta else { continue };
