@@ -1,8 +1,10 @@
 //! The catalogue of refused inputs in tests/data/bad/: each is refused with exit code 65, a
 //! message that names the file, the line, the column and the value, and no output written.
 
-use assert_cmd::Command;
 use std::path::Path;
+
+mod common;
+use common::thetaseek;
 
 /// (file, line, column, value) as the message names them; `None` where the file has no such
 /// thing to name (an empty file has no line; a ragged row has no single value).
@@ -68,8 +70,7 @@ fn every_file_in_the_catalogue_is_refused_with_its_line_and_column_and_writes_no
         let out = tempfile::tempdir().unwrap();
         let report = out.path().join("report.json");
         let table = out.path().join("table.csv");
-        let assert = Command::cargo_bin("thetaseek")
-            .unwrap()
+        let assert = thetaseek()
             .arg("analyze")
             .arg(data.join(file))
             .arg("--report")

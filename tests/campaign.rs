@@ -1,9 +1,11 @@
 //! A campaign (more than 200 series): the report drops the per-reading arrays unless asked,
 //! the file and standard output carry the same bytes, and the terminal shows a digest.
 
-use assert_cmd::Command;
 use serde_json::Value;
 use std::fmt::Write;
+
+mod common;
+use common::thetaseek;
 
 /// `n` simulated series (truth known): Mn 100 kg/mol, A2 = 2e-3 (1 − θ/T) mol m³/kg² with θ
 /// spread over 300–309 K, and a small deterministic ripple standing in for noise.
@@ -29,13 +31,7 @@ fn analyze(dir: &std::path::Path, extra: &[&str]) -> std::process::Output {
     if !path.exists() {
         std::fs::write(&path, campaign(250)).unwrap();
     }
-    Command::cargo_bin("thetaseek")
-        .unwrap()
-        .current_dir(dir)
-        .args(["analyze", "campaign.csv", "--bootstrap", "0"])
-        .args(extra)
-        .output()
-        .unwrap()
+    thetaseek().current_dir(dir).args(["analyze", "campaign.csv", "--bootstrap", "0"]).args(extra).output().unwrap()
 }
 
 #[test]
@@ -59,8 +55,7 @@ fn a_campaign_report_holds_the_fits_without_the_readings_unless_asked() {
     assert_eq!(full["series"][0]["fits"][0]["points"].as_array().unwrap().len(), 5);
 
     // `next` needs the concentrations behind each fit: a fits-only report is refused, with the way out.
-    let next =
-        Command::cargo_bin("thetaseek").unwrap().current_dir(dir.path()).args(["next", "r.json"]).output().unwrap();
+    let next = thetaseek().current_dir(dir.path()).args(["next", "r.json"]).output().unwrap();
     assert_eq!(next.status.code(), Some(65));
     let message = String::from_utf8_lossy(&next.stderr);
     assert!(message.contains("--report-detail full"), "{message}");
@@ -114,8 +109,7 @@ fn a_campaign_streams_its_series_table_and_still_compares_routes() {
     )
     .unwrap();
     std::fs::write(dir.path().join("campaign.csv"), campaign(250)).unwrap();
-    let out = Command::cargo_bin("thetaseek")
-        .unwrap()
+    let out = thetaseek()
         .current_dir(dir.path())
         .args(["analyze", "campaign.csv", "fractions.csv", "--bootstrap", "0", "-q"])
         .args(["--polymer-specific-volume", "0.9", "--solvent-molar-volume", "100"])

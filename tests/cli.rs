@@ -1,22 +1,9 @@
 //! The command line end to end: terminal table, JSON report keys, CSV table, exit codes.
 
-use assert_cmd::Command;
 use serde_json::Value;
-use std::path::{Path, PathBuf};
 
-fn demo() -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR")).join("data/px40-osmometry.csv")
-}
-
-fn thetaseek() -> Command {
-    Command::cargo_bin("thetaseek").unwrap()
-}
-
-fn write(dir: &Path, name: &str, text: &str) -> PathBuf {
-    let path = dir.join(name);
-    std::fs::write(&path, text).unwrap();
-    path
-}
+mod common;
+use common::{demo, json_stdout, thetaseek, write};
 
 const SMALL: &str = "temperature (C),concentration (g/L),pressure (Pa)\n\
     25,2,26.9\n25,4,53.0\n25,6,78.6\n25,8,103.9\n\
@@ -165,25 +152,16 @@ fn usage_errors_exit_with_2() {
 
 #[test]
 fn every_series_carries_a_theta_object_with_the_stable_keys() {
-    let out = thetaseek()
-        .arg("analyze")
-        .arg(demo())
-        .args([
-            "--report",
-            "-",
-            "--bootstrap",
-            "100",
-            "--polymer-specific-volume",
-            "0.92",
-            "--solvent-molar-volume",
-            "105",
-        ])
-        .assert()
-        .success()
-        .get_output()
-        .stdout
-        .clone();
-    let report: Value = serde_json::from_slice(&out).unwrap();
+    let report = json_stdout(thetaseek().arg("analyze").arg(demo()).args([
+        "--report",
+        "-",
+        "--bootstrap",
+        "100",
+        "--polymer-specific-volume",
+        "0.92",
+        "--solvent-molar-volume",
+        "105",
+    ]));
     for s in report["series"].as_array().unwrap() {
         let t = &s["theta"];
         for key in [
@@ -284,16 +262,7 @@ fn a_solvent_column_names_the_series_and_reaches_the_report() {
             .replace("\n2", "\nmirane,2")
             .replace("\n3", "\nmirane,3"),
     );
-    let out = thetaseek()
-        .arg("analyze")
-        .arg(&input)
-        .args(["--report", "-", "--bootstrap", "0"])
-        .assert()
-        .success()
-        .get_output()
-        .stdout
-        .clone();
-    let report: Value = serde_json::from_slice(&out).unwrap();
+    let report = json_stdout(thetaseek().arg("analyze").arg(&input).args(["--report", "-", "--bootstrap", "0"]));
     assert_eq!(report["series"][0]["name"], "mirane");
     assert_eq!(report["series"][0]["solvent"], "mirane");
 }

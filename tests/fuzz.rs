@@ -5,25 +5,14 @@
 //! of the hardening work gives the long runs).
 
 use proptest::prelude::*;
+
 use thetaseek::analysis::{analyze, Settings};
 use thetaseek::dataset::Dataset;
 use thetaseek::input::{read_file, read_solvents, ReadOptions};
 use thetaseek::report::{render_terminal, table_csv, to_json, Report, ReportSettings};
 use thetaseek::theta::{Quantity, ThetaSettings};
 
-/// A fixed seed keeps CI reproducible; `PROPTEST_RNG_SEED=N` (or `random`) explores further.
-fn seed() -> proptest::test_runner::RngSeed {
-    match std::env::var("PROPTEST_RNG_SEED").as_deref() {
-        Ok("random") => proptest::test_runner::RngSeed::Random,
-        Ok(v) => v.parse().unwrap_or(proptest::test_runner::RngSeed::Fixed(2026)),
-        Err(_) => proptest::test_runner::RngSeed::Fixed(2026),
-    }
-}
-
-fn config() -> ProptestConfig {
-    let cases = std::env::var("PROPTEST_CASES").ok().and_then(|v| v.parse().ok()).unwrap_or(200);
-    ProptestConfig { cases, failure_persistence: None, rng_seed: seed(), ..ProptestConfig::default() }
-}
+mod common;
 
 /// Everything `thetaseek analyze` does after reading the file, in memory. The file is also
 /// read a block of 48 bytes at a time (the path of files above 4 MB): that too must end in a
@@ -178,7 +167,7 @@ fn apply(text: &mut Vec<u8>, m: &Mutation) {
 }
 
 proptest! {
-    #![proptest_config(config())]
+    #![proptest_config(common::proptest_config(200))]
 
     #[test]
     fn arbitrary_bytes_never_panic(bytes in proptest::collection::vec(any::<u8>(), 0..4096)) {

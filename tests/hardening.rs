@@ -1,16 +1,8 @@
 //! Hostile conditions end to end: determinism across runs and thread counts, an interrupt
 //! mid-run, resource limits, and large or odd files that must finish or be refused cleanly.
 
-use assert_cmd::Command;
-use std::path::{Path, PathBuf};
-
-fn demo() -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR")).join("data/px40-osmometry.csv")
-}
-
-fn thetaseek() -> Command {
-    Command::cargo_bin("thetaseek").unwrap()
-}
+mod common;
+use common::{demo, thetaseek};
 
 #[test]
 fn the_same_input_and_seed_give_byte_identical_reports_on_one_thread_or_two() {

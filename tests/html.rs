@@ -2,20 +2,13 @@
 //! text, and (where Chromium is installed) a real headless browser that renders it without a
 //! console message.
 
-use assert_cmd::Command;
 use std::path::{Path, PathBuf};
+
+mod common;
+use common::{parse_html, thetaseek};
 
 fn root() -> PathBuf {
     PathBuf::from(env!("CARGO_MANIFEST_DIR"))
-}
-
-fn thetaseek() -> Command {
-    Command::cargo_bin("thetaseek").unwrap()
-}
-
-fn parse(html: &str) -> roxmltree::Document<'_> {
-    let options = roxmltree::ParsingOptions { allow_dtd: true, ..roxmltree::ParsingOptions::default() };
-    roxmltree::Document::parse_with_options(html, options).expect("the HTML is well-formed")
 }
 
 /// Asserts the page asks for nothing outside itself: no scripts, links, images or frames, and
@@ -62,7 +55,7 @@ fn analyze_html(dir: &Path, input: &Path) -> String {
 fn the_analyze_report_has_its_sections_and_every_figure_inline() {
     let dir = tempfile::tempdir().unwrap();
     let html = analyze_html(dir.path(), &root().join("data/px40-osmometry.csv"));
-    let doc = parse(&html);
+    let doc = parse_html(&html);
     for id in ["answer", "figures", "fits", "models", "flory", "provenance"] {
         assert!(doc.descendants().any(|n| n.attribute("id") == Some(id)), "section {id}");
     }
@@ -87,7 +80,7 @@ fn hostile_series_and_file_names_stay_text() {
     let input = dir.path().join("<b>&odd.csv");
     std::fs::write(&input, text).unwrap();
     let html = analyze_html(dir.path(), &input);
-    let doc = parse(&html);
+    let doc = parse_html(&html);
     assert_self_contained(&doc);
     assert!(!doc.descendants().any(|n| n.tag_name().name() == "b"));
     let text: String = doc.descendants().filter_map(|n| n.text()).collect();
@@ -109,7 +102,7 @@ fn the_plan_report_carries_the_ranking_and_the_safety_cautions() {
         .assert()
         .success();
     let html = std::fs::read_to_string(html).unwrap();
-    let doc = parse(&html);
+    let doc = parse_html(&html);
     for id in ["answer", "cautions", "figures", "ranking", "provenance"] {
         assert!(doc.descendants().any(|n| n.attribute("id") == Some(id)), "section {id}");
     }

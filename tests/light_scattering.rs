@@ -1,7 +1,6 @@
 //! Static light scattering: simulated Zimm data with known Mw, Rg and A2 are recovered, the
 //! factor 2 of K c/R = 1/Mw + 2 A2 c is applied, and the route joins the θ comparison.
 
-use assert_cmd::Command;
 use rand::SeedableRng;
 use rand_chacha::ChaCha8Rng;
 use rand_distr::{Distribution, Normal};
@@ -9,6 +8,9 @@ use serde_json::Value;
 use std::fmt::Write;
 use thetaseek::thermo::flory_krigbaum_a2;
 use thetaseek::units::{optical_constant, scattering_vector};
+
+mod common;
+use common::{json_stdout, parse_html, thetaseek};
 
 const N0: f64 = 1.33;
 const LAMBDA: f64 = 633e-9;
@@ -47,18 +49,13 @@ fn run(csv: &str, extra: &[&str]) -> Value {
     let dir = tempfile::tempdir().unwrap();
     let path = dir.path().join("ls.csv");
     std::fs::write(&path, csv).unwrap();
-    let out = Command::cargo_bin("thetaseek")
-        .unwrap()
-        .arg("analyze")
-        .arg(&path)
-        .args(["--bootstrap", "0", "--report", "-", "--refractive-index", "1.33", "--wavelength", "633"])
-        .args(extra)
-        .assert()
-        .success()
-        .get_output()
-        .stdout
-        .clone();
-    serde_json::from_slice(&out).unwrap()
+    json_stdout(
+        thetaseek()
+            .arg("analyze")
+            .arg(&path)
+            .args(["--bootstrap", "0", "--report", "-", "--refractive-index", "1.33", "--wavelength", "633"])
+            .args(extra),
+    )
 }
 
 #[test]
@@ -103,8 +100,7 @@ fn a_rayleigh_ratio_without_an_optical_constant_is_refused() {
     let dir = tempfile::tempdir().unwrap();
     let path = dir.path().join("ls.csv");
     std::fs::write(&path, zimm_csv(0.0, true)).unwrap();
-    let a = Command::cargo_bin("thetaseek")
-        .unwrap()
+    let a = thetaseek()
         .arg("analyze")
         .arg(&path)
         .args(["--refractive-index", "1.33", "--wavelength", "633"])
@@ -119,8 +115,7 @@ fn the_zimm_plot_draws_every_reading_and_both_extrapolations() {
     let path = dir.path().join("ls.csv");
     std::fs::write(&path, zimm_csv(0.002, false)).unwrap();
     let figures = dir.path().join("figures");
-    Command::cargo_bin("thetaseek")
-        .unwrap()
+    thetaseek()
         .arg("analyze")
         .arg(&path)
         .args(["--bootstrap", "0", "-q", "--refractive-index", "1.33", "--wavelength", "633", "--figures"])
@@ -128,8 +123,7 @@ fn the_zimm_plot_draws_every_reading_and_both_extrapolations() {
         .assert()
         .success();
     let html = dir.path().join("r.html");
-    Command::cargo_bin("thetaseek")
-        .unwrap()
+    thetaseek()
         .arg("analyze")
         .arg(&path)
         .args(["--bootstrap", "0", "-q", "--refractive-index", "1.33", "--wavelength", "633", "--html"])
@@ -137,9 +131,7 @@ fn the_zimm_plot_draws_every_reading_and_both_extrapolations() {
         .assert()
         .success();
     let page = std::fs::read_to_string(&html).unwrap();
-    // Well-formed XML (the page declares its doctype).
-    let options = roxmltree::ParsingOptions { allow_dtd: true, ..roxmltree::ParsingOptions::default() };
-    roxmltree::Document::parse_with_options(&page, options).unwrap();
+    parse_html(&page);
     assert!(page.contains("id=\"light-scattering\"") && page.contains("Rg (nm)") && page.contains("ls-zimm.svg"));
     let svg = std::fs::read_to_string(figures.join("ls-zimm.svg")).unwrap();
     let doc = roxmltree::Document::parse(&svg).unwrap();

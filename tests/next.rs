@@ -1,7 +1,6 @@
 //! `thetaseek next`: the predicted SE of a design against simulation, where a new temperature
 //! helps most, and bracketing an extrapolated θ first.
 
-use assert_cmd::Command;
 use rand::SeedableRng;
 use rand_chacha::ChaCha8Rng;
 use rand_distr::{Distribution, Normal};
@@ -11,6 +10,9 @@ use thetaseek::design::{next_runs, DesignSettings, MeasuredTemperature};
 use thetaseek::thermo::flory_krigbaum_a2;
 use thetaseek::theta::{a2_points, TemperaturePoint, ThetaSettings};
 use thetaseek::units::GAS_CONSTANT_J_PER_MOL_K;
+
+mod common;
+use common::thetaseek;
 
 const C: [f64; 5] = [2.0, 4.0, 6.0, 8.0, 10.0];
 const THETA: f64 = 305.0;
@@ -145,8 +147,7 @@ fn the_cli_writes_the_stable_keys_and_a_figure() {
     let dir = tempfile::tempdir().unwrap();
     let demo = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("data/px40-osmometry.csv");
     let figure = dir.path().join("next.svg");
-    let out = Command::cargo_bin("thetaseek")
-        .unwrap()
+    let out = thetaseek()
         .arg("next")
         .arg(&demo)
         .args(["--thermostat", "0:60", "--budget", "2", "--simulations", "200", "--report", "-", "--figure"])
@@ -177,17 +178,9 @@ fn a_report_from_analyze_gives_the_same_advice_as_its_data() {
     let dir = tempfile::tempdir().unwrap();
     let demo = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("data/px40-osmometry.csv");
     let report = dir.path().join("r.json");
-    Command::cargo_bin("thetaseek")
-        .unwrap()
-        .arg("analyze")
-        .arg(&demo)
-        .args(["--bootstrap", "0", "-q", "--report"])
-        .arg(&report)
-        .assert()
-        .success();
+    thetaseek().arg("analyze").arg(&demo).args(["--bootstrap", "0", "-q", "--report"]).arg(&report).assert().success();
     let advice = |input: &std::path::Path| -> serde_json::Value {
-        let out = Command::cargo_bin("thetaseek")
-            .unwrap()
+        let out = thetaseek()
             .arg("next")
             .arg(input)
             .args(["--thermostat", "0:60", "--simulations", "0", "--report", "-"])

@@ -2,20 +2,12 @@
 //! invented solvents, and refusals.
 
 use approx::assert_relative_eq;
-use assert_cmd::Command;
 use serde_json::Value;
 use std::path::{Path, PathBuf};
 use thetaseek::thermo::{expansion_argument, expansion_factor, flory_cm, segment_ratio, shultz_flory_tc};
 
-fn thetaseek() -> Command {
-    Command::cargo_bin("thetaseek").unwrap()
-}
-
-fn write(dir: &Path, name: &str, text: &str) -> PathBuf {
-    let path = dir.join(name);
-    std::fs::write(&path, text).unwrap();
-    path
-}
+mod common;
+use common::{json_stdout, thetaseek, write};
 
 #[test]
 fn shultz_flory_and_the_expansion_factor_match_scipy() {
@@ -141,29 +133,18 @@ fn a_tiny_margin_to_the_critical_temperature_is_a_warning() {
 fn an_expanded_goal_finds_the_temperature_of_the_target_a2() {
     let dir = tempfile::tempdir().unwrap();
     let (data, solvents) = three_solvents(dir.path());
-    let out = thetaseek()
-        .arg("plan")
-        .arg(&data)
-        .arg("--solvents")
-        .arg(&solvents)
-        .args([
-            "--molar-mass",
-            "200000",
-            "--goal",
-            "expanded",
-            "--target-a2",
-            "1e-4",
-            "--thermostat",
-            "40:90",
-            "--report",
-            "-",
-        ])
-        .assert()
-        .success()
-        .get_output()
-        .stdout
-        .clone();
-    let plan: Value = serde_json::from_slice(&out).unwrap();
+    let plan = json_stdout(thetaseek().arg("plan").arg(&data).arg("--solvents").arg(&solvents).args([
+        "--molar-mass",
+        "200000",
+        "--goal",
+        "expanded",
+        "--target-a2",
+        "1e-4",
+        "--thermostat",
+        "40:90",
+        "--report",
+        "-",
+    ]));
     // β: 3e-3 (1 − 343.15/T) = 1e-4 → T = 343.15/(1 − 1/30) K.
     let expected = 343.15 / (1.0 - 1.0 / 30.0) - 273.15;
     let t = plan["recommendation"]["temperature_c"].as_f64().unwrap();

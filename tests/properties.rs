@@ -3,6 +3,7 @@
 //! `PROPTEST_CASES` sets how many cases run (a few dozen by default, so CI stays quick).
 
 use proptest::prelude::*;
+
 use rand::seq::SliceRandom;
 use rand::SeedableRng;
 use rand_chacha::ChaCha8Rng;
@@ -16,19 +17,7 @@ use thetaseek::thermo::flory_krigbaum_a2;
 use thetaseek::theta::ThetaSettings;
 use thetaseek::virial::{FormChoice, VirialForm};
 
-/// A fixed seed keeps CI reproducible; `PROPTEST_RNG_SEED=N` (or `random`) explores further.
-fn seed() -> proptest::test_runner::RngSeed {
-    match std::env::var("PROPTEST_RNG_SEED").as_deref() {
-        Ok("random") => proptest::test_runner::RngSeed::Random,
-        Ok(v) => v.parse().unwrap_or(proptest::test_runner::RngSeed::Fixed(2026)),
-        Err(_) => proptest::test_runner::RngSeed::Fixed(2026),
-    }
-}
-
-fn config() -> ProptestConfig {
-    let cases = std::env::var("PROPTEST_CASES").ok().and_then(|v| v.parse().ok()).unwrap_or(24);
-    ProptestConfig { cases, rng_seed: seed(), ..ProptestConfig::default() }
-}
+mod common;
 
 /// Rows "series,T,c,Π" of simulated series (θ, ψ1 per series), seeded.
 fn rows(seed: u64, series: &[(f64, f64)]) -> Vec<String> {
@@ -86,7 +75,7 @@ fn numbers(r: &Report) -> Vec<f64> {
 }
 
 proptest! {
-    #![proptest_config(config())]
+    #![proptest_config(common::proptest_config(24))]
 
     #[test]
     fn row_order_does_not_change_any_result(seed in 0u64..1000, shuffle in 0u64..1000, theta in 285.0f64..330.0) {

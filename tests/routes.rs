@@ -1,10 +1,12 @@
 //! Several routes to θ for one polymer–solvent pair: critical temperatures of fractions
 //! (Shultz–Flory) beside osmometry, compared, combined, and flagged when they disagree.
 
-use assert_cmd::Command;
 use serde_json::Value;
 use std::path::Path;
 use thetaseek::thermo::{segment_ratio, shultz_flory_tc};
+
+mod common;
+use common::{parse_html, thetaseek};
 
 /// Critical temperatures of invented PX-40 fractions in mirane from the demo's truth
 /// (θ = 307.65 K, ψ1 = 0.35, v̄ = 0.92 mL/g, V1 = 105 mL/mol), shifted by `shift` K.
@@ -22,8 +24,7 @@ fn run(shift: f64) -> Value {
     let tc = dir.path().join("tc.csv");
     std::fs::write(&tc, fractions(shift)).unwrap();
     let demo = Path::new(env!("CARGO_MANIFEST_DIR")).join("data/px40-osmometry.csv");
-    let out = Command::cargo_bin("thetaseek")
-        .unwrap()
+    let out = thetaseek()
         .arg("analyze")
         .arg(&demo)
         .arg(&tc)
@@ -66,8 +67,7 @@ fn the_html_report_shows_the_routes_compared() {
     std::fs::write(&tc, fractions(0.0)).unwrap();
     let html = dir.path().join("r.html");
     let demo = Path::new(env!("CARGO_MANIFEST_DIR")).join("data/px40-osmometry.csv");
-    Command::cargo_bin("thetaseek")
-        .unwrap()
+    thetaseek()
         .arg("analyze")
         .arg(&demo)
         .arg(&tc)
@@ -81,9 +81,7 @@ fn the_html_report_shows_the_routes_compared() {
     );
     // The Shultz–Flory result has its own table: θ, interval, ψ1 and what this θ means.
     assert!(text.contains("id=\"critical\"") && text.contains("ψ1") && text.contains("infinite-molar-mass limit"));
-    // Well-formed XML (the page declares its doctype).
-    let options = roxmltree::ParsingOptions { allow_dtd: true, ..roxmltree::ParsingOptions::default() };
-    roxmltree::Document::parse_with_options(&text, options).unwrap();
+    parse_html(&text);
 }
 
 /// Published critical temperatures of three poly(α-methylstyrene) fractions in
