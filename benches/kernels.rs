@@ -7,7 +7,7 @@ use rand_chacha::ChaCha8Rng;
 use std::fmt::Write;
 use std::hint::black_box;
 use thetaseek::analysis::{analyze, analyze_series, Settings};
-use thetaseek::dataset::{group, Dataset, Measurement, Origin};
+use thetaseek::dataset::{group, Dataset, Measurement};
 use thetaseek::input::{read_file, ReadOptions};
 use thetaseek::simulate::{simulate, Noise, VirialTruth};
 use thetaseek::thermo::flory_krigbaum_a2;
@@ -26,14 +26,7 @@ fn series(rng: &mut ChaCha8Rng) -> thetaseek::dataset::Series {
     for t in [290.0, 297.0, 304.0, 311.0, 318.0] {
         let (c, p) = readings(t, flory_krigbaum_a2(t, 302.0, 0.4, 0.9e-3, 100e-6), rng);
         for (c, p) in c.into_iter().zip(p) {
-            rows.push(Measurement {
-                series: "s".into(),
-                temperature_k: t,
-                concentration_kg_per_m3: c,
-                pressure_pa: p,
-                pressure_sd_pa: None,
-                origin: Origin { file: 0, line: 0 },
-            });
+            rows.push(Measurement::simulated("s", t, c, p));
         }
     }
     group(&rows).remove(0)

@@ -7,7 +7,7 @@
 use rand::SeedableRng;
 use rand_chacha::ChaCha8Rng;
 use thetaseek::analysis::{analyze_series, Settings};
-use thetaseek::dataset::{group, Measurement, Origin};
+use thetaseek::dataset::{group, Measurement};
 use thetaseek::simulate::{simulate, Noise, VirialTruth};
 use thetaseek::thermo::flory_krigbaum_a2;
 use thetaseek::theta::{theta_for_series, IntervalKind, ThetaSettings};
@@ -33,12 +33,8 @@ fn main() {
                 let truth = VirialTruth::with_good_solvent_curvature(t, 150.0, a2);
                 for (c, p, sd) in simulate(&truth, &[2.0, 4.0, 6.0, 8.0, 10.0], noise, &mut rng) {
                     rows.push(Measurement {
-                        series: "s".into(),
-                        temperature_k: t,
-                        concentration_kg_per_m3: c,
-                        pressure_pa: p,
                         pressure_sd_pa: with_sd.then_some(sd),
-                        origin: Origin { file: 0, line: 0 },
+                        ..Measurement::simulated("s", t, c, p)
                     });
                 }
             }

@@ -31,6 +31,21 @@ pub struct Measurement {
     pub origin: Origin,
 }
 
+impl Measurement {
+    /// A reading with no SD and no file behind it (simulations, tests, benchmarks): origin file
+    /// 0, line 0. T in K, c in kg/m³, Π in Pa.
+    pub fn simulated(series: &str, temperature_k: f64, concentration_kg_per_m3: f64, pressure_pa: f64) -> Self {
+        Measurement {
+            series: series.into(),
+            temperature_k,
+            concentration_kg_per_m3,
+            pressure_pa,
+            pressure_sd_pa: None,
+            origin: Origin { file: 0, line: 0 },
+        }
+    }
+}
+
 /// Readings of one series at one temperature.
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct TemperatureSet {
@@ -331,14 +346,7 @@ mod tests {
     use super::*;
 
     fn m(series: &str, t: f64, c: f64) -> Measurement {
-        Measurement {
-            series: series.into(),
-            temperature_k: t,
-            concentration_kg_per_m3: c,
-            pressure_pa: 1.0,
-            pressure_sd_pa: None,
-            origin: Origin { file: 0, line: 2 },
-        }
+        Measurement::simulated(series, t, c, 1.0)
     }
 
     #[test]

@@ -4,7 +4,7 @@
 use rand::SeedableRng;
 use rand_chacha::ChaCha8Rng;
 use thetaseek::analysis::{analyze, Settings};
-use thetaseek::dataset::{Dataset, Measurement, Origin};
+use thetaseek::dataset::{Dataset, Measurement};
 use thetaseek::plot::figures_for_report;
 use thetaseek::report::{Report, ReportSettings};
 use thetaseek::simulate::{simulate, Noise, VirialTruth};
@@ -17,14 +17,7 @@ fn readings(name: &str, temps: &[f64], theta: f64, concentrations: &[f64], rng: 
         let truth =
             VirialTruth::with_good_solvent_curvature(t, 150.0, flory_krigbaum_a2(t, theta, 0.4, 0.9e-3, 100e-6));
         for (c, p, _) in simulate(&truth, concentrations, Noise { absolute_pa: 0.3, relative: 0.003 }, rng) {
-            rows.push(Measurement {
-                series: name.into(),
-                temperature_k: t,
-                concentration_kg_per_m3: c,
-                pressure_pa: p,
-                pressure_sd_pa: None,
-                origin: Origin { file: 0, line: 2 },
-            });
+            rows.push(Measurement::simulated(name, t, c, p));
         }
     }
     rows
@@ -118,14 +111,7 @@ fn a_series_without_theta_and_one_with_a_refused_temperature_still_draw() {
     for t in [290.0, 300.0, 310.0, 320.0] {
         let truth = VirialTruth { temperature_k: t, mn_kg_per_mol: 150.0, a2: 1e-4, a3: 0.0 };
         for (c, p, _) in simulate(&truth, &C, Noise { absolute_pa: 0.3, relative: 0.003 }, &mut rng) {
-            rows.push(Measurement {
-                series: "flat <b>&</b>".into(),
-                temperature_k: t,
-                concentration_kg_per_m3: c,
-                pressure_pa: p,
-                pressure_sd_pa: None,
-                origin: Origin { file: 0, line: 2 },
-            });
+            rows.push(Measurement::simulated("flat <b>&</b>", t, c, p));
         }
     }
     let report = report_of(&rows);

@@ -5,7 +5,7 @@ use rand::SeedableRng;
 use rand_chacha::ChaCha8Rng;
 use rand_distr::{Distribution, Normal};
 use thetaseek::analysis::{analyze_series, Settings};
-use thetaseek::dataset::{group, Measurement, Origin, Series};
+use thetaseek::dataset::{group, Measurement, Series};
 use thetaseek::design::{next_runs, DesignSettings, MeasuredTemperature};
 use thetaseek::thermo::flory_krigbaum_a2;
 use thetaseek::theta::{a2_points, TemperaturePoint, ThetaSettings};
@@ -25,14 +25,7 @@ fn series(temps: &[f64], rng: &mut ChaCha8Rng) -> Series {
         let a2 = flory_krigbaum_a2(t, THETA, 0.4, 0.9e-3, 100e-6);
         for c in C {
             let y = 1.0 / 150.0 + a2 * c + noise.sample(rng);
-            rows.push(Measurement {
-                series: "s".into(),
-                temperature_k: t,
-                concentration_kg_per_m3: c,
-                pressure_pa: y * c * GAS_CONSTANT_J_PER_MOL_K * t,
-                pressure_sd_pa: None,
-                origin: Origin { file: 0, line: 0 },
-            });
+            rows.push(Measurement::simulated("s", t, c, y * c * GAS_CONSTANT_J_PER_MOL_K * t));
         }
     }
     group(&rows).remove(0)

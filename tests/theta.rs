@@ -7,7 +7,7 @@ use rand::SeedableRng;
 use rand_chacha::ChaCha8Rng;
 use serde_json::Value;
 use thetaseek::analysis::{analyze_series, Settings};
-use thetaseek::dataset::{group, Measurement, Origin, Series};
+use thetaseek::dataset::{group, Measurement, Series};
 use thetaseek::simulate::{simulate, Noise, VirialTruth};
 use thetaseek::thermo::flory_krigbaum_a2;
 use thetaseek::theta::{
@@ -34,14 +34,7 @@ fn series(temps: &[f64], theta: f64, psi1: f64, noise: Option<Noise>, rng: &mut 
             None => C.iter().map(|&c| (c, truth.pressure_pa(c), 0.0)).collect(),
         };
         for (c, p, _) in readings {
-            rows.push(Measurement {
-                series: "s".into(),
-                temperature_k: t,
-                concentration_kg_per_m3: c,
-                pressure_pa: p,
-                pressure_sd_pa: None,
-                origin: Origin { file: 0, line: 0 },
-            });
+            rows.push(Measurement::simulated("s", t, c, p));
         }
     }
     group(&rows).remove(0)
@@ -92,14 +85,7 @@ fn a_noise_free_series_gives_the_true_theta_to_1e_8_kelvin() {
             a3: 0.0,
         };
         for c in C {
-            rows.push(Measurement {
-                series: "s".into(),
-                temperature_k: t,
-                concentration_kg_per_m3: c,
-                pressure_pa: truth.pressure_pa(c),
-                pressure_sd_pa: None,
-                origin: Origin { file: 0, line: 0 },
-            });
+            rows.push(Measurement::simulated("s", t, c, truth.pressure_pa(c)));
         }
     }
     let s = group(&rows).remove(0);
@@ -248,14 +234,7 @@ fn an_mn_that_drifts_with_temperature_is_a_warning() {
             a3: 0.0,
         };
         for (c, p, _) in simulate(&truth, &C, REALISTIC, &mut rng) {
-            rows.push(Measurement {
-                series: "s".into(),
-                temperature_k: *t,
-                concentration_kg_per_m3: c,
-                pressure_pa: p,
-                pressure_sd_pa: None,
-                origin: Origin { file: 0, line: 0 },
-            });
+            rows.push(Measurement::simulated("s", *t, c, p));
         }
     }
     let t = analyze_series(&group(&rows)[0], &no_bootstrap(), 0).theta.unwrap();
