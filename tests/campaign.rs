@@ -127,3 +127,18 @@ fn a_campaign_streams_its_series_table_and_still_compares_routes() {
     assert_eq!(routes[0]["series"], "s0003");
     assert_eq!(routes[0]["routes"].as_array().unwrap().len(), 2);
 }
+
+#[test]
+fn a_campaign_refuses_to_write_over_its_input_before_analysing() {
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::write(dir.path().join("campaign.csv"), campaign(250)).unwrap();
+    let before = std::fs::read(dir.path().join("campaign.csv")).unwrap();
+    let out = analyze(dir.path(), &["--table", "campaign.csv", "-q"]);
+    assert_eq!(out.status.code(), Some(74), "{}", String::from_utf8_lossy(&out.stderr));
+    assert_eq!(std::fs::read(dir.path().join("campaign.csv")).unwrap(), before);
+    // Two outputs to standard output are refused as in a small run.
+    let out = analyze(dir.path(), &["--report", "-", "--table", "-"]);
+    assert_eq!(out.status.code(), Some(2), "{}", String::from_utf8_lossy(&out.stderr));
+    let names: Vec<_> = std::fs::read_dir(dir.path()).unwrap().map(|e| e.unwrap().file_name()).collect();
+    assert_eq!(names.len(), 1, "nothing but the input: {names:?}");
+}

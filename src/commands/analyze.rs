@@ -91,11 +91,7 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
             .map_err(|e| Error::Setting(format!("cannot render the series table: {e}")))?;
         outputs.push(PendingOutput::bytes(Destination::parse(path), bytes));
     }
-    if outputs.iter().filter(|o| o.destination == Destination::Stdout).count() > 1 {
-        return Err(Error::Setting(
-            "only one of --report, --table and --series-table can go to standard output ('-')".into(),
-        ));
-    }
+    super::check_one_stdout(outputs.iter().map(|o| &o.destination))?;
     check_outputs(&outputs, &args.files)?;
     // The figures folder is made only once every check has passed.
     if let Some(dir) = &args.figures {

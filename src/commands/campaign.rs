@@ -12,7 +12,7 @@ use std::io::Write;
 use std::path::PathBuf;
 use thetaseek::analysis::{self, Settings};
 use thetaseek::error::Error;
-use thetaseek::output::{same_file, write_stream, AtomicFile, Destination};
+use thetaseek::output::{write_stream, AtomicFile, Destination};
 use thetaseek::report::{self, Report, ReportSettings, ReportStream, SeriesFilter, SeriesReport, Tally};
 
 /// Series analysed and written together (one chunk is written while the next is analysed):
@@ -59,6 +59,10 @@ impl Sink {
     }
 }
 
+fn csv(e: polars::prelude::PolarsError) -> Error {
+    Error::Setting(format!("cannot render the table: {e}"))
+}
+
 fn io_error(path: &std::path::Path, source: std::io::Error) -> Error {
     Error::Io { action: "cannot write", path: path.to_path_buf(), source }
 }
@@ -74,18 +78,8 @@ pub fn run(
     // Every output is checked before the first series is analysed.
     let destinations: Vec<Destination> =
         [&args.report, &args.table, &args.series_table].into_iter().flatten().map(|p| Destination::parse(p)).collect();
-    if destinations.iter().filter(|d| **d == Destination::Stdout).count() > 1 {
-        return Err(Error::Setting(
-            "only one of --report, --table and --series-table can go to standard output ('-')".into(),
-        ));
-    }
-    for d in &destinations {
-        if let Destination::File(path) = d {
-            if args.files.iter().any(|input| same_file(path, input)) {
-                return Err(Error::OutputIsInput(path.clone()));
-            }
-        }
-    }
+    super::check_one_stdout(&destinations)?;
+    super::check_destinations(&destinations, &args.files)?;
     let stdout_taken = destinations.contains(&Destination::Stdout);
     let open = |path: &Option<String>| path.as_deref().map(|p| Sink::open(Destination::parse(p))).transpose();
     let (mut json, mut table, mut series_table) = (open(&args.report)?, open(&args.table)?, open(&args.series_table)?);
@@ -122,7 +116,6 @@ pub fn run(
             sink.flush()?;
         }
         let reports: Vec<SeriesReport> = reports.into_iter().map(|(r, _)| r).collect();
-        let csv = |e: polars::prelude::PolarsError| Error::Setting(format!("cannot render the table: {e}"));
         if let Some(sink) = &mut table {
             sink.held.extend_from_slice(&report::table_rows_csv(&reports, header).map_err(csv)?);
             sink.flush()?;
@@ -172,21 +165,20 @@ pub fn run(
         .par_iter()
         .map(|s| {
             let result = analysis::analyze_tabulated(s, settings);
-            bar.advance_by(1);
+            thetaseek::analysis::Progress::advance(&bar, 1);
             finish(SeriesReport::new(&result, None, detail))
         })
         .collect();
     emit(tabulated, &mut kept)?;
     bar.finish();
     // Critical-temperature and light-scattering series are few: added as the whole-run path does.
-    let mut report = Report { series: Vec::new(), ..Report::new(inputs, report_settings, run_warnings, &[], &dataset) };
+    let mut report = Report::new(inputs, report_settings, run_warnings, &[], &dataset);
     add_critical_series(&mut report, &critical, &volumes, settings);
     add_scattering_series(&mut report, &scattering, &volumes, settings);
     let others: Vec<(SeriesReport, Vec<u8>)> = std::mem::take(&mut report.series).into_iter().map(finish).collect();
     emit(others, &mut kept)?;
     if header {
         // No series at all reached a table: the files still get their header line.
-        let csv = |e: polars::prelude::PolarsError| Error::Setting(format!("cannot render the table: {e}"));
         if let Some(sink) = &mut table {
             sink.held.extend_from_slice(&report::table_rows_csv(&[], true).map_err(csv)?);
         }

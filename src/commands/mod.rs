@@ -119,13 +119,6 @@ impl Bar {
     }
 }
 
-impl Bar {
-    /// `n` more units done.
-    pub fn advance_by(&self, n: u64) {
-        self.0.inc(n);
-    }
-}
-
 impl thetaseek::analysis::Progress for Bar {
     fn advance(&self, n: u64) {
         self.0.inc(n);
@@ -145,12 +138,30 @@ pub fn print_terminal(report: &thetaseek::report::Report, stdout_taken: bool) {
 
 /// Refuses any output that would overwrite one of the inputs.
 pub fn check_outputs(outputs: &[PendingOutput], inputs: &[PathBuf]) -> Result<(), Error> {
-    for out in outputs {
-        if let Destination::File(path) = &out.destination {
+    check_destinations(outputs.iter().map(|o| &o.destination), inputs)
+}
+
+/// [`check_outputs`] on destinations alone (a campaign checks them before writing anything).
+pub fn check_destinations<'d>(
+    destinations: impl IntoIterator<Item = &'d Destination>,
+    inputs: &[PathBuf],
+) -> Result<(), Error> {
+    for destination in destinations {
+        if let Destination::File(path) = destination {
             if inputs.iter().any(|input| same_file(path, input)) {
                 return Err(Error::OutputIsInput(path.clone()));
             }
         }
+    }
+    Ok(())
+}
+
+/// `analyze` writes at most one of its report, table and series table to standard output.
+pub fn check_one_stdout<'d>(destinations: impl IntoIterator<Item = &'d Destination>) -> Result<(), Error> {
+    if destinations.into_iter().filter(|d| **d == Destination::Stdout).count() > 1 {
+        return Err(Error::Setting(
+            "only one of --report, --table and --series-table can go to standard output ('-')".into(),
+        ));
     }
     Ok(())
 }

@@ -123,7 +123,7 @@ pub fn read_file(
 
 /// [`read_file`] that frees the file's bytes as soon as the CSV reader has its text (a
 /// campaign's bytes and text would otherwise sit in memory together with its values).
-pub fn read_file_owned(
+fn read_file_owned(
     name: &str,
     file_index: usize,
     bytes: Vec<u8>,
