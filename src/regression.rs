@@ -170,27 +170,57 @@ impl GivensQr {
     }
 }
 
-/// Fits y = X β by weighted least squares. `design` holds n rows of p columns (row-major);
-/// `weights` are w_i (all one when `None`).
-pub fn fit(design: &[f64], p: usize, y: &[f64], weights: Option<&[f64]>, kind: Weights) -> Result<LinearFit, FitError> {
-    let n = y.len();
-    assert_eq!(design.len(), n * p, "design must have n·p entries");
+/// The solved core of a weighted least-squares problem: β̂, Cov(β̂) and the weighted RSS,
+/// with nothing stored per point (what comparing candidate models needs, on the stack).
+#[derive(Debug, Clone, Copy)]
+pub struct CoreFit {
+    p: usize,
+    n: usize,
+    qr: GivensQr,
+    scale: [f64; MAX_PARAMETERS],
+    /// Estimates β̂ (the first p entries).
+    pub coefficients: [f64; MAX_PARAMETERS],
+    /// Cov(β̂) (the leading p×p block).
+    pub covariance: [[f64; MAX_PARAMETERS]; MAX_PARAMETERS],
+    /// Weighted residual sum of squares Σ w_i (y_i − x_iᵀβ̂)².
+    pub rss_weighted: f64,
+    /// Residual degrees of freedom n − p.
+    pub dof: usize,
+    /// s = √(RSS_w / (n − p)) (NaN when n = p).
+    pub residual_sd: f64,
+}
+
+impl CoreFit {
+    /// Standard error √Cov(β̂)_jj.
+    pub fn se(&self, j: usize) -> f64 {
+        self.covariance[j][j].sqrt()
+    }
+}
+
+/// Solves y = X β by weighted least squares, row i of X given by `row(i)` (p ≤
+/// [`MAX_PARAMETERS`] columns), y_i by `y(i)` and w_i by `weight(i)`, with no allocation.
+pub fn fit_core(
+    n: usize,
+    p: usize,
+    row: impl Fn(usize) -> [f64; MAX_PARAMETERS],
+    y: impl Fn(usize) -> f64,
+    weight: impl Fn(usize) -> f64,
+    kind: Weights,
+) -> Result<CoreFit, FitError> {
     assert!(p <= MAX_PARAMETERS, "at most {MAX_PARAMETERS} parameters");
     if n < p {
         return Err(FitError::TooFewPoints { points: n, parameters: p });
     }
-    if let Some(w) = weights {
-        if w.len() != n || w.iter().any(|v| !(v.is_finite() && *v > 0.0)) {
-            return Err(FitError::BadWeight);
-        }
-    }
-    let w = |i: usize| weights.map_or(1.0, |w| w[i]);
     // Scale each weighted column to unit norm first, so that the rank test is relative and
     // columns of very different size (1, c, c²) do not trip it.
     let mut scale = [0.0; MAX_PARAMETERS];
     for i in 0..n {
+        let (x, w) = (row(i), weight(i));
+        if !(w.is_finite() && w > 0.0) {
+            return Err(FitError::BadWeight);
+        }
         for j in 0..p {
-            scale[j] += w(i) * design[i * p + j] * design[i * p + j];
+            scale[j] += w * x[j] * x[j];
         }
     }
     for s in scale.iter_mut().take(p) {
@@ -199,38 +229,88 @@ pub fn fit(design: &[f64], p: usize, y: &[f64], weights: Option<&[f64]>, kind: W
             return Err(FitError::RankDeficient);
         }
     }
-    let scaled_row = |i: usize| -> [f64; MAX_PARAMETERS] {
-        let sw = w(i).sqrt();
-        let mut x = [0.0; MAX_PARAMETERS];
-        for j in 0..p {
-            x[j] = design[i * p + j] * sw / scale[j];
-        }
-        x
-    };
     let mut qr = GivensQr::new(p);
-    for (i, &yi) in y.iter().enumerate() {
-        qr.add_row(&scaled_row(i), yi * w(i).sqrt());
+    for i in 0..n {
+        let (x, sw) = (row(i), weight(i).sqrt());
+        let mut scaled = [0.0; MAX_PARAMETERS];
+        for j in 0..p {
+            scaled[j] = x[j] * sw / scale[j];
+        }
+        qr.add_row(&scaled, y(i) * sw);
     }
     let tolerance = (n.max(p) as f64) * f64::EPSILON * 16.0;
     if (0..p).any(|j| qr.diagonal(j).is_nan() || qr.diagonal(j).abs() <= tolerance) {
         return Err(FitError::RankDeficient);
     }
     let beta_scaled = qr.solve();
-    let gram = qr.inverse_gram();
-
-    let coefficients: Vec<f64> = (0..p).map(|j| beta_scaled[j] / scale[j]).collect();
-    let fitted: Vec<f64> = (0..n).map(|i| (0..p).map(|j| design[i * p + j] * coefficients[j]).sum()).collect();
-    let residuals: Vec<f64> = y.iter().zip(&fitted).map(|(y, f)| y - f).collect();
-    let rss_weighted: f64 = residuals.iter().enumerate().map(|(i, e)| w(i) * e * e).sum();
+    let mut coefficients = [0.0; MAX_PARAMETERS];
+    for j in 0..p {
+        coefficients[j] = beta_scaled[j] / scale[j];
+    }
+    let rss_weighted: f64 = (0..n)
+        .map(|i| {
+            let x = row(i);
+            let e = y(i) - (0..p).map(|j| x[j] * coefficients[j]).sum::<f64>();
+            weight(i) * e * e
+        })
+        .sum();
     let dof = n - p;
     let residual_sd = if dof > 0 { (rss_weighted / dof as f64).sqrt() } else { f64::NAN };
     let s2 = match kind {
         Weights::Absolute => 1.0,
         Weights::Relative => residual_sd * residual_sd,
     };
-    let covariance: Vec<f64> = (0..p * p).map(|k| s2 * gram[k / p][k % p] / (scale[k / p] * scale[k % p])).collect();
-    let standard_errors = (0..p).map(|j| covariance[j * p + j].sqrt()).collect();
-    let leverage: Vec<f64> = (0..n).map(|i| qr.leverage(&scaled_row(i))).collect();
+    let gram = qr.inverse_gram();
+    let mut covariance = [[0.0; MAX_PARAMETERS]; MAX_PARAMETERS];
+    for i in 0..p {
+        for j in 0..p {
+            covariance[i][j] = s2 * gram[i][j] / (scale[i] * scale[j]);
+        }
+    }
+    Ok(CoreFit { p, n, qr, scale, coefficients, covariance, rss_weighted, dof, residual_sd })
+}
+
+/// Fits y = X β by weighted least squares. `design` holds n rows of p columns (row-major);
+/// `weights` are w_i (all one when `None`).
+pub fn fit(design: &[f64], p: usize, y: &[f64], weights: Option<&[f64]>, kind: Weights) -> Result<LinearFit, FitError> {
+    let n = y.len();
+    assert_eq!(design.len(), n * p, "design must have n·p entries");
+    if let Some(w) = weights {
+        if w.len() != n {
+            return Err(FitError::BadWeight);
+        }
+    }
+    let core = fit_core(n, p, |i| design_row(design, p, i), |i| y[i], |i| weights.map_or(1.0, |w| w[i]), kind)?;
+    Ok(complete(&core, design, y, weights))
+}
+
+fn design_row(design: &[f64], p: usize, i: usize) -> [f64; MAX_PARAMETERS] {
+    let mut x = [0.0; MAX_PARAMETERS];
+    x[..p].copy_from_slice(&design[i * p..(i + 1) * p]);
+    x
+}
+
+/// The per-point outputs (fitted values, residuals, leverages, studentised residuals, R²) of a
+/// solved core, for the design and data it was solved from.
+pub fn complete(core: &CoreFit, design: &[f64], y: &[f64], weights: Option<&[f64]>) -> LinearFit {
+    let (n, p) = (core.n, core.p);
+    let w = |i: usize| weights.map_or(1.0, |w| w[i]);
+    let coefficients = core.coefficients[..p].to_vec();
+    let fitted: Vec<f64> = (0..n).map(|i| (0..p).map(|j| design[i * p + j] * coefficients[j]).sum()).collect();
+    let residuals: Vec<f64> = y.iter().zip(&fitted).map(|(y, f)| y - f).collect();
+    let covariance: Vec<f64> = (0..p * p).map(|k| core.covariance[k / p][k % p]).collect();
+    let standard_errors = (0..p).map(|j| core.se(j)).collect();
+    let leverage: Vec<f64> = (0..n)
+        .map(|i| {
+            let (x, sw) = (design_row(design, p, i), w(i).sqrt());
+            let mut scaled = [0.0; MAX_PARAMETERS];
+            for j in 0..p {
+                scaled[j] = x[j] * sw / core.scale[j];
+            }
+            core.qr.leverage(&scaled)
+        })
+        .collect();
+    let residual_sd = core.residual_sd;
     let studentized = (0..n)
         .map(|i| {
             let denom = residual_sd * (1.0 - leverage[i]).max(0.0).sqrt();
@@ -244,8 +324,9 @@ pub fn fit(design: &[f64], p: usize, y: &[f64], weights: Option<&[f64]>, kind: W
     let w_sum: f64 = (0..n).map(w).sum();
     let y_mean = y.iter().enumerate().map(|(i, y)| w(i) * y).sum::<f64>() / w_sum;
     let tss: f64 = y.iter().enumerate().map(|(i, y)| w(i) * (y - y_mean).powi(2)).sum();
+    let rss_weighted = core.rss_weighted;
     let r_squared = if tss > 0.0 { 1.0 - rss_weighted / tss } else { f64::NAN };
-    Ok(LinearFit {
+    LinearFit {
         coefficients,
         covariance,
         standard_errors,
@@ -254,10 +335,10 @@ pub fn fit(design: &[f64], p: usize, y: &[f64], weights: Option<&[f64]>, kind: W
         leverage,
         studentized,
         rss_weighted,
-        dof,
+        dof: core.dof,
         residual_sd,
         r_squared,
-    })
+    }
 }
 
 /// Polynomial design matrix [1, x, x², …, x^degree], row-major.

@@ -7,7 +7,7 @@
 //!   so that A3 = Γ2² /(4 Mn)); fitted as a straight line α + β c in z = (Π/c)^½, giving
 //!   Mn = RT/α², A2 = 2αβ/(RT).
 
-use crate::regression::{self, FitError, LinearFit, Weights};
+use crate::regression::{self, CoreFit, FitError, LinearFit, Weights, MAX_PARAMETERS};
 use crate::units::GAS_CONSTANT_J_PER_MOL_K;
 use serde::Serialize;
 
@@ -123,59 +123,91 @@ pub enum FormError {
     SqrtNeedsPositivePressure,
 }
 
-/// Fits `form` to one temperature's readings.
-pub fn fit_form(form: VirialForm, r: &Readings) -> Result<FormFit, FormError> {
+/// One form solved at one temperature: the estimates and the RSS the forms are compared on,
+/// with nothing stored per point. The automatic choice scores every form and completes only
+/// the chosen one ([`FormScore::complete`]).
+#[derive(Debug, Clone, Copy)]
+pub struct FormScore {
+    /// Which form.
+    pub form: VirialForm,
+    /// 1/Mn in mol/kg.
+    pub inverse_mn: f64,
+    /// SE of 1/Mn, mol/kg.
+    pub inverse_mn_se: f64,
+    /// A2 in mol m³/kg².
+    pub a2: f64,
+    /// SE of A2.
+    pub a2_se: f64,
+    /// Cov(1/Mn, A2), mol² m³/kg³.
+    pub cov_inverse_mn_a2: f64,
+    /// A3 in mol m⁶/kg³ with its SE (quadratic form only).
+    pub a3: Option<(f64, f64)>,
+    /// Weighted RSS on the reduced-pressure scale.
+    pub rss_reduced: f64,
+    /// The solved linear problem on the form's own response scale.
+    pub core: CoreFit,
+}
+
+/// Solves `form` at one temperature without per-point output (no allocation).
+pub fn score_form(form: VirialForm, r: &Readings) -> Result<FormScore, FormError> {
     let kind = if r.pressure_sd.is_some() { Weights::Absolute } else { Weights::Relative };
-    let y = r.reduced();
-    let wy = r.reduced_weights();
+    let rt = GAS_CONSTANT_J_PER_MOL_K * r.temperature_k;
+    let (c, pressure) = (r.concentration, r.pressure);
+    let n = c.len();
+    let p = form.parameters();
+    let row = |i: usize| {
+        let mut x = [0.0; MAX_PARAMETERS];
+        let mut power = 1.0;
+        for xj in x.iter_mut().take(p) {
+            *xj = power;
+            power *= c[i];
+        }
+        x
+    };
+    // y = Π/(c R T) and its weight 1/σ_y², σ_y = σ_Π/(c R T), as in [`Readings::reduced`].
+    let reduced = |i: usize| pressure[i] / (c[i] * rt);
+    let reduced_weight = |i: usize| r.pressure_sd.map_or(1.0, |sd| (c[i] * rt / sd[i]).powi(2));
     match form {
         VirialForm::Linear | VirialForm::Quadratic => {
-            let degree = form.parameters() - 1;
-            let lsq = regression::fit(
-                &regression::polynomial_design(r.concentration, degree),
-                form.parameters(),
-                &y,
-                wy.as_deref(),
-                kind,
-            )?;
-            let a3 = (form == VirialForm::Quadratic).then(|| (lsq.coefficients[2], lsq.standard_errors[2]));
-            Ok(FormFit {
+            let core = regression::fit_core(n, p, row, reduced, reduced_weight, kind)?;
+            let a3 = (form == VirialForm::Quadratic).then(|| (core.coefficients[2], core.se(2)));
+            Ok(FormScore {
                 form,
-                inverse_mn: lsq.coefficients[0],
-                inverse_mn_se: lsq.standard_errors[0],
-                a2: lsq.coefficients[1],
-                a2_se: lsq.standard_errors[1],
-                cov_inverse_mn_a2: lsq.cov(0, 1),
+                inverse_mn: core.coefficients[0],
+                inverse_mn_se: core.se(0),
+                a2: core.coefficients[1],
+                a2_se: core.se(1),
+                cov_inverse_mn_a2: core.covariance[0][1],
                 a3,
-                fitted_reduced: lsq.fitted.clone(),
-                rss_reduced: lsq.rss_weighted,
-                lsq,
+                rss_reduced: core.rss_weighted,
+                core,
             })
         }
         VirialForm::Sqrt => {
-            if r.pressure.iter().any(|p| *p <= 0.0) {
+            if pressure.iter().any(|p| *p <= 0.0) {
                 return Err(FormError::SqrtNeedsPositivePressure);
             }
-            let z: Vec<f64> = r.pressure.iter().zip(r.concentration).map(|(p, c)| (p / c).sqrt()).collect();
+            let z = |i: usize| (pressure[i] / c[i]).sqrt();
             // σ_z = σ_Π / (2 c z) by first-order propagation of z = (Π/c)^½.
-            let wz: Option<Vec<f64>> = r.pressure_sd.map(|sd| {
-                sd.iter().zip(r.concentration).zip(&z).map(|((s, c), z)| (2.0 * c * z / s).powi(2)).collect()
-            });
-            let lsq = regression::fit(&regression::polynomial_design(r.concentration, 1), 2, &z, wz.as_deref(), kind)?;
-            let (alpha, beta) = (lsq.coefficients[0], lsq.coefficients[1]);
+            let wz = |i: usize| r.pressure_sd.map_or(1.0, |sd| (2.0 * c[i] * z(i) / sd[i]).powi(2));
+            let core = regression::fit_core(n, 2, row, z, wz, kind)?;
+            let (alpha, beta) = (core.coefficients[0], core.coefficients[1]);
             if beta < 0.0 {
                 return Err(FormError::SqrtNeedsPositiveA2);
             }
-            let rt = GAS_CONSTANT_J_PER_MOL_K * r.temperature_k;
             // 1/Mn = α²/RT, A2 = 2αβ/RT; Jacobian rows with respect to (α, β).
             let g_inv = [2.0 * alpha / rt, 0.0];
             let g_a2 = [2.0 * beta / rt, 2.0 * alpha / rt];
             let quad = |g: &[f64; 2], h: &[f64; 2]| -> f64 {
-                (0..2).map(|i| (0..2).map(|j| g[i] * lsq.cov(i, j) * h[j]).sum::<f64>()).sum()
+                (0..2).map(|i| (0..2).map(|j| g[i] * core.covariance[i][j] * h[j]).sum::<f64>()).sum()
             };
-            let fitted_reduced: Vec<f64> = lsq.fitted.iter().map(|zf| zf * zf / rt).collect();
-            let rss_reduced = rss(&y, &fitted_reduced, wy.as_deref());
-            Ok(FormFit {
+            let rss_reduced = (0..n)
+                .map(|i| {
+                    let zf = (0..2).map(|j| row(i)[j] * core.coefficients[j]).sum::<f64>();
+                    reduced_weight(i) * (reduced(i) - zf * zf / rt).powi(2)
+                })
+                .sum();
+            Ok(FormScore {
                 form,
                 inverse_mn: alpha * alpha / rt,
                 inverse_mn_se: quad(&g_inv, &g_inv).sqrt(),
@@ -183,14 +215,51 @@ pub fn fit_form(form: VirialForm, r: &Readings) -> Result<FormFit, FormError> {
                 a2_se: quad(&g_a2, &g_a2).sqrt(),
                 cov_inverse_mn_a2: quad(&g_inv, &g_a2),
                 a3: None,
-                fitted_reduced,
                 rss_reduced,
-                lsq,
+                core,
             })
         }
     }
 }
 
-fn rss(y: &[f64], fitted: &[f64], w: Option<&[f64]>) -> f64 {
-    y.iter().zip(fitted).enumerate().map(|(i, (y, f))| w.map_or(1.0, |w| w[i]) * (y - f).powi(2)).sum()
+impl FormScore {
+    /// The full fit, with fitted values, residuals and leverages, for the readings it was
+    /// scored on.
+    pub fn complete(self, r: &Readings) -> FormFit {
+        let rt = GAS_CONSTANT_J_PER_MOL_K * r.temperature_k;
+        let design = regression::polynomial_design(r.concentration, self.form.parameters() - 1);
+        let (lsq, fitted_reduced) = match self.form {
+            VirialForm::Linear | VirialForm::Quadratic => {
+                let lsq = regression::complete(&self.core, &design, &r.reduced(), r.reduced_weights().as_deref());
+                let fitted = lsq.fitted.clone();
+                (lsq, fitted)
+            }
+            VirialForm::Sqrt => {
+                let z: Vec<f64> = r.pressure.iter().zip(r.concentration).map(|(p, c)| (p / c).sqrt()).collect();
+                let wz: Option<Vec<f64>> = r.pressure_sd.map(|sd| {
+                    sd.iter().zip(r.concentration).zip(&z).map(|((s, c), z)| (2.0 * c * z / s).powi(2)).collect()
+                });
+                let lsq = regression::complete(&self.core, &design, &z, wz.as_deref());
+                let fitted = lsq.fitted.iter().map(|zf| zf * zf / rt).collect();
+                (lsq, fitted)
+            }
+        };
+        FormFit {
+            form: self.form,
+            inverse_mn: self.inverse_mn,
+            inverse_mn_se: self.inverse_mn_se,
+            a2: self.a2,
+            a2_se: self.a2_se,
+            cov_inverse_mn_a2: self.cov_inverse_mn_a2,
+            a3: self.a3,
+            fitted_reduced,
+            rss_reduced: self.rss_reduced,
+            lsq,
+        }
+    }
+}
+
+/// Fits `form` to one temperature's readings.
+pub fn fit_form(form: VirialForm, r: &Readings) -> Result<FormFit, FormError> {
+    Ok(score_form(form, r)?.complete(r))
 }

@@ -3,7 +3,7 @@
 
 mod forms;
 
-pub use forms::{fit_form, FormError, FormFit, Readings, VirialForm};
+pub use forms::{fit_form, score_form, FormError, FormFit, FormScore, Readings, VirialForm};
 
 use crate::dataset::TemperatureSet;
 use serde::Serialize;
@@ -171,23 +171,28 @@ pub fn fit_temperature(set: &TemperatureSet, choice: FormChoice) -> Result<Tempe
         pressure: &set.pressure_pa,
         pressure_sd: all_sd.as_deref(),
     };
-    let (fit, choice_reason, candidates) = match choice {
-        FormChoice::Fixed(form) => match fit_form(form, &readings) {
-            Ok(fit) => (fit, format!("{} form requested", form.name()), Vec::new()),
+    let (score, choice_reason, candidates, quadratic) = match choice {
+        FormChoice::Fixed(form) => match score_form(form, &readings) {
+            Ok(score) => (score, format!("{} form requested", form.name()), Vec::new(), None),
             Err(e) => {
-                let fit = fit_form(VirialForm::Linear, &readings).map_err(|e| skip(e.to_string()))?;
+                let score = score_form(VirialForm::Linear, &readings).map_err(|e| skip(e.to_string()))?;
                 warnings.push(FitWarning::FormFallback { requested: form, reason: e.to_string() });
-                (fit, format!("{} form requested but not applicable", form.name()), Vec::new())
+                (score, format!("{} form requested but not applicable", form.name()), Vec::new(), None)
             }
         },
-        FormChoice::Auto => choose_form(&readings).map_err(|e| skip(e.to_string()))?,
+        FormChoice::Auto => {
+            let chosen = choose_form(&readings).map_err(|e| skip(e.to_string()))?;
+            (chosen.score, chosen.reason, chosen.candidates, chosen.quadratic)
+        }
     };
-    if fit.inverse_mn <= 0.0 {
+    if score.inverse_mn <= 0.0 {
         return Err(skip(format!(
             "the intercept 1/Mn = {:.3e} mol/g is not positive: check the zero of the osmometer and the units",
-            fit.inverse_mn / 1000.0
+            score.inverse_mn / 1000.0
         )));
     }
+    // Only the chosen form gets its per-point output.
+    let fit = score.complete(&readings);
     if distinct < FEW_CONCENTRATIONS {
         warnings.push(FitWarning::FewConcentrations { n: distinct });
     }
@@ -210,7 +215,8 @@ pub fn fit_temperature(set: &TemperatureSet, choice: FormChoice) -> Result<Tempe
         warnings.push(FitWarning::LowMn { mn_g_per_mol: mn_g });
     }
     if fit.form == VirialForm::Linear {
-        if let Some(a3_t) = significant_curvature(&readings) {
+        let quadratic = quadratic.or_else(|| score_form(VirialForm::Quadratic, &readings).ok());
+        if let Some(a3_t) = quadratic.and_then(|q| significant_curvature(&q)) {
             warnings.push(FitWarning::Curvature { a3_t });
         }
     }
@@ -225,14 +231,29 @@ pub fn fit_temperature(set: &TemperatureSet, choice: FormChoice) -> Result<Tempe
     })
 }
 
+/// What the automatic choice settled on: the chosen form's score, why, the forms considered,
+/// and the quadratic form's score where it was computed (for the curvature check).
+#[derive(Debug, Clone)]
+pub struct Choice {
+    /// The chosen form, solved.
+    pub score: FormScore,
+    /// Why this form.
+    pub reason: String,
+    /// Every form with its AICc or why it was excluded.
+    pub candidates: Vec<Candidate>,
+    /// The quadratic form's score, if it was solved.
+    pub quadratic: Option<FormScore>,
+}
+
 /// The automatic choice: AICc on the reduced-pressure scale among the forms that apply and
 /// keep at least [`MIN_AUTO_DOF`] residual degrees of freedom; between the two-parameter forms
 /// the lower AICc wins, and the quadratic form must beat the better of them by
 /// [`QUADRATIC_AICC_MARGIN`]. When no form qualifies, linear is used.
-pub fn choose_form(readings: &Readings) -> Result<(FormFit, String, Vec<Candidate>), FormError> {
+pub fn choose_form(readings: &Readings) -> Result<Choice, FormError> {
     let n = readings.concentration.len();
-    let mut candidates = Vec::new();
-    let mut fits = Vec::new();
+    let mut candidates = Vec::with_capacity(VirialForm::ALL.len());
+    let mut scores: Vec<(f64, FormScore)> = Vec::with_capacity(VirialForm::ALL.len());
+    let mut quadratic_score = None;
     for form in VirialForm::ALL {
         let p = form.parameters();
         if n < p + MIN_AUTO_DOF {
@@ -246,25 +267,32 @@ pub fn choose_form(readings: &Readings) -> Result<(FormFit, String, Vec<Candidat
             });
             continue;
         }
-        match fit_form(form, readings) {
-            Ok(fit) => match aicc(fit.rss_reduced, n, p) {
-                Some(score) => {
-                    candidates.push(Candidate { form, aicc: Some(score), excluded: None });
-                    fits.push((score, fit));
+        match score_form(form, readings) {
+            Ok(score) => {
+                if form == VirialForm::Quadratic {
+                    quadratic_score = Some(score);
                 }
-                None => {
-                    candidates.push(Candidate { form, aicc: None, excluded: Some("too few points for AICc".into()) })
+                match aicc(score.rss_reduced, n, p) {
+                    Some(value) => {
+                        candidates.push(Candidate { form, aicc: Some(value), excluded: None });
+                        scores.push((value, score));
+                    }
+                    None => candidates.push(Candidate {
+                        form,
+                        aicc: None,
+                        excluded: Some("too few points for AICc".into()),
+                    }),
                 }
-            },
+            }
             Err(e) => candidates.push(Candidate { form, aicc: None, excluded: Some(e.to_string()) }),
         }
     }
-    let best_two = fits
+    let best_two = scores
         .iter()
         .filter(|(_, f)| f.form.parameters() == 2)
         .min_by(|a, b| a.0.total_cmp(&b.0))
         .map(|(s, f)| (*s, f.form));
-    let quadratic = fits.iter().find(|(_, f)| f.form == VirialForm::Quadratic).map(|(s, _)| *s);
+    let quadratic = scores.iter().find(|(_, f)| f.form == VirialForm::Quadratic).map(|(s, _)| *s);
     let (form, reason) = match (best_two, quadratic) {
         (Some((s2, form2)), Some(sq)) if sq < s2 - QUADRATIC_AICC_MARGIN => (
             VirialForm::Quadratic,
@@ -276,22 +304,21 @@ pub fn choose_form(readings: &Readings) -> Result<(FormFit, String, Vec<Candidat
         (None, Some(sq)) => (VirialForm::Quadratic, format!("only form that qualified (AICc {sq:.1})")),
         (None, None) => (VirialForm::Linear, format!("too few points to compare forms ({n}); linear used")),
     };
-    let fit = match fits.into_iter().find(|(_, f)| f.form == form) {
-        Some((_, fit)) => fit,
-        None => fit_form(form, readings)?,
+    let score = match scores.into_iter().find(|(_, f)| f.form == form) {
+        Some((_, score)) => score,
+        None => score_form(form, readings)?,
     };
-    Ok((fit, reason, candidates))
+    Ok(Choice { score, reason, candidates, quadratic: quadratic_score })
 }
 
 /// t of A3 in a quadratic fit when it exceeds the two-sided 95 % point of Student's t;
 /// `None` when not significant or not estimable (fewer than 2 residual degrees of freedom).
-fn significant_curvature(readings: &Readings) -> Option<f64> {
-    let fit = fit_form(VirialForm::Quadratic, readings).ok()?;
-    let dof = fit.lsq.dof;
+fn significant_curvature(quadratic: &FormScore) -> Option<f64> {
+    let dof = quadratic.core.dof;
     if dof < MIN_AUTO_DOF {
         return None;
     }
-    let (a3, se) = fit.a3?;
+    let (a3, se) = quadratic.a3?;
     let t = a3 / se;
     let critical = crate::uncertainty::critical_value(0.95, Some(dof));
     (t.abs() > critical).then_some(t)
