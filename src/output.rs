@@ -66,6 +66,8 @@ pub struct AtomicFile {
     temp: Option<tempfile::NamedTempFile>,
     temp_path: PathBuf,
     path: PathBuf,
+    /// A sync of what was written so far, running beside the writer ([`AtomicFile::sync_behind`]).
+    syncing: Option<std::thread::JoinHandle<io::Result<()>>>,
 }
 
 impl AtomicFile {
@@ -85,7 +87,12 @@ impl AtomicFile {
             let mode = std::fs::metadata(path).map(|m| m.permissions().mode() & 0o777).unwrap_or(0o644);
             temp.as_file().set_permissions(std::fs::Permissions::from_mode(mode))?;
         }
-        Ok(AtomicFile { temp_path: temp.path().to_path_buf(), temp: Some(temp), path: path.to_path_buf() })
+        Ok(AtomicFile {
+            temp_path: temp.path().to_path_buf(),
+            temp: Some(temp),
+            path: path.to_path_buf(),
+            syncing: None,
+        })
     }
 
     /// The temporary file, to write into.
@@ -93,8 +100,29 @@ impl AtomicFile {
         self.temp.as_mut().expect("present until commit").as_file_mut()
     }
 
+    /// Starts syncing what has been written so far on another thread, unless a sync is still
+    /// running, so that a long output reaches the disk while it is written and the final sync
+    /// in [`AtomicFile::commit`] has little left to wait for.
+    pub fn sync_behind(&mut self) -> io::Result<()> {
+        if self.syncing.as_ref().is_some_and(|s| !s.is_finished()) {
+            return Ok(());
+        }
+        self.join_sync()?;
+        let file = self.file().try_clone()?;
+        self.syncing = Some(std::thread::spawn(move || file.sync_data()));
+        Ok(())
+    }
+
+    fn join_sync(&mut self) -> io::Result<()> {
+        match self.syncing.take() {
+            Some(handle) => handle.join().unwrap_or_else(|_| Err(io::Error::other("the sync thread panicked"))),
+            None => Ok(()),
+        }
+    }
+
     /// Flushes to disk and renames over the destination.
     pub fn commit(mut self) -> io::Result<()> {
+        self.join_sync()?;
         let temp = self.temp.take().expect("present until commit");
         temp.as_file().sync_all()?;
         temp.persist(&self.path).map(|_| ()).map_err(|e| e.error)
@@ -154,6 +182,25 @@ mod tests {
         let names: Vec<_> = std::fs::read_dir(dir.path()).unwrap().map(|e| e.unwrap().file_name()).collect();
         assert_eq!(names, vec![std::ffi::OsString::from("report.json")]);
         assert!(!in_progress().iter().any(|p| p.starts_with(dir.path())));
+    }
+
+    #[test]
+    fn syncs_behind_the_writer_lose_nothing_and_an_uncommitted_file_still_vanishes() {
+        let dir = tempfile::tempdir().unwrap();
+        let target = dir.path().join("r.json");
+        let mut file = AtomicFile::create(&target).unwrap();
+        for part in [&b"{\"a\": "[..], b"1, ", b"\"b\": 2}"] {
+            file.file().write_all(part).unwrap();
+            file.sync_behind().unwrap();
+        }
+        file.commit().unwrap();
+        assert_eq!(std::fs::read(&target).unwrap(), b"{\"a\": 1, \"b\": 2}");
+        let mut abandoned = AtomicFile::create(&dir.path().join("t.csv")).unwrap();
+        abandoned.file().write_all(b"a,b\n").unwrap();
+        abandoned.sync_behind().unwrap();
+        drop(abandoned);
+        let names: Vec<_> = std::fs::read_dir(dir.path()).unwrap().map(|e| e.unwrap().file_name()).collect();
+        assert_eq!(names, vec![std::ffi::OsString::from("r.json")]);
     }
 
     #[test]
