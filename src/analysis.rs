@@ -53,6 +53,17 @@ pub enum Status {
     Refused,
 }
 
+impl Status {
+    /// The name reports and tables use.
+    pub fn name(self) -> &'static str {
+        match self {
+            Status::Ok => "ok",
+            Status::Partial => "partial",
+            Status::Refused => "refused",
+        }
+    }
+}
+
 /// Everything computed for one series.
 #[derive(Debug, Clone, PartialEq)]
 pub struct SeriesResult {

@@ -29,12 +29,12 @@ pub fn table_rows_csv(series_reports: &[super::SeriesReport], header: bool) -> P
     let mut chi2 = Vec::new();
     let mut warnings = Vec::new();
     for (s, f) in rows {
-        series.push(s.name.clone());
-        status.push(format!("{:?}", s.status).to_lowercase());
+        series.push(s.name.as_str());
+        status.push(s.status.name());
         t_k.push(f.temperature_k);
         t_c.push(f.temperature_c);
         n.push(f.n_points as u32);
-        form.push(f.virial_form.name().to_string());
+        form.push(f.virial_form.name());
         mn.push(f.mn_g_per_mol);
         mn_se.push(f.mn_se_g_per_mol);
         a2.push(f.a2_mol_ml_per_g2);
@@ -43,7 +43,11 @@ pub fn table_rows_csv(series_reports: &[super::SeriesReport], header: bool) -> P
         a3_se.push(f.a3_se_mol_ml2_per_g3);
         dof.push(f.dof as u32);
         chi2.push(f.reduced_chi2);
-        warnings.push(f.warnings.iter().map(|w| w.code.as_str()).collect::<Vec<_>>().join(";"));
+        warnings.push(match f.warnings.as_slice() {
+            [] => String::new(),
+            [one] => one.code.clone(),
+            many => many.iter().map(|w| w.code.as_str()).collect::<Vec<_>>().join(";"),
+        });
     }
     let height = series.len();
     let columns = vec![
@@ -101,7 +105,7 @@ pub fn series_table_rows_csv(
     let text = |f: &dyn Fn(&super::SeriesReport) -> String| -> Vec<String> { rows.iter().map(|s| f(s)).collect() };
     let columns = vec![
         Column::new("series".into(), text(&|s| s.name.clone())),
-        Column::new("status".into(), text(&|s| format!("{:?}", s.status).to_lowercase())),
+        Column::new("status".into(), rows.iter().map(|s| s.status.name()).collect::<Vec<_>>()),
         Column::new("theta (K)".into(), theta(&|t| t.theta_k)),
         Column::new("theta (C)".into(), theta(&|t| t.theta_c)),
         Column::new("theta se (K)".into(), theta(&|t| t.se_k)),

@@ -65,7 +65,7 @@ pub fn render_terminal(report: &Report) -> String {
     }
     let mut out = String::new();
     for s in &report.series {
-        let _ = writeln!(out, "series {}  [{}]", s.name, format!("{:?}", s.status).to_lowercase());
+        let _ = writeln!(out, "series {}  [{}]", s.name, s.status.name());
         if let Some(reason) = &s.reason {
             let _ = writeln!(out, "  {reason}");
         }
@@ -218,7 +218,7 @@ impl Tally {
         if super::needs_attention(s) {
             self.attention += 1;
             if self.shown.len() < DIGEST_SERIES {
-                let status = format!("{:?}", s.status).to_lowercase();
+                let status = s.status.name();
                 let what = match (&s.theta, &s.reason) {
                     (_, Some(reason)) => reason.clone(),
                     (Some(t), None) => theta_line(t),
