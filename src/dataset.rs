@@ -251,6 +251,9 @@ pub struct GroupedReadings {
     by_name: HashMap<std::sync::Arc<str>, usize>,
     current: Option<usize>,
     readings: usize,
+    /// Names of series given away by [`Self::take_finished`].
+    taken: std::collections::HashSet<std::sync::Arc<str>>,
+    reopened: Option<std::sync::Arc<str>>,
 }
 
 impl GroupedReadings {
@@ -277,6 +280,9 @@ impl GroupedReadings {
     fn index_of(&mut self, name: &std::sync::Arc<str>) -> usize {
         if let Some(&i) = self.by_name.get(name) {
             return i;
+        }
+        if self.reopened.is_none() && self.taken.contains(name) {
+            self.reopened = Some(name.clone());
         }
         if let Some(previous) = self.current {
             self.order[previous].1.shrink();
@@ -323,22 +329,46 @@ impl GroupedReadings {
     /// The series, in order of first appearance, temperatures ascending, each temperature the
     /// mean of its readings.
     pub fn into_series(self) -> Vec<Series> {
-        self.order
+        self.order.into_iter().map(|(name, sets)| finished_series(&name, sets)).collect()
+    }
+
+    /// Takes out the series that come before the one being read (the rows have moved past
+    /// them), in order of first appearance, as [`Self::into_series`] would give them. A later
+    /// reading of a taken series is kept apart and named by [`Self::reopened`]: the series
+    /// given away was incomplete.
+    pub fn take_finished(&mut self) -> Vec<Series> {
+        let Some(current) = self.current else { return Vec::new() };
+        let kept = self.order.split_off(current);
+        let finished = std::mem::replace(&mut self.order, kept);
+        self.by_name = self.order.iter().enumerate().map(|(i, (name, _))| (name.clone(), i)).collect();
+        self.current = Some(0);
+        finished
             .into_iter()
             .map(|(name, sets)| {
-                let mut temperatures = sets.sets;
-                temperatures.sort_by_key(|(key, _)| *key);
-                let temperatures = temperatures
-                    .into_iter()
-                    .map(|(_, mut set)| {
-                        set.temperature_k /= set.len() as f64;
-                        set
-                    })
-                    .collect();
-                Series { name: name.to_string(), temperatures, volumes: None }
+                let series = finished_series(&name, sets);
+                self.taken.insert(name);
+                series
             })
             .collect()
     }
+
+    /// A series that had readings again after it was taken by [`Self::take_finished`].
+    pub fn reopened(&self) -> Option<&str> {
+        self.reopened.as_deref()
+    }
+}
+
+fn finished_series(name: &str, sets: Sets) -> Series {
+    let mut temperatures = sets.sets;
+    temperatures.sort_by_key(|(key, _)| *key);
+    let temperatures = temperatures
+        .into_iter()
+        .map(|(_, mut set)| {
+            set.temperature_k /= set.len() as f64;
+            set
+        })
+        .collect();
+    Series { name: name.to_string(), temperatures, volumes: None }
 }
 
 #[cfg(test)]
@@ -391,5 +421,27 @@ mod tests {
                 assert_eq!((&s.concentration_kg_per_m3, &s.origins), (&t.concentration_kg_per_m3, &t.origins));
             }
         }
+    }
+
+    #[test]
+    fn series_taken_as_the_rows_move_on_are_the_series_grouped_at_once() {
+        let data: Vec<Measurement> =
+            (0..60).map(|i| m(["a", "b", "c", "d"][i / 15], 300.0 + (i % 3) as f64, i as f64)).collect();
+        let mut readings = GroupedReadings::default();
+        let mut taken = Vec::new();
+        for chunk in data.chunks(7) {
+            for reading in chunk {
+                readings.push(reading);
+            }
+            taken.extend(readings.take_finished());
+        }
+        assert_eq!(readings.reopened(), None);
+        taken.extend(readings.into_series());
+        assert_eq!(taken, group(&data));
+        // A taken series that comes back is named.
+        let mut readings = GroupedReadings::from(&data[..20]);
+        assert_eq!(readings.take_finished().len(), 1);
+        readings.push(&m("a", 310.0, 1.0));
+        assert_eq!(readings.reopened(), Some("a"));
     }
 }

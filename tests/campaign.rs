@@ -10,17 +10,26 @@ use common::thetaseek;
 /// `n` simulated series (truth known): Mn 100 kg/mol, A2 = 2e-3 (1 − θ/T) mol m³/kg² with θ
 /// spread over 300–309 K, and a small deterministic ripple standing in for noise.
 fn campaign(n: usize) -> String {
-    let mut text = String::from("series,temperature (K),concentration (g/L),pressure (Pa)\n");
-    let mut k = 0.0f64;
+    let mut text = String::from(HEADER);
     for i in 0..n {
-        let theta = 300.0 + (i % 10) as f64;
-        for t in [290.0, 300.0, 310.0, 320.0] {
-            for c in [1.0, 2.0, 3.0, 4.0, 5.0] {
-                k += 1.0;
-                let a2 = 2e-3 * (1.0 - theta / t);
-                let pressure = c * 8.314_462_618 * t * (1.0 / 100.0 + a2 * c) * (1.0 + 1e-3 * k.sin());
-                let _ = writeln!(text, "s{i:04},{t},{c},{pressure:.6}");
-            }
+        text.push_str(&series_rows(i, &[290.0, 300.0, 310.0, 320.0], 5));
+    }
+    text
+}
+
+const HEADER: &str = "series,temperature (K),concentration (g/L),pressure (Pa)\n";
+
+/// Rows of series `i` at `temperatures`, concentrations 1, 2, … `concentrations` g/L.
+fn series_rows(i: usize, temperatures: &[f64], concentrations: usize) -> String {
+    let mut text = String::new();
+    let theta = 300.0 + (i % 10) as f64;
+    for (j, &t) in temperatures.iter().enumerate() {
+        for n in 1..=concentrations {
+            let c = n as f64 * 5.0 / concentrations as f64;
+            let k = (i * 20 + j * concentrations + n) as f64;
+            let a2 = 2e-3 * (1.0 - theta / t);
+            let pressure = c * 8.314_462_618 * t * (1.0 / 100.0 + a2 * c) * (1.0 + 1e-3 * k.sin());
+            let _ = writeln!(text, "s{i:04},{t},{c},{pressure:.6}");
         }
     }
     text
@@ -141,4 +150,106 @@ fn a_campaign_refuses_to_write_over_its_input_before_analysing() {
     assert_eq!(out.status.code(), Some(2), "{}", String::from_utf8_lossy(&out.stderr));
     let names: Vec<_> = std::fs::read_dir(dir.path()).unwrap().map(|e| e.unwrap().file_name()).collect();
     assert_eq!(names.len(), 1, "nothing but the input: {names:?}");
+}
+
+/// Runs `analyze` on `files` in `dir` with every output, and gives the report (without its
+/// `inputs`), the two tables and the terminal text.
+fn outputs_of(dir: &std::path::Path, files: &[&str], tag: &str) -> (Value, Value, Vec<u8>, Vec<u8>, Vec<u8>) {
+    let (r, t, s) = (format!("r-{tag}.json"), format!("t-{tag}.csv"), format!("s-{tag}.csv"));
+    let out = thetaseek()
+        .current_dir(dir)
+        .arg("analyze")
+        .args(files)
+        .args(["--bootstrap", "3", "--report", &r, "--table", &t, "--series-table", &s])
+        .output()
+        .unwrap();
+    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+    let read = |name: &str| std::fs::read(dir.join(name)).unwrap();
+    let mut report: Value = serde_json::from_slice(&read(&r)).unwrap();
+    let inputs = report.as_object_mut().unwrap().remove("inputs").unwrap();
+    (report, inputs, read(&t), read(&s), out.stdout)
+}
+
+/// Writes `text` whole as `big.csv`, and split after `rows` data rows as `part1.csv` and
+/// `part2.csv` (each with the header): the split pair is read the usual way, after each other.
+/// Comment lines before part2's header keep every reading on the line it has in `big.csv`.
+fn big_and_split(dir: &std::path::Path, text: &str, rows: usize) {
+    std::fs::write(dir.join("big.csv"), text).unwrap();
+    let lines: Vec<&str> = text.lines().skip(1).collect();
+    std::fs::write(dir.join("part1.csv"), format!("{HEADER}{}\n", lines[..rows].join("\n"))).unwrap();
+    let padding = "#\n".repeat(rows);
+    std::fs::write(dir.join("part2.csv"), format!("{padding}{HEADER}{}\n", lines[rows..].join("\n"))).unwrap();
+}
+
+#[test]
+fn a_large_file_analysed_as_it_is_read_gives_what_the_usual_path_gives() {
+    // 2 500 series, 1.1 MB: read in blocks, each block's series analysed while the next is read.
+    let dir = tempfile::tempdir().unwrap();
+    let text = campaign(2500);
+    assert!(text.len() > thetaseek::input::BLOCK_BYTES * 2);
+    big_and_split(dir.path(), &text, 1250 * 20);
+    let (streamed, inputs, table, series_table, terminal) = outputs_of(dir.path(), &["big.csv"], "a");
+    let usual = outputs_of(dir.path(), &["part1.csv", "part2.csv"], "b");
+    assert_eq!(streamed, usual.0);
+    assert_eq!((table, series_table, terminal), (usual.2, usual.3, usual.4));
+    assert_eq!(streamed["series"].as_array().unwrap().len(), 2500);
+    // The file's SHA-256, known only at its end, is written into the report's opening.
+    let digest = thetaseek::report::InputFile::new("big.csv", text.as_bytes()).sha256;
+    assert_eq!(inputs, serde_json::json!([{ "path": "big.csv", "sha256": digest }]));
+}
+
+#[test]
+fn a_series_that_comes_back_later_in_a_large_file_is_read_again_the_usual_way() {
+    let dir = tempfile::tempdir().unwrap();
+    let mut text = campaign(1500);
+    // Series s0000 again at the very end, at a temperature of its own.
+    text.push_str(&series_rows(0, &[330.0], 5));
+    big_and_split(dir.path(), &text, 750 * 20);
+    let (streamed, _, table, series_table, terminal) = outputs_of(dir.path(), &["big.csv"], "a");
+    let usual = outputs_of(dir.path(), &["part1.csv", "part2.csv"], "b");
+    assert_eq!(streamed, usual.0);
+    assert_eq!((table, series_table, terminal), (usual.2, usual.3, usual.4));
+    assert_eq!(streamed["series"][0]["fits"].as_array().unwrap().len(), 5);
+    let leftovers: Vec<_> = std::fs::read_dir(dir.path())
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .filter(|n| n.ends_with(".part"))
+        .collect();
+    assert!(leftovers.is_empty(), "{leftovers:?}");
+}
+
+#[test]
+fn a_large_file_of_few_series_is_reported_in_full() {
+    // 150 series of 160 readings: more than a block, too few series for a campaign.
+    let dir = tempfile::tempdir().unwrap();
+    let mut text = String::from(HEADER);
+    for i in 0..150 {
+        text.push_str(&series_rows(i, &[290.0, 300.0, 310.0, 320.0], 40));
+    }
+    assert!(text.len() > thetaseek::input::BLOCK_BYTES);
+    big_and_split(dir.path(), &text, 75 * 160);
+    let (streamed, _, table, series_table, terminal) = outputs_of(dir.path(), &["big.csv"], "a");
+    let usual = outputs_of(dir.path(), &["part1.csv", "part2.csv"], "b");
+    assert_eq!(streamed["settings"]["report_detail"], "full");
+    assert_eq!(streamed, usual.0);
+    assert_eq!((table, series_table, terminal), (usual.2, usual.3, usual.4));
+}
+
+#[test]
+fn a_bad_row_late_in_a_large_file_fails_the_run_and_writes_nothing() {
+    let dir = tempfile::tempdir().unwrap();
+    let mut text = campaign(2500);
+    text.push_str("s9999,300,1,twelve\n");
+    let line = text.lines().count();
+    std::fs::write(dir.path().join("big.csv"), &text).unwrap();
+    let out = thetaseek()
+        .current_dir(dir.path())
+        .args(["analyze", "big.csv", "--bootstrap", "0", "--report", "r.json", "--table", "t.csv", "-q"])
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(65), "{}", String::from_utf8_lossy(&out.stderr));
+    let message = String::from_utf8_lossy(&out.stderr);
+    assert!(message.contains(&format!("line {line}")) && message.contains("twelve"), "{message}");
+    let names: Vec<_> = std::fs::read_dir(dir.path()).unwrap().map(|e| e.unwrap().file_name()).collect();
+    assert_eq!(names, vec![std::ffi::OsString::from("big.csv")], "nothing but the input");
 }

@@ -1,5 +1,6 @@
 //! `thetaseek analyze`: read → group → fit → θ → report.
 
+use super::campaign::Streamed;
 use super::{check_outputs, load, write_outputs, Bar, Loaded, PendingOutput};
 use crate::cli::{AnalyzeArgs, DetailArg, ReadArgs, VirialArg};
 use thetaseek::analysis::{self, Settings, Status};
@@ -23,12 +24,7 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
             args.bootstrap, args.max_bootstrap
         )));
     }
-    let loaded = load(&args.files, &options, args.read.max_input_mb)?;
-    let series_count = loaded.dataset.series.len()
-        + loaded.dataset.tabulated.len()
-        + names_in_order(loaded.critical.iter().map(|r| r.series.as_str())).len()
-        + names_in_order(loaded.scattering.iter().map(|r| r.series.as_str())).len();
-    let report_settings = ReportSettings {
+    let report_settings = |series_count: usize| ReportSettings {
         temperature_unit: options.temperature_unit.map(|u| u.to_string()),
         concentration_unit: options.concentration_unit.map(|u| u.to_string()),
         pressure_unit: options.pressure_unit.map(|u| u.to_string()),
@@ -42,8 +38,24 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
         report_detail: detail(args, series_count),
         ..ReportSettings::new(&format!("{:?}", args.read.virial).to_lowercase())
     };
+    let figures_wanted = args.figures.is_some() || args.html.is_some();
+    // One large osmometry file is analysed as it is read (see `campaign::stream`).
+    let loaded = if args.files.len() == 1 && !figures_wanted {
+        match super::campaign::stream(args, &options, &settings, report_settings)? {
+            Streamed::Done => return Ok(()),
+            Streamed::Loaded(loaded) => loaded,
+            Streamed::Reread => load(&args.files, &options, args.read.max_input_mb)?,
+        }
+    } else {
+        load(&args.files, &options, args.read.max_input_mb)?
+    };
+    let series_count = loaded.dataset.series.len()
+        + loaded.dataset.tabulated.len()
+        + names_in_order(loaded.critical.iter().map(|r| r.series.as_str())).len()
+        + names_in_order(loaded.scattering.iter().map(|r| r.series.as_str())).len();
+    let report_settings = report_settings(series_count);
     // A campaign without figures is analysed and written a chunk of series at a time.
-    if series_count > report::CAMPAIGN_SERIES && args.figures.is_none() && args.html.is_none() {
+    if series_count > report::CAMPAIGN_SERIES && !figures_wanted {
         return super::campaign::run(args, loaded, &settings, report_settings);
     }
     let Loaded { inputs, dataset, warnings: run_warnings, critical, volumes, scattering } = loaded;

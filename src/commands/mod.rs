@@ -83,9 +83,9 @@ pub fn read_input(path: &Path, max_mb: u64) -> Result<Vec<u8>, Error> {
 
 /// A reader that hashes every byte it passes on, so that a file read a block at a time is
 /// still recorded with its SHA-256.
-struct Hashing<R> {
+pub(crate) struct Hashing<R> {
     inner: R,
-    hasher: sha2::Sha256,
+    pub(crate) hasher: sha2::Sha256,
 }
 
 impl<R: std::io::Read> std::io::Read for Hashing<R> {
@@ -111,6 +111,11 @@ impl Bar {
             bar.set_style(style.progress_chars("=> "));
         }
         Bar(bar)
+    }
+
+    /// Sets the units of work the bar counts to (a streamed run knows them only at the end).
+    pub fn set_total(&self, total: u64) {
+        self.0.set_length(total);
     }
 
     /// Removes the bar from the terminal.
@@ -201,32 +206,64 @@ pub struct Loaded {
 
 /// Reads every data file (osmometry, A2 or χ tables) into one dataset.
 pub fn load(files: &[PathBuf], options: &ReadOptions, max_mb: u64) -> Result<Loaded, Error> {
-    let mut inputs = Vec::new();
-    let mut readings = thetaseek::dataset::GroupedReadings::default();
-    let (mut a2_rows, mut chi_rows): (Vec<TabulatedRow>, Vec<TabulatedRow>) = (Vec::new(), Vec::new());
-    let (mut volumes, mut solvents) = (Vec::new(), Vec::new());
-    let mut critical = Vec::new();
-    let mut scattering = Vec::new();
-    let mut warnings = Vec::new();
+    let mut loading = Loading::default();
     for (index, path) in files.iter().enumerate() {
         let name = path.display().to_string();
-        let mut source = Hashing { inner: open_input(path, max_mb)?, hasher: sha2::Sha256::default() };
+        let mut source = hashing(open_input(path, max_mb)?);
         let contents = input::read_source(&name, index, &mut source, options, input::BLOCK_BYTES)?;
-        inputs.push(InputFile::from_digest(&name, &sha2::Digest::finalize(source.hasher)));
-        for column in &contents.ignored_columns {
-            warnings.push(format!("{name}: column '{column}' is not used"));
-        }
-        readings.absorb(contents.readings);
+        loading.add(&name, &sha2::Digest::finalize(source.hasher), contents);
+    }
+    Ok(loading.finish())
+}
+
+pub(crate) fn hashing(file: std::fs::File) -> Hashing<std::fs::File> {
+    Hashing { inner: file, hasher: sha2::Sha256::default() }
+}
+
+/// Files read so far, gathered into what [`Loaded`] holds.
+#[derive(Default)]
+pub(crate) struct Loading {
+    inputs: Vec<InputFile>,
+    readings: thetaseek::dataset::GroupedReadings,
+    a2_rows: Vec<TabulatedRow>,
+    chi_rows: Vec<TabulatedRow>,
+    volumes: Vec<(String, thetaseek::theta::Volumes)>,
+    solvents: Vec<(String, String)>,
+    critical: Vec<input::CriticalRow>,
+    scattering: Vec<input::ScatteringRow>,
+    warnings: Vec<String>,
+}
+
+impl Loading {
+    pub(crate) fn add(&mut self, name: &str, digest: &[u8], contents: input::FileContents) {
+        self.inputs.push(InputFile::from_digest(name, digest));
+        self.warnings.extend(unused_columns(name, &contents.ignored_columns));
+        self.readings.absorb(contents.readings);
         match contents.quantity {
-            Some(Quantity::SecondVirial) => a2_rows.extend(contents.tabulated),
-            Some(Quantity::HalfMinusChi) => chi_rows.extend(contents.tabulated),
+            Some(Quantity::SecondVirial) => self.a2_rows.extend(contents.tabulated),
+            Some(Quantity::HalfMinusChi) => self.chi_rows.extend(contents.tabulated),
             None => {}
         }
-        volumes.extend(contents.volumes);
-        solvents.extend(contents.solvents);
-        critical.extend(contents.critical);
-        scattering.extend(contents.scattering);
+        self.volumes.extend(contents.volumes);
+        self.solvents.extend(contents.solvents);
+        self.critical.extend(contents.critical);
+        self.scattering.extend(contents.scattering);
     }
-    let dataset = Dataset::new(readings, &a2_rows, &chi_rows, &volumes, &solvents);
-    Ok(Loaded { inputs, dataset, warnings, critical, volumes, scattering })
+
+    pub(crate) fn finish(self) -> Loaded {
+        let dataset = Dataset::new(self.readings, &self.a2_rows, &self.chi_rows, &self.volumes, &self.solvents);
+        Loaded {
+            inputs: self.inputs,
+            dataset,
+            warnings: self.warnings,
+            critical: self.critical,
+            volumes: self.volumes,
+            scattering: self.scattering,
+        }
+    }
+}
+
+/// The run-level warning for each header cell that was not used.
+pub(crate) fn unused_columns(name: &str, columns: &[String]) -> Vec<String> {
+    columns.iter().map(|column| format!("{name}: column '{column}' is not used")).collect()
 }

@@ -17,82 +17,180 @@ use std::collections::HashMap;
 use std::io::Read;
 
 /// Bytes read per block of a large osmometry file.
-pub const BLOCK_BYTES: usize = 4 << 20;
+pub const BLOCK_BYTES: usize = 512 << 10;
 
 /// Reads one CSV from `source`: an osmometry file larger than `block_bytes` a block at a
 /// time, any other file whole (through [`read_file_owned`]).
 pub fn read_source(
     name: &str,
     file_index: usize,
-    source: &mut dyn Read,
+    source: &mut (dyn Read + Send),
     options: &ReadOptions,
     block_bytes: usize,
 ) -> Result<FileContents, InputError> {
-    let io = |e: std::io::Error| InputError::file(name, format!("cannot read the file: {e}"));
-    let mut buffer = Vec::new();
-    let mut at_end = fill(source, &mut buffer, block_bytes).map_err(io)?;
-    // Read on until the header line is complete (a block may end inside it) or the file ends.
-    let header = loop {
-        match scan_header(&buffer) {
-            Some(h) if at_end || buffer[..h.data_start].ends_with(b"\n") => break Some(h),
-            None if at_end => break None,
-            _ => at_end = fill(source, &mut buffer, block_bytes).map_err(io)?,
+    match BlockReader::open(name, file_index, source, options, block_bytes)? {
+        Opened::Whole(contents) => Ok(*contents),
+        Opened::Blocks(mut reader) => {
+            while reader.next_block()? {}
+            reader.finish()
         }
-    };
-    let header = header.filter(|_| !at_end);
-    let cells: Vec<super::HeaderCell> =
-        header.as_ref().map(|h| h.fields.iter().map(|f| parse_header_cell(f)).collect()).unwrap_or_default();
-    let osmometry = header.is_some()
-        && cells.iter().any(|c| matches!(c.role, Some(Role::Pressure) | Some(Role::Head)))
-        && std::str::from_utf8(&buffer[..header.as_ref().map_or(0, |h| h.data_start)]).is_ok();
-    let Some(header) = header.filter(|_| osmometry) else {
-        source.read_to_end(&mut buffer).map_err(io)?;
-        return read_file_owned(name, file_index, buffer, options);
-    };
-    let roles = locate_roles(name, header.line, &cells)?;
-    let header_bytes = buffer[..header.data_start].to_vec();
-    buffer.drain(..header.data_start);
-    let mut line = header.data_line;
-    let mut readings = GroupedReadings::default();
-    let mut merged = Merged::default();
-    let mut any_row = false;
-    loop {
-        let block = scan_records(&buffer, line, at_end);
+    }
+}
+
+/// What [`BlockReader::open`] found.
+pub enum Opened<'a> {
+    /// The file was small or not an osmometry file: read whole.
+    Whole(Box<FileContents>),
+    /// An osmometry file larger than one block, ready to be read block by block.
+    Blocks(Box<BlockReader<'a>>),
+}
+
+/// A large osmometry file being read a block at a time: each [`BlockReader::next_block`]
+/// adds one block's readings to [`BlockReader::readings`], from which a caller may take the
+/// series the file has moved past ([`GroupedReadings::take_finished`]).
+pub struct BlockReader<'a> {
+    name: &'a str,
+    file_index: usize,
+    source: &'a mut (dyn Read + Send),
+    options: &'a ReadOptions,
+    block_bytes: usize,
+    buffer: Vec<u8>,
+    at_end: bool,
+    header_line: usize,
+    fields: Vec<String>,
+    header_bytes: Vec<u8>,
+    cells: Vec<super::HeaderCell>,
+    roles: HashMap<Role, usize>,
+    line: usize,
+    merged: Merged,
+    any_row: bool,
+    /// The readings grouped so far.
+    pub readings: GroupedReadings,
+}
+
+impl<'a> BlockReader<'a> {
+    /// Reads the first block and the header; a file that is not an osmometry file larger than
+    /// `block_bytes` is read whole at once.
+    pub fn open(
+        name: &'a str,
+        file_index: usize,
+        source: &'a mut (dyn Read + Send),
+        options: &'a ReadOptions,
+        block_bytes: usize,
+    ) -> Result<Opened<'a>, InputError> {
+        let io = |e: std::io::Error| InputError::file(name, format!("cannot read the file: {e}"));
+        let mut buffer = Vec::new();
+        let mut at_end = fill(source, &mut buffer, block_bytes).map_err(io)?;
+        // Read on until the header line is complete (a block may end inside it) or the file ends.
+        let header = loop {
+            match scan_header(&buffer) {
+                Some(h) if at_end || buffer[..h.data_start].ends_with(b"\n") => break Some(h),
+                None if at_end => break None,
+                _ => at_end = fill(source, &mut buffer, block_bytes).map_err(io)?,
+            }
+        };
+        let header = header.filter(|_| !at_end);
+        let cells: Vec<super::HeaderCell> =
+            header.as_ref().map(|h| h.fields.iter().map(|f| parse_header_cell(f)).collect()).unwrap_or_default();
+        let osmometry = header.is_some()
+            && cells.iter().any(|c| matches!(c.role, Some(Role::Pressure) | Some(Role::Head)))
+            && std::str::from_utf8(&buffer[..header.as_ref().map_or(0, |h| h.data_start)]).is_ok();
+        let Some(header) = header.filter(|_| osmometry) else {
+            source.read_to_end(&mut buffer).map_err(io)?;
+            return read_file_owned(name, file_index, buffer, options).map(|c| Opened::Whole(Box::new(c)));
+        };
+        let roles = locate_roles(name, header.line, &cells)?;
+        let header_bytes = buffer[..header.data_start].to_vec();
+        buffer.drain(..header.data_start);
+        Ok(Opened::Blocks(Box::new(BlockReader {
+            name,
+            file_index,
+            source,
+            options,
+            block_bytes,
+            buffer,
+            at_end,
+            header_line: header.line,
+            fields: header.fields,
+            header_bytes,
+            cells,
+            roles,
+            line: header.data_line,
+            merged: Merged::default(),
+            any_row: false,
+            readings: GroupedReadings::default(),
+        })))
+    }
+
+    /// Header cells that were not recognised and so are not used.
+    pub fn ignored_columns(&self) -> Vec<String> {
+        self.cells.iter().filter(|c| c.role.is_none()).map(|c| c.raw.clone()).collect()
+    }
+
+    /// Reads, checks and groups the records of the block in hand, then reads the next block;
+    /// false once the file is done.
+    pub fn next_block(&mut self) -> Result<bool, InputError> {
+        let name = self.name;
+        let block = scan_records(&self.buffer, self.line, self.at_end);
         if !block.records.is_empty() {
-            let text = &buffer[..block.consumed];
-            check_utf8_from(name, text, line)?;
-            any_row |= block.records.iter().any(|r| !r.blank);
-            let layout = Layout { header_line: header.line, header: header.fields.clone(), records: block.records };
+            let text = &self.buffer[..block.consumed];
+            check_utf8_from(name, text, self.line)?;
+            self.any_row |= block.records.iter().any(|r| !r.blank);
+            let layout = Layout { header_line: self.header_line, header: self.fields.clone(), records: block.records };
             check_structure(name, &layout)?;
-            let frame = parse_with_polars(name, &[&header_bytes[..], text].concat())?;
-            let table = Table::from_frame(name, file_index, cells.clone(), layout, roles.clone(), frame, true)?;
-            let columns = read_osmometry(&table, options)?;
-            merged.add(&table)?;
+            let frame = parse_with_polars(name, &[&self.header_bytes[..], text].concat(), Some(1))?;
+            let table =
+                Table::from_frame(name, self.file_index, self.cells.clone(), layout, self.roles.clone(), frame, true)?;
+            let columns = read_osmometry(&table, self.options)?;
+            self.merged.add(&table)?;
             drop(table);
-            columns.group_into(&mut readings);
+            columns.group_into(&mut self.readings);
         }
-        buffer.drain(..block.consumed);
-        line = block.next_line;
-        if at_end {
-            break;
+        self.buffer.drain(..block.consumed);
+        self.line = block.next_line;
+        if self.at_end {
+            return Ok(false);
         }
-        at_end = fill(source, &mut buffer, block_bytes).map_err(io)?;
+        self.at_end = fill(self.source, &mut self.buffer, self.block_bytes)
+            .map_err(|e| InputError::file(name, format!("cannot read the file: {e}")))?;
+        Ok(true)
     }
-    if !any_row {
-        return Err(InputError::at(name, header.line, None, None, "the header has no data rows under it"));
+
+    /// v̄ and V1 the file gives for `series` so far (the first given).
+    pub fn volumes_of(&self, series: &str) -> Option<Volumes> {
+        self.merged.seen_volumes.get(series).map(|&i| self.merged.volumes[i].1)
     }
-    merged.decide()?;
-    Ok(FileContents {
-        readings,
-        volumes: merged.volumes.into_iter().map(|(s, v, _)| (s, v)).collect(),
-        solvents: merged.solvents.into_iter().map(|(s, v, _)| (s, v)).collect(),
-        ignored_columns: cells.iter().filter(|c| c.role.is_none()).map(|c| c.raw.clone()).collect(),
-        ..FileContents::default()
-    })
+
+    /// The solvent the file gives for `series` so far.
+    pub fn solvent_of(&self, series: &str) -> Option<&str> {
+        self.merged.seen_solvent.get(series).map(|&i| self.merged.solvents[i].1.as_str())
+    }
+
+    /// The checks that need the whole file, then everything read (the readings not taken).
+    pub fn finish(mut self) -> Result<FileContents, InputError> {
+        if !self.any_row {
+            return Err(InputError::at(
+                self.name,
+                self.header_line,
+                None,
+                None,
+                "the header has no data rows under it",
+            ));
+        }
+        self.merged.decide()?;
+        let ignored_columns = self.ignored_columns();
+        Ok(FileContents {
+            readings: self.readings,
+            volumes: self.merged.volumes.into_iter().map(|(s, v, _)| (s, v)).collect(),
+            solvents: self.merged.solvents.into_iter().map(|(s, v, _)| (s, v)).collect(),
+            ignored_columns,
+            ..FileContents::default()
+        })
+    }
 }
 
 /// Reads until `buffer` holds at least `block_bytes` or the source ends; true at the end.
-fn fill(source: &mut dyn Read, buffer: &mut Vec<u8>, block_bytes: usize) -> std::io::Result<bool> {
+fn fill(source: &mut (dyn Read + Send), buffer: &mut Vec<u8>, block_bytes: usize) -> std::io::Result<bool> {
     let target = buffer.len() + block_bytes;
     while buffer.len() < target {
         let before = buffer.len();

@@ -11,7 +11,7 @@ mod blocks;
 mod columns;
 mod scan;
 
-pub use blocks::{read_source, BLOCK_BYTES};
+pub use blocks::{read_source, BlockReader, Opened, BLOCK_BYTES};
 pub use columns::{parse_header_cell, HeaderCell, Role};
 pub use scan::{scan, Layout, RecordLine};
 
@@ -317,8 +317,11 @@ fn check_structure(name: &str, layout: &Layout) -> Result<(), InputError> {
     Ok(())
 }
 
-fn parse_with_polars(name: &str, bytes: &[u8]) -> Result<DataFrame, InputError> {
+/// Parses CSV text with polars, every column as text; `threads` limits polars' own threads (a
+/// block of a large file is parsed on one, while the series before it are analysed).
+fn parse_with_polars(name: &str, bytes: &[u8], threads: Option<usize>) -> Result<DataFrame, InputError> {
     CsvReadOptions::default()
+        .with_n_threads(threads)
         .with_has_header(true)
         .with_infer_schema_length(Some(0))
         .with_parse_options(CsvParseOptions::default().with_comment_prefix(Some("#")))
@@ -396,7 +399,7 @@ impl<'a> Table<'a> {
         if layout.records.iter().all(|r| r.blank) {
             return Err(InputError::at(name, layout.header_line, None, None, "the header has no data rows under it"));
         }
-        let frame = parse_with_polars(name, bytes)?;
+        let frame = parse_with_polars(name, bytes, None)?;
         Table::from_frame(name, file_index, cells, layout, roles, frame, false)
     }
 

@@ -69,7 +69,7 @@ pub fn table_rows_csv(series_reports: &[super::SeriesReport], header: bool) -> P
     ];
     let mut frame = DataFrame::new(height, columns)?;
     let mut bytes = Vec::new();
-    CsvWriter::new(&mut bytes).include_header(header).finish(&mut frame)?;
+    CsvWriter::new(&mut bytes).include_header(header).n_threads(1).finish(&mut frame)?;
     Ok(bytes)
 }
 
@@ -131,6 +131,6 @@ pub fn series_table_rows_csv(
     ];
     let mut frame = DataFrame::new(rows.len(), columns)?;
     let mut bytes = Vec::new();
-    CsvWriter::new(&mut bytes).include_header(header).finish(&mut frame)?;
+    CsvWriter::new(&mut bytes).include_header(header).n_threads(1).finish(&mut frame)?;
     Ok(bytes)
 }
