@@ -68,8 +68,9 @@ impl LinearFit {
     }
 }
 
-/// Most parameters [`fit`] takes (the per-temperature forms have 2 or 3, the joint fit a few).
-pub const MAX_PARAMETERS: usize = 8;
+/// Most parameters [`fit`] takes: the per-temperature forms and the curved θ model have 2 or 3
+/// (kept small: a factorisation on the stack is copied as the forms are compared).
+pub const MAX_PARAMETERS: usize = 4;
 
 /// The triangular factor of a QR decomposition built one row at a time by Givens rotations:
 /// R (p×p, upper) and Qᵀy, on the stack (Golub & Van Loan 2013, "Matrix Computations", §5.1.8
