@@ -679,7 +679,10 @@ impl ReportStream {
 
 /// One series as compact JSON, for [`ReportStream::push`].
 pub fn series_json(series: &SeriesReport) -> Vec<u8> {
-    serde_json::to_vec(series).expect("a series report holds only serialisable values")
+    // A campaign's series take about 6 kB: one allocation instead of a doubling from 128 bytes.
+    let mut bytes = Vec::with_capacity(8 << 10);
+    serde_json::to_writer(&mut bytes, series).expect("a series report holds only serialisable values");
+    bytes
 }
 
 /// The analysis report as JSON: pretty for a few series, compact for a campaign.
