@@ -196,6 +196,13 @@ fn a_large_file_analysed_as_it_is_read_gives_what_the_usual_path_gives() {
     // The file's SHA-256, known only at its end, is written into the report's opening.
     let digest = thetaseek::report::InputFile::new("big.csv", text.as_bytes()).sha256;
     assert_eq!(inputs, serde_json::json!([{ "path": "big.csv", "sha256": digest }]));
+    // To standard output, held until the end, the report has the same bytes.
+    let out = thetaseek()
+        .current_dir(dir.path())
+        .args(["analyze", "big.csv", "--bootstrap", "3", "--report", "-", "-q"])
+        .output()
+        .unwrap();
+    assert_eq!(out.stdout, std::fs::read(dir.path().join("r-a.json")).unwrap());
 }
 
 #[test]
