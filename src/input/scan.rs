@@ -88,24 +88,34 @@ pub fn scan_records(bytes: &[u8], first_line: usize, at_end: bool) -> Records {
     let mut line = first_line;
     let mut pos = 0usize;
     while pos < bytes.len() {
-        let (end, next, newlines) = record_end(bytes, pos);
+        // One pass over the record's bytes: where it ends, its fields, whether it is blank.
+        let (mut in_quotes, mut newlines, mut n_fields, mut blank) = (false, 0, 1, true);
+        let mut i = pos;
+        let end = loop {
+            let Some(&b) = bytes.get(i) else { break bytes.len() };
+            match b {
+                b'"' => in_quotes = !in_quotes,
+                b'\n' if !in_quotes => break i,
+                b'\n' => newlines += 1,
+                b',' if !in_quotes => n_fields += 1,
+                _ => {}
+            }
+            blank &= b.is_ascii_whitespace() || b == b',';
+            i += 1;
+        };
         if !at_end && end == bytes.len() {
             break;
         }
-        let text = &bytes[pos..end];
-        let text = text.strip_suffix(b"\r").unwrap_or(text);
+        let next = if end < bytes.len() { end + 1 } else { end };
         let start_line = line;
+        line += newlines + usize::from(end < bytes.len());
+        let comment = bytes[pos] == b'#';
         pos = next;
-        line += newlines;
-        if text.first() == Some(&b'#') {
+        if comment {
             continue;
         }
         // Data rows are only counted, not copied: this pass runs over every byte.
-        records.push(RecordLine {
-            line: start_line,
-            n_fields: count_fields(text),
-            blank: text.iter().all(|b| b.is_ascii_whitespace() || *b == b','),
-        });
+        records.push(RecordLine { line: start_line, n_fields, blank });
     }
     Records { records, consumed: pos, next_line: line }
 }
@@ -126,20 +136,6 @@ fn record_end(bytes: &[u8], pos: usize) -> (usize, usize, usize) {
         i += 1;
     }
     (bytes.len(), bytes.len(), newlines)
-}
-
-/// Number of comma-separated fields of one record (quotes respected).
-fn count_fields(text: &[u8]) -> usize {
-    let mut in_quotes = false;
-    let mut n = 1;
-    for &b in text {
-        match b {
-            b'"' => in_quotes = !in_quotes,
-            b',' if !in_quotes => n += 1,
-            _ => {}
-        }
-    }
-    n
 }
 
 /// Comma-separated fields of one record, unquoted and trimmed.
