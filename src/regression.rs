@@ -75,7 +75,7 @@ pub const MAX_PARAMETERS: usize = 4;
 /// The triangular factor of a QR decomposition built one row at a time by Givens rotations:
 /// R (p×p, upper) and Qᵀy, on the stack (Golub & Van Loan 2013, "Matrix Computations", §5.1.8
 /// and §6.5.2). Orthogonal like Householder QR, and no n×p matrix is ever stored.
-#[derive(Debug, Clone, Copy)]
+#[derive(Debug, Clone, Copy, PartialEq)]
 pub struct GivensQr {
     p: usize,
     r: [[f64; MAX_PARAMETERS]; MAX_PARAMETERS],
@@ -173,7 +173,7 @@ impl GivensQr {
 
 /// The solved core of a weighted least-squares problem: β̂, Cov(β̂) and the weighted RSS,
 /// with nothing stored per point (what comparing candidate models needs, on the stack).
-#[derive(Debug, Clone, Copy)]
+#[derive(Debug, Clone, Copy, PartialEq)]
 pub struct CoreFit {
     p: usize,
     n: usize,

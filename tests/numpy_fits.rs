@@ -57,12 +57,12 @@ fn virial_forms_on_osmometry_readings_match_numpy() {
         let f = fit_form(form, &readings).unwrap();
         let beta = floats(&case["coefficients"]);
         let se = floats(&case["standard_errors"]);
-        assert_relative_eq!(f.inverse_mn, beta[0], max_relative = 1e-9);
-        assert_relative_eq!(f.a2, beta[1], max_relative = 1e-9);
-        assert_relative_eq!(f.inverse_mn_se, se[0], max_relative = 1e-9);
-        assert_relative_eq!(f.a2_se, se[1], max_relative = 1e-9);
+        assert_relative_eq!(f.score.inverse_mn, beta[0], max_relative = 1e-9);
+        assert_relative_eq!(f.score.a2, beta[1], max_relative = 1e-9);
+        assert_relative_eq!(f.score.inverse_mn_se, se[0], max_relative = 1e-9);
+        assert_relative_eq!(f.score.a2_se, se[1], max_relative = 1e-9);
         if form == VirialForm::Quadratic {
-            let (a3, a3_se) = f.a3.unwrap();
+            let (a3, a3_se) = f.score.a3.unwrap();
             assert_relative_eq!(a3, beta[2], max_relative = 1e-9);
             assert_relative_eq!(a3_se, se[2], max_relative = 1e-9);
         }

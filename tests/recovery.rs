@@ -24,7 +24,7 @@ fn the_sqrt_form_recovers_mn_exactly_on_noise_free_g_quarter_data() {
     let p: Vec<f64> = C.iter().map(|&c| truth.pressure_pa(c)).collect();
     let f = fit_form(VirialForm::Sqrt, &readings_of(&C, &p, None)).unwrap();
     assert_relative_eq!(f.mn(), 150.0, max_relative = 1e-10);
-    assert_relative_eq!(f.a2, 3.0e-4, max_relative = 1e-10);
+    assert_relative_eq!(f.score.a2, 3.0e-4, max_relative = 1e-10);
 }
 
 #[test]
@@ -33,8 +33,8 @@ fn the_quadratic_form_recovers_mn_a2_and_a3_on_noise_free_data() {
     let p: Vec<f64> = C.iter().map(|&c| truth.pressure_pa(c)).collect();
     let f = fit_form(VirialForm::Quadratic, &readings_of(&C, &p, None)).unwrap();
     assert_relative_eq!(f.mn(), 80.0, max_relative = 1e-10);
-    assert_relative_eq!(f.a2, -6.0e-5, max_relative = 1e-8);
-    assert_relative_eq!(f.a3.unwrap().0, 2.0e-6, max_relative = 1e-6);
+    assert_relative_eq!(f.score.a2, -6.0e-5, max_relative = 1e-8);
+    assert_relative_eq!(f.score.a3.unwrap().0, 2.0e-6, max_relative = 1e-6);
 }
 
 /// Fraction of `runs` simulated datasets whose 95 % interval holds the true Mn and A2.
@@ -60,7 +60,7 @@ fn coverage(truth: VirialTruth, weighted: bool, runs: usize, seed: u64) -> (f64,
             StudentsT::new(0.0, 1.0, f.lsq.dof as f64).unwrap().inverse_cdf(0.975)
         };
         hit_mn += ((f.mn() - truth.mn_kg_per_mol).abs() <= q * f.mn_se()) as usize;
-        hit_a2 += ((f.a2 - truth.a2).abs() <= q * f.a2_se) as usize;
+        hit_a2 += ((f.score.a2 - truth.a2).abs() <= q * f.score.a2_se) as usize;
     }
     (hit_mn as f64 / runs as f64, hit_a2 as f64 / runs as f64)
 }

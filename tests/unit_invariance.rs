@@ -43,11 +43,11 @@ fn celsius_g_per_ml_pascal_and_kelvin_g_per_l_head_give_the_same_results() {
     let (ra, rb) = (run(&a), run(&b));
     assert_eq!(ra[0].fits.len(), 4);
     for (fa, fb) in ra[0].fits.iter().zip(&rb[0].fits) {
-        assert_eq!(fa.fit.form, fb.fit.form);
+        assert_eq!(fa.fit.score.form, fb.fit.score.form);
         assert_relative_eq!(fa.temperature_k, fb.temperature_k, max_relative = 1e-12);
         assert_relative_eq!(fa.fit.mn(), fb.fit.mn(), max_relative = 1e-9);
-        assert_relative_eq!(fa.fit.a2, fb.fit.a2, max_relative = 1e-9);
-        assert_relative_eq!(fa.fit.a2_se, fb.fit.a2_se, max_relative = 1e-9);
+        assert_relative_eq!(fa.fit.score.a2, fb.fit.score.a2, max_relative = 1e-9);
+        assert_relative_eq!(fa.fit.score.a2_se, fb.fit.score.a2_se, max_relative = 1e-9);
     }
     let (ta, tb) = (ra[0].theta.as_ref().unwrap(), rb[0].theta.as_ref().unwrap());
     assert_relative_eq!(ta.theta_k.unwrap(), tb.theta_k.unwrap(), max_relative = 1e-9);

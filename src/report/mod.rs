@@ -326,24 +326,24 @@ impl FitReport {
         let f = &t.fit;
         let full = detail == Detail::Full;
         let points = full.then(|| Self::points(t, series_set));
-        let unweighted_reduced = !t.weighted && f.form != VirialForm::Sqrt;
+        let unweighted_reduced = !t.weighted && f.score.form != VirialForm::Sqrt;
         FitReport {
             temperature_k: t.temperature_k,
             temperature_c: t.temperature_k - CELSIUS_OFFSET_K,
             n_points: t.n_points,
-            virial_form: f.form,
+            virial_form: f.score.form,
             virial_form_reason: t.choice_reason.clone(),
             virial_candidates: full.then(|| t.candidates.clone()),
             weighted: t.weighted,
             mn_g_per_mol: f.mn() * G_PER_MOL_PER_KG_PER_MOL,
             mn_se_g_per_mol: f.mn_se() * G_PER_MOL_PER_KG_PER_MOL,
-            a2_mol_ml_per_g2: f.a2 * A2_MOL_ML_PER_G2_PER_SI,
-            a2_se_mol_ml_per_g2: f.a2_se * A2_MOL_ML_PER_G2_PER_SI,
-            a3_mol_ml2_per_g3: f.a3.map(|(a, _)| a * A3_MOL_ML2_PER_G3_PER_SI),
-            a3_se_mol_ml2_per_g3: f.a3.map(|(_, s)| s * A3_MOL_ML2_PER_G3_PER_SI),
-            inverse_mn_mol_per_g: f.inverse_mn * MOL_PER_G_PER_MOL_PER_KG,
+            a2_mol_ml_per_g2: f.score.a2 * A2_MOL_ML_PER_G2_PER_SI,
+            a2_se_mol_ml_per_g2: f.score.a2_se * A2_MOL_ML_PER_G2_PER_SI,
+            a3_mol_ml2_per_g3: f.score.a3.map(|(a, _)| a * A3_MOL_ML2_PER_G3_PER_SI),
+            a3_se_mol_ml2_per_g3: f.score.a3.map(|(_, s)| s * A3_MOL_ML2_PER_G3_PER_SI),
+            inverse_mn_mol_per_g: f.score.inverse_mn * MOL_PER_G_PER_MOL_PER_KG,
             // mol² m³/kg³ → mol² mL/g³: 10⁶ mL/m³ over 10⁹ g³/kg³.
-            cov_inverse_mn_a2_mol2_ml_per_g3: f.cov_inverse_mn_a2 * 1.0e-3,
+            cov_inverse_mn_a2_mol2_ml_per_g3: f.score.cov_inverse_mn_a2 * 1.0e-3,
             dof: f.lsq.dof,
             reduced_chi2: t.weighted.then(|| f.lsq.rss_weighted / f.lsq.dof as f64).and_then(finite),
             residual_sd_mol_per_g: unweighted_reduced

@@ -134,12 +134,12 @@ pub fn joint_fit(
             // by the fit itself (per-temperature residual SDs on 3 dof would be noisy weights).
             None => vec![1.0; set.len()],
         };
-        let a3_index = (fit.fit.form == VirialForm::Quadratic).then(|| {
+        let a3_index = (fit.fit.score.form == VirialForm::Quadratic).then(|| {
             p += 1;
             p - 1
         });
         n += set.len();
-        start_inv_mn += fit.fit.inverse_mn / fits.len() as f64;
+        start_inv_mn += fit.fit.score.inverse_mn / fits.len() as f64;
         blocks.push(Block {
             temperature_k: set.temperature_k,
             concentration: set.concentration_kg_per_m3.clone(),
@@ -150,7 +150,7 @@ pub fn joint_fit(
     }
     let mut start = vec![start_inv_mn, start_a, start_theta_k];
     for fit in fits {
-        if let (VirialForm::Quadratic, Some((a3, _))) = (fit.fit.form, fit.fit.a3) {
+        if let (VirialForm::Quadratic, Some((a3, _))) = (fit.fit.score.form, fit.fit.score.a3) {
             start.push(a3);
         }
     }

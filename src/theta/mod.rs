@@ -583,19 +583,21 @@ pub fn mn_consistency(fits: &[&TemperatureFit]) -> Option<MnConsistency> {
 /// the luck of each temperature's residuals.
 pub fn a2_points(fits: &[TemperatureFit]) -> Vec<TemperaturePoint> {
     let pool = |f: &TemperatureFit| !f.weighted && f.fit.lsq.dof > 0;
-    let (rss, dof) =
-        fits.iter().filter(|f| pool(f)).fold((0.0, 0usize), |(r, d), f| (r + f.fit.rss_reduced, d + f.fit.lsq.dof));
+    let (rss, dof) = fits
+        .iter()
+        .filter(|f| pool(f))
+        .fold((0.0, 0usize), |(r, d), f| (r + f.fit.score.rss_reduced, d + f.fit.lsq.dof));
     let pooled_sd = (dof > 0).then(|| (rss / dof as f64).sqrt());
     fits.iter()
         .map(|f| {
             let se = match pooled_sd {
-                Some(sp) if pool(f) && f.fit.rss_reduced > 0.0 => {
-                    let own = (f.fit.rss_reduced / f.fit.lsq.dof as f64).sqrt();
-                    f.fit.a2_se * sp / own
+                Some(sp) if pool(f) && f.fit.score.rss_reduced > 0.0 => {
+                    let own = (f.fit.score.rss_reduced / f.fit.lsq.dof as f64).sqrt();
+                    f.fit.score.a2_se * sp / own
                 }
-                _ => f.fit.a2_se,
+                _ => f.fit.score.a2_se,
             };
-            TemperaturePoint { temperature_k: f.temperature_k, value: f.fit.a2, se: Some(se) }
+            TemperaturePoint { temperature_k: f.temperature_k, value: f.fit.score.a2, se: Some(se) }
         })
         .collect()
 }

@@ -45,40 +45,26 @@ impl VirialForm {
     }
 }
 
-/// One form fitted at one temperature, with estimates in SI units.
+/// One form fitted at one temperature: its estimates (SI units) and the per-point output.
 #[derive(Debug, Clone, PartialEq)]
 pub struct FormFit {
-    /// Which form.
-    pub form: VirialForm,
-    /// 1/Mn in mol/kg.
-    pub inverse_mn: f64,
-    /// SE of 1/Mn, mol/kg.
-    pub inverse_mn_se: f64,
-    /// A2 in mol m³/kg².
-    pub a2: f64,
-    /// SE of A2.
-    pub a2_se: f64,
-    /// Cov(1/Mn, A2), mol² m³/kg³.
-    pub cov_inverse_mn_a2: f64,
-    /// A3 in mol m⁶/kg³ (quadratic form only).
-    pub a3: Option<(f64, f64)>,
+    /// The estimates and the RSS the forms are compared on.
+    pub score: FormScore,
     /// Fitted reduced pressure ŷ_i, mol/kg, at each point.
     pub fitted_reduced: Vec<f64>,
-    /// Weighted RSS on the reduced-pressure scale (what the forms are compared on).
-    pub rss_reduced: f64,
     /// The underlying linear fit (on the form's own response scale).
     pub lsq: LinearFit,
 }
 
 impl FormFit {
-    /// Mn in kg/mol.
+    /// Mn in kg/mol (see [`FormScore::mn`]).
     pub fn mn(&self) -> f64 {
-        1.0 / self.inverse_mn
+        self.score.mn()
     }
 
-    /// SE of Mn by the delta method: SE(1/Mn)/(1/Mn)², kg/mol.
+    /// SE of Mn, kg/mol (see [`FormScore::mn_se`]).
     pub fn mn_se(&self) -> f64 {
-        self.inverse_mn_se / (self.inverse_mn * self.inverse_mn)
+        self.score.mn_se()
     }
 }
 
@@ -126,7 +112,7 @@ pub enum FormError {
 /// One form solved at one temperature: the estimates and the RSS the forms are compared on,
 /// with nothing stored per point. The automatic choice scores every form and completes only
 /// the chosen one ([`FormScore::complete`]).
-#[derive(Debug, Clone, Copy)]
+#[derive(Debug, Clone, Copy, PartialEq)]
 pub struct FormScore {
     /// Which form.
     pub form: VirialForm,
@@ -223,6 +209,16 @@ pub fn score_form(form: VirialForm, r: &Readings) -> Result<FormScore, FormError
 }
 
 impl FormScore {
+    /// Mn in kg/mol.
+    pub fn mn(&self) -> f64 {
+        1.0 / self.inverse_mn
+    }
+
+    /// SE of Mn by the delta method: SE(1/Mn)/(1/Mn)², kg/mol.
+    pub fn mn_se(&self) -> f64 {
+        self.inverse_mn_se / (self.inverse_mn * self.inverse_mn)
+    }
+
     /// The full fit, with fitted values, residuals and leverages, for the readings it was
     /// scored on.
     pub fn complete(self, r: &Readings) -> FormFit {
@@ -244,18 +240,7 @@ impl FormScore {
                 (lsq, fitted)
             }
         };
-        FormFit {
-            form: self.form,
-            inverse_mn: self.inverse_mn,
-            inverse_mn_se: self.inverse_mn_se,
-            a2: self.a2,
-            a2_se: self.a2_se,
-            cov_inverse_mn_a2: self.cov_inverse_mn_a2,
-            a3: self.a3,
-            fitted_reduced,
-            rss_reduced: self.rss_reduced,
-            lsq,
-        }
+        FormFit { score: self, fitted_reduced, lsq }
     }
 }
 

@@ -206,7 +206,7 @@ pub fn fit_temperature(set: &TemperatureSet, choice: FormChoice) -> Result<Tempe
         }
     }
     let c_max = set.concentration_kg_per_m3.iter().copied().fold(0.0, f64::max);
-    let gamma2_c_max = fit.a2 * fit.mn() * c_max;
+    let gamma2_c_max = fit.score.a2 * fit.mn() * c_max;
     if gamma2_c_max > 1.0 {
         warnings.push(FitWarning::SeriesTruncation { gamma2_c_max });
     }
@@ -214,7 +214,7 @@ pub fn fit_temperature(set: &TemperatureSet, choice: FormChoice) -> Result<Tempe
     if fit.mn() < LOW_MN_KG_PER_MOL {
         warnings.push(FitWarning::LowMn { mn_g_per_mol: mn_g });
     }
-    if fit.form == VirialForm::Linear {
+    if fit.score.form == VirialForm::Linear {
         let quadratic = quadratic.or_else(|| score_form(VirialForm::Quadratic, &readings).ok());
         if let Some(a3_t) = quadratic.and_then(|q| significant_curvature(&q)) {
             warnings.push(FitWarning::Curvature { a3_t });
