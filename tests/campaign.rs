@@ -170,6 +170,37 @@ fn outputs_of(dir: &std::path::Path, files: &[&str], tag: &str) -> (Value, Value
     (report, inputs, read(&t), read(&s), out.stdout)
 }
 
+#[test]
+fn a_streamed_campaign_keeps_each_series_solvent_and_volumes() {
+    // The same campaign with a solvent and v̄, V1 per series (invented): they reach the report,
+    // and with the volumes the Flory parameters, as in the usual path.
+    let dir = tempfile::tempdir().unwrap();
+    let header =
+        "series,solvent,temperature (K),concentration (g/L),pressure (Pa),specific volume (mL/g),molar volume (mL/mol)";
+    let mut text = format!("{header}\n");
+    for i in 0..1500 {
+        let solvent = ["mirane", "ostrol", "quellan"][i % 3];
+        for row in series_rows(i, &[290.0, 300.0, 310.0, 320.0], 5).lines() {
+            let (name, rest) = row.split_once(',').unwrap();
+            let _ = writeln!(text, "{name},{solvent},{rest},0.9{},100", i % 7);
+        }
+    }
+    std::fs::write(dir.path().join("big.csv"), &text).unwrap();
+    let lines: Vec<&str> = text.lines().skip(1).collect();
+    let split = 750 * 20;
+    std::fs::write(dir.path().join("part1.csv"), format!("{header}\n{}\n", lines[..split].join("\n"))).unwrap();
+    let padding = "#\n".repeat(split);
+    std::fs::write(dir.path().join("part2.csv"), format!("{padding}{header}\n{}\n", lines[split..].join("\n")))
+        .unwrap();
+    let (streamed, _, table, series_table, terminal) = outputs_of(dir.path(), &["big.csv"], "a");
+    let usual = outputs_of(dir.path(), &["part1.csv", "part2.csv"], "b");
+    assert_eq!(streamed, usual.0);
+    assert_eq!((table, series_table, terminal), (usual.2, usual.3, usual.4));
+    let last = &streamed["series"][1499];
+    assert_eq!(last["solvent"], "quellan");
+    assert!(last["theta"]["flory"]["psi1"].is_number(), "{}", last["theta"]["flory"]);
+}
+
 /// Writes `text` whole as `big.csv`, and split after `rows` data rows as `part1.csv` and
 /// `part2.csv` (each with the header): the split pair is read the usual way, after each other.
 /// Comment lines before part2's header keep every reading on the line it has in `big.csv`.

@@ -72,18 +72,16 @@ impl Sink {
         Ok(())
     }
 
-    /// Overwrites bytes already written at `offset` (from the start of the output).
+    /// Overwrites bytes already written at `offset` (from the start of the output), all of
+    /// them in the file or all still held (each flush moves whole pieces).
     fn patch(&mut self, offset: u64, bytes: &[u8]) -> Result<(), Error> {
         match &mut self.file {
             Some(file) if offset < self.written => {
-                let end = (offset + bytes.len() as u64).min(self.written);
-                let (in_file, in_held) = bytes.split_at((end - offset) as usize);
                 let f = file.file();
                 let io = |source| io_error(&self.path, source);
                 f.seek(std::io::SeekFrom::Start(offset)).map_err(io)?;
-                f.write_all(in_file).map_err(io)?;
+                f.write_all(bytes).map_err(io)?;
                 f.seek(std::io::SeekFrom::End(0)).map_err(io)?;
-                self.held[..in_held.len()].copy_from_slice(in_held);
             }
             _ => {
                 let at = (offset - self.written) as usize;
@@ -410,10 +408,9 @@ pub fn stream(
             return Ok(Streamed::Reread);
         }
         read_bytes += BLOCK_BYTES as u64;
-        if !more {
-            break;
-        }
-        let finished = reader.readings.take_finished();
+        // The series the file has moved past; at its end, every series left.
+        let finished =
+            if more { reader.readings.take_finished() } else { std::mem::take(&mut reader.readings).into_series() };
         ready.extend(finished.into_iter().map(|mut s| {
             s.volumes = reader.volumes_of(&s.name);
             let solvent = reader.solvent_of(&s.name).map(str::to_string);
@@ -421,6 +418,9 @@ pub fn stream(
         }));
         if campaign.is_none() && ready.len() > report::CAMPAIGN_SERIES {
             campaign = Some(open_streamed(args, settings, &report_settings(ready.len()), &placeholder, &run_warnings)?);
+        }
+        if !more {
+            break;
         }
         if let Some((c, _)) = &campaign {
             // The bar's length is estimated from the series per byte read so far.
@@ -430,24 +430,13 @@ pub fn stream(
         }
     }
     let contents = reader.finish()?;
-    let digest: String = sha2::Digest::finalize(source.hasher).iter().map(|b| format!("{b:02x}")).collect();
-    let volume_of = |name: &str| contents.volumes.iter().find(|(s, _)| s == name).map(|(_, v)| *v);
-    let solvent_of = |name: &str| contents.solvents.iter().find(|(s, _)| s == name).map(|(_, v)| v.clone());
-    ready.extend(contents.readings.into_series().into_iter().map(|mut s| {
-        s.volumes = volume_of(&s.name);
-        let solvent = solvent_of(&s.name);
-        (s, solvent)
-    }));
-    if campaign.is_none() && ready.len() > report::CAMPAIGN_SERIES {
-        campaign = Some(open_streamed(args, settings, &report_settings(ready.len()), &placeholder, &run_warnings)?);
-    }
+    let input = InputFile::from_digest(&name, &sha2::Digest::finalize(source.hasher));
     let Some((mut campaign, digest_at)) = campaign else {
         // Too few series for a campaign: the usual path, with what was read.
         let series = ready.into_iter().map(|(s, _)| s).collect();
         let dataset = Dataset { series, tabulated: Vec::new(), solvents: contents.solvents };
-        let inputs = vec![InputFile { path: name, sha256: digest }];
         return Ok(Streamed::Loaded(Loaded {
-            inputs,
+            inputs: vec![input],
             dataset,
             warnings: run_warnings,
             critical: Vec::new(),
@@ -459,10 +448,10 @@ pub fn stream(
     campaign.analyse(&ready, &bar)?;
     drop(ready);
     bar.finish();
-    let inputs = vec![InputFile { path: name, sha256: digest.clone() }];
+    let digest = digest_at.map(|at| (at, input.sha256.clone()));
     let report =
-        Report::new(inputs, report_settings(campaign.analysed as usize), run_warnings, &[], &Dataset::default());
-    campaign.finish(report, digest_at.map(|at| (at, digest)), args.quiet)?;
+        Report::new(vec![input], report_settings(campaign.analysed as usize), run_warnings, &[], &Dataset::default());
+    campaign.finish(report, digest, args.quiet)?;
     Ok(Streamed::Done)
 }
 
