@@ -22,7 +22,7 @@ use std::io::Read;
 pub const BLOCK_BYTES: usize = 256 << 10;
 
 /// Reads one CSV from `source`: an osmometry file larger than `block_bytes` a block at a
-/// time, any other file whole (through [`read_file_owned`]).
+/// time, any other file whole.
 pub fn read_source(
     name: &str,
     file_index: usize,

@@ -32,7 +32,7 @@ pub struct CurvedFit {
 pub const MIN_TEMPERATURES: usize = 5;
 
 impl CurvedFit {
-    /// Fits the curve; `None` with fewer than [`MIN_TEMPERATURES`] temperatures.
+    /// Fits the curve; `None` with fewer than `MIN_TEMPERATURES` (5) temperatures.
     pub fn fit(points: &[TemperaturePoint]) -> Option<Self> {
         let n = points.len();
         if n < MIN_TEMPERATURES {
