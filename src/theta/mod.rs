@@ -17,7 +17,7 @@ pub use line::{InverseTemperatureLine, ThetaSet};
 
 use crate::dataset::{Series, TemperatureSet};
 use crate::uncertainty::{percentile, replicate_rng, resample_indices};
-use crate::virial::{fit_temperature, FormChoice, TemperatureFit};
+use crate::virial::{score_temperature, FormChoice, FormScore, TemperatureFit};
 use rayon::prelude::*;
 use serde::Serialize;
 use statrs::distribution::{ChiSquared, ContinuousCDF};
@@ -582,24 +582,28 @@ pub fn mn_consistency(fits: &[&TemperatureFit]) -> Option<MnConsistency> {
 /// s_pooled/s_i: the weights then carry the design (number and spread of concentrations), not
 /// the luck of each temperature's residuals.
 pub fn a2_points(fits: &[TemperatureFit]) -> Vec<TemperaturePoint> {
-    let pool = |f: &TemperatureFit| !f.weighted && f.fit.lsq.dof > 0;
+    pooled_a2_points(fits.iter().map(|f| (f.temperature_k, f.weighted, &f.fit.score)))
+}
+
+/// [`a2_points`] from each temperature's T, whether it was weighted, and its chosen form.
+fn pooled_a2_points<'a>(fits: impl Iterator<Item = (f64, bool, &'a FormScore)> + Clone) -> Vec<TemperaturePoint> {
+    let pool = |weighted: bool, s: &FormScore| !weighted && s.core.dof > 0;
     let (rss, dof) = fits
-        .iter()
-        .filter(|f| pool(f))
-        .fold((0.0, 0usize), |(r, d), f| (r + f.fit.score.rss_reduced, d + f.fit.lsq.dof));
+        .clone()
+        .filter(|(_, w, s)| pool(*w, s))
+        .fold((0.0, 0usize), |(r, d), (_, _, s)| (r + s.rss_reduced, d + s.core.dof));
     let pooled_sd = (dof > 0).then(|| (rss / dof as f64).sqrt());
-    fits.iter()
-        .map(|f| {
-            let se = match pooled_sd {
-                Some(sp) if pool(f) && f.fit.score.rss_reduced > 0.0 => {
-                    let own = (f.fit.score.rss_reduced / f.fit.lsq.dof as f64).sqrt();
-                    f.fit.score.a2_se * sp / own
-                }
-                _ => f.fit.score.a2_se,
-            };
-            TemperaturePoint { temperature_k: f.temperature_k, value: f.fit.score.a2, se: Some(se) }
-        })
-        .collect()
+    fits.map(|(temperature_k, weighted, s)| {
+        let se = match pooled_sd {
+            Some(sp) if pool(weighted, s) && s.rss_reduced > 0.0 => {
+                let own = (s.rss_reduced / s.core.dof as f64).sqrt();
+                s.a2_se * sp / own
+            }
+            _ => s.a2_se,
+        };
+        TemperaturePoint { temperature_k, value: s.a2, se: Some(se) }
+    })
+    .collect()
 }
 
 /// The full θ analysis of an osmometry series: the two-stage models, the joint fit, the
@@ -712,7 +716,8 @@ pub fn bootstrap(
                         let y = prep.fitted[i] + prep.sigma[i] * prep.residuals[k];
                         scratch.pressure_pa[i] = (y * set.concentration_kg_per_m3[i] * prep.rt).max(0.0);
                     }
-                    match fit_temperature(scratch, settings.virial) {
+                    // A replicate needs the chosen forms' estimates only, not their residuals.
+                    match score_temperature(scratch, settings.virial) {
                         Ok(fit) => points.push(fit),
                         Err(_) => {
                             progress.advance(1);
@@ -721,7 +726,8 @@ pub fn bootstrap(
                     }
                 }
                 progress.advance(1);
-                line_theta(&a2_points(&points), settings.confidence)
+                let scored = points.iter().map(|p| (p.temperature_k, p.weighted, &p.score));
+                line_theta(&pooled_a2_points(scored), settings.confidence)
             },
         )
         .flatten()

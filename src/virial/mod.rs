@@ -151,8 +151,26 @@ pub fn aicc(rss: f64, n: usize, p: usize) -> Option<f64> {
         .then(|| n_f * (rss.max(f64::MIN_POSITIVE) / n_f).ln() + 2.0 * k + 2.0 * k * (k + 1.0) / (n_f - k - 1.0))
 }
 
-/// Fits one temperature: the chosen form plus diagnostics, or why it cannot be fitted.
-pub fn fit_temperature(set: &TemperatureSet, choice: FormChoice) -> Result<TemperatureFit, SkippedTemperature> {
+/// One temperature's chosen form, scored but not completed: what the bootstrap needs of each
+/// replicate (see [`score_temperature`]); [`ScoredTemperature::complete`] adds the per-point
+/// output and the warnings that need it.
+#[derive(Debug, Clone)]
+pub struct ScoredTemperature {
+    /// Temperature, K.
+    pub temperature_k: f64,
+    /// Whether per-point SDs weighted the fit.
+    pub weighted: bool,
+    /// The chosen form, solved.
+    pub score: FormScore,
+    choice_reason: String,
+    candidates: Vec<Candidate>,
+    quadratic: Option<FormScore>,
+    distinct: usize,
+    warnings: Vec<FitWarning>,
+}
+
+/// Chooses and solves the form at one temperature, or says why it cannot be fitted.
+pub fn score_temperature(set: &TemperatureSet, choice: FormChoice) -> Result<ScoredTemperature, SkippedTemperature> {
     let skip = |reason: String| SkippedTemperature { temperature_k: set.temperature_k, n_points: set.len(), reason };
     let distinct = set.distinct_concentrations();
     if distinct < MIN_CONCENTRATIONS {
@@ -165,12 +183,7 @@ pub fn fit_temperature(set: &TemperatureSet, choice: FormChoice) -> Result<Tempe
     if all_sd.is_none() && set.pressure_sd_pa.iter().any(Option::is_some) {
         warnings.push(FitWarning::PartialWeights);
     }
-    let readings = Readings {
-        temperature_k: set.temperature_k,
-        concentration: &set.concentration_kg_per_m3,
-        pressure: &set.pressure_pa,
-        pressure_sd: all_sd.as_deref(),
-    };
+    let readings = readings_of(set, all_sd.as_deref());
     let (score, choice_reason, candidates, quadratic) = match choice {
         FormChoice::Fixed(form) => match score_form(form, &readings) {
             Ok(score) => (score, format!("{} form requested", form.name()), Vec::new(), None),
@@ -191,44 +204,79 @@ pub fn fit_temperature(set: &TemperatureSet, choice: FormChoice) -> Result<Tempe
             score.inverse_mn / 1000.0
         )));
     }
-    // Only the chosen form gets its per-point output.
-    let fit = score.complete(&readings);
-    if distinct < FEW_CONCENTRATIONS {
-        warnings.push(FitWarning::FewConcentrations { n: distinct });
-    }
-    for (i, &t) in fit.lsq.studentized.iter().enumerate() {
-        if t.abs() > STUDENTIZED_LIMIT {
-            warnings.push(FitWarning::Outlier {
-                concentration_g_per_ml: set.concentration_kg_per_m3[i] * crate::units::G_PER_ML_PER_KG_PER_M3,
-                studentized: t,
-                line: set.origins[i].line,
-            });
-        }
-    }
-    let c_max = set.concentration_kg_per_m3.iter().copied().fold(0.0, f64::max);
-    let gamma2_c_max = fit.score.a2 * fit.mn() * c_max;
-    if gamma2_c_max > 1.0 {
-        warnings.push(FitWarning::SeriesTruncation { gamma2_c_max });
-    }
-    let mn_g = fit.mn() * crate::units::G_PER_MOL_PER_KG_PER_MOL;
-    if fit.mn() < LOW_MN_KG_PER_MOL {
-        warnings.push(FitWarning::LowMn { mn_g_per_mol: mn_g });
-    }
-    if fit.score.form == VirialForm::Linear {
-        let quadratic = quadratic.or_else(|| score_form(VirialForm::Quadratic, &readings).ok());
-        if let Some(a3_t) = quadratic.and_then(|q| significant_curvature(&q)) {
-            warnings.push(FitWarning::Curvature { a3_t });
-        }
-    }
-    Ok(TemperatureFit {
+    Ok(ScoredTemperature {
         temperature_k: set.temperature_k,
-        n_points: set.len(),
         weighted: all_sd.is_some(),
-        fit,
+        score,
         choice_reason,
         candidates,
+        quadratic,
+        distinct,
         warnings,
     })
+}
+
+fn readings_of<'a>(set: &'a TemperatureSet, sd: Option<&'a [f64]>) -> Readings<'a> {
+    Readings {
+        temperature_k: set.temperature_k,
+        concentration: &set.concentration_kg_per_m3,
+        pressure: &set.pressure_pa,
+        pressure_sd: sd,
+    }
+}
+
+/// Fits one temperature: the chosen form plus diagnostics, or why it cannot be fitted.
+pub fn fit_temperature(set: &TemperatureSet, choice: FormChoice) -> Result<TemperatureFit, SkippedTemperature> {
+    Ok(score_temperature(set, choice)?.complete(set))
+}
+
+impl ScoredTemperature {
+    /// The per-point output of the chosen form and the warnings about it, for the readings it
+    /// was scored on.
+    pub fn complete(self, set: &TemperatureSet) -> TemperatureFit {
+        let ScoredTemperature { weighted, score, choice_reason, candidates, quadratic, distinct, mut warnings, .. } =
+            self;
+        let all_sd: Option<Vec<f64>> = if weighted { set.pressure_sd_pa.iter().copied().collect() } else { None };
+        let readings = readings_of(set, all_sd.as_deref());
+        // Only the chosen form gets its per-point output.
+        let fit = score.complete(&readings);
+        if distinct < FEW_CONCENTRATIONS {
+            warnings.push(FitWarning::FewConcentrations { n: distinct });
+        }
+        for (i, &t) in fit.lsq.studentized.iter().enumerate() {
+            if t.abs() > STUDENTIZED_LIMIT {
+                warnings.push(FitWarning::Outlier {
+                    concentration_g_per_ml: set.concentration_kg_per_m3[i] * crate::units::G_PER_ML_PER_KG_PER_M3,
+                    studentized: t,
+                    line: set.origins[i].line,
+                });
+            }
+        }
+        let c_max = set.concentration_kg_per_m3.iter().copied().fold(0.0, f64::max);
+        let gamma2_c_max = fit.score.a2 * fit.mn() * c_max;
+        if gamma2_c_max > 1.0 {
+            warnings.push(FitWarning::SeriesTruncation { gamma2_c_max });
+        }
+        let mn_g = fit.mn() * crate::units::G_PER_MOL_PER_KG_PER_MOL;
+        if fit.mn() < LOW_MN_KG_PER_MOL {
+            warnings.push(FitWarning::LowMn { mn_g_per_mol: mn_g });
+        }
+        if fit.score.form == VirialForm::Linear {
+            let quadratic = quadratic.or_else(|| score_form(VirialForm::Quadratic, &readings).ok());
+            if let Some(a3_t) = quadratic.and_then(|q| significant_curvature(&q)) {
+                warnings.push(FitWarning::Curvature { a3_t });
+            }
+        }
+        TemperatureFit {
+            temperature_k: set.temperature_k,
+            n_points: set.len(),
+            weighted,
+            fit,
+            choice_reason,
+            candidates,
+            warnings,
+        }
+    }
 }
 
 /// What the automatic choice settled on: the chosen form's score, why, the forms considered,
