@@ -155,16 +155,14 @@ where
         }
         // Stacked system [J; √λ D] step = [−r; 0], solved by QR.
         let root_lambda = self.lambda.sqrt();
-        let a = DMatrix::from_fn(n + p, p, |i, k| {
-            if i < n {
-                j[(i, k)]
-            } else if i - n == k {
-                root_lambda * scale[k]
-            } else {
-                0.0
-            }
-        });
-        let mut rhs = DVector::from_fn(n + p, |i, _| if i < n { -r[i] } else { 0.0 });
+        let mut a = DMatrix::zeros(n + p, p);
+        a.rows_mut(0, n).copy_from(&j);
+        for k in 0..p {
+            a[(n + k, k)] = root_lambda * scale[k];
+        }
+        let mut rhs = DVector::zeros(n + p);
+        rhs.rows_mut(0, n).copy_from(&r);
+        rhs.rows_mut(0, n).neg_mut();
         let qr = a.qr();
         // Qᵀ applied in place: Q itself is never formed.
         qr.q_tr_mul(&mut rhs);
