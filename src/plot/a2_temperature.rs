@@ -3,7 +3,9 @@
 //! shaded, and a second axis in °C.
 
 use super::format::{axis, power_of_ten, superscript};
-use super::{draw_legend, marker_element, series_colour, series_marker, temperature_chart, FigureError, GREY, INK};
+use super::{
+    draw_legend, ink_text, marker_element, series_colour, series_marker, temperature_chart, FigureError, GREY, INK,
+};
 use crate::report::{LineReport, SeriesReport, ThetaReport};
 use crate::theta::Quantity;
 use crate::units::CELSIUS_OFFSET_K;
@@ -108,11 +110,7 @@ pub fn draw_a2_temperature(
                 format!("{:?}", theta.crossing).to_lowercase()
             ))
             .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 18, y)], INK.stroke_width(2)));
-        chart.draw_series(std::iter::once(Text::new(
-            "θ",
-            (th, y_hi - (y_hi - y_lo) * 0.02),
-            ("sans-serif", 18).into_font().color(&INK),
-        )))?;
+        chart.draw_series(std::iter::once(Text::new("θ", (th, y_hi - (y_hi - y_lo) * 0.02), ink_text(18))))?;
     }
 
     chart

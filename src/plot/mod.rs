@@ -50,6 +50,11 @@ pub const PALETTE: [RGBColor; 7] = [
 
 /// Text and axes.
 pub const INK: RGBColor = RGBColor(40, 40, 40);
+
+/// Our text: the generic sans-serif family in ink, `size` px.
+pub fn ink_text(size: u32) -> TextStyle<'static> {
+    ("sans-serif", size).into_font().color(&INK)
+}
 /// Neutral grey for "near θ" and bands.
 pub const GREY: RGBColor = RGBColor(120, 120, 120);
 
@@ -146,7 +151,7 @@ pub fn temperature_chart<'a, 'b>(
     let (y_lo, y_hi) = axis(y.0, y.1);
     let offset = crate::units::CELSIUS_OFFSET_K;
     let mut chart = ChartBuilder::on(root)
-        .caption(caption, ("sans-serif", 22).into_font().color(&INK))
+        .caption(caption, ink_text(22))
         .margin(16)
         .x_label_area_size(48)
         .top_x_label_area_size(44)
@@ -161,15 +166,15 @@ pub fn temperature_chart<'a, 'b>(
         .y_desc(y_desc)
         .x_label_formatter(&|v| tick(*v, x_hi - x_lo))
         .y_label_formatter(&|v| tick(*v, y_hi - y_lo))
-        .axis_desc_style(("sans-serif", 16).into_font().color(&INK))
-        .label_style(("sans-serif", 13).into_font().color(&INK))
+        .axis_desc_style(ink_text(16))
+        .label_style(ink_text(13))
         .draw()?;
     chart
         .configure_secondary_axes()
         .x_desc("t (°C)")
         .x_label_formatter(&|v| tick(*v, x_hi - x_lo))
-        .axis_desc_style(("sans-serif", 16).into_font().color(&INK))
-        .label_style(("sans-serif", 13).into_font().color(&INK))
+        .axis_desc_style(ink_text(16))
+        .label_style(ink_text(13))
         .draw()?;
     Ok(chart)
 }
@@ -187,7 +192,7 @@ pub fn plain_chart<'a, 'b>(
     let (x_lo, x_hi) = axis(x.0, x.1);
     let (y_lo, y_hi) = axis(y.0, y.1);
     let mut chart = ChartBuilder::on(root)
-        .caption(caption, ("sans-serif", 22).into_font().color(&INK))
+        .caption(caption, ink_text(22))
         .margin(16)
         .x_label_area_size(48)
         .y_label_area_size(80)
@@ -200,8 +205,8 @@ pub fn plain_chart<'a, 'b>(
         .y_desc(y_desc)
         .x_label_formatter(&|v| tick(*v, x_hi - x_lo))
         .y_label_formatter(&|v| tick(*v, y_hi - y_lo))
-        .axis_desc_style(("sans-serif", 16).into_font().color(&INK))
-        .label_style(("sans-serif", 13).into_font().color(&INK))
+        .axis_desc_style(ink_text(16))
+        .label_style(ink_text(13))
         .draw()?;
     Ok(chart)
 }
@@ -213,7 +218,7 @@ pub fn draw_legend<'a, 'b: 'a>(chart: &mut Chart<'a, 'b>, position: SeriesLabelP
         .position(position)
         .background_style(WHITE.mix(0.85))
         .border_style(INK.mix(0.3))
-        .label_font(("sans-serif", 13).into_font().color(&INK))
+        .label_font(ink_text(13))
         .draw()?;
     Ok(())
 }

@@ -3,7 +3,7 @@
 //! 1/Mn, and the studentised residuals of the same fits.
 
 use super::format::{axis, power_of_ten, superscript, tick};
-use super::{marker_element, FigureError, Marker, GREY, INK, PALETTE};
+use super::{ink_text, marker_element, FigureError, Marker, GREY, INK, PALETTE};
 use crate::report::{plus_minus, FitReport, SeriesReport};
 use crate::units::CELSIUS_OFFSET_K;
 use crate::virial::VirialForm;
@@ -50,7 +50,7 @@ pub(super) fn layout<'a>(
     title: &str,
 ) -> Result<Vec<DrawingArea<SVGBackend<'a>, Shift>>, FigureError> {
     let (top, rest) = root.split_vertically(TITLE);
-    top.titled(title, ("sans-serif", 20).into_font().color(&INK))?;
+    top.titled(title, ink_text(20))?;
     Ok(rest.split_evenly((n.max(1), 1)))
 }
 
@@ -81,8 +81,8 @@ pub(super) fn panel_chart<'a, 'b>(
         .y_labels(y_labels)
         .y_label_formatter(&y_fmt)
         .x_label_formatter(&x_fmt)
-        .axis_desc_style(("sans-serif", 13).into_font().color(&INK))
-        .label_style(("sans-serif", 12).into_font().color(&INK));
+        .axis_desc_style(ink_text(13))
+        .label_style(ink_text(12));
     if last {
         mesh.x_desc(x_desc);
     } else {
@@ -153,7 +153,7 @@ pub fn draw_reduced_pressure(root: &DrawingArea<SVGBackend, Shift>, s: &SeriesRe
         chart.draw_series(std::iter::once(Text::new(
             text,
             (c_hi * c_scale * 0.02, y_hi - (y_hi - y_lo) * 0.06),
-            ("sans-serif", 13).into_font().color(&INK),
+            ink_text(13),
         )))?;
     }
     Ok(())
@@ -200,7 +200,7 @@ pub fn draw_residuals(root: &DrawingArea<SVGBackend, Shift>, s: &SeriesReport) -
                 f.dof
             ),
             (x_end * 0.02, m * 0.8),
-            ("sans-serif", 13).into_font().color(&INK),
+            ink_text(13),
         )))?;
     }
     Ok(())

@@ -3,7 +3,9 @@
 //! choice can be seen.
 
 use super::format::{axis, power_of_ten, superscript};
-use super::{draw_legend, marker_element, series_colour, series_marker, temperature_chart, FigureError, GREY, INK};
+use super::{
+    draw_legend, ink_text, marker_element, series_colour, series_marker, temperature_chart, FigureError, GREY, INK,
+};
 use crate::input::SolventProperties;
 use crate::plan::{Plan, PlanSeries, PlanSettings, BOILING_MARGIN_K, MELTING_MARGIN_K};
 use crate::theta::Quantity;
@@ -114,7 +116,7 @@ pub fn draw_plan(
             chart.draw_series(std::iter::once(Text::new(
                 note,
                 (lo + (hi - lo) * 0.01, y + span * 0.035),
-                ("sans-serif", 12).into_font().color(&INK),
+                ink_text(12),
             )))?;
         }
     }

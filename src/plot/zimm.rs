@@ -6,7 +6,7 @@
 
 use super::format::{axis, power_of_ten, superscript};
 use super::panels::{layout, panel_chart, panel_height};
-use super::{marker_element, FigureError, Marker, GREY, INK, PALETTE};
+use super::{ink_text, marker_element, FigureError, Marker, GREY, INK, PALETTE};
 use crate::report::{plus_minus, SeriesReport};
 use crate::scattering::ScatteringFit;
 use plotters::coord::Shift;
@@ -123,7 +123,7 @@ pub fn draw_zimm(root: &DrawingArea<SVGBackend, Shift>, s: &SeriesReport) -> Res
         chart.draw_series(std::iter::once(Text::new(
             text,
             (x_lo + (x_hi - x_lo) * 0.02, y_hi - (y_hi - y_lo) * 0.06),
-            ("sans-serif", 13).into_font().color(&INK),
+            ink_text(13),
         )))?;
     }
     Ok(())
