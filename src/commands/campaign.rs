@@ -153,7 +153,10 @@ impl<'a> Campaign<'a> {
             }
             None => None,
         };
-        let stdout_taken = [&args.report, &args.table, &args.series_table].into_iter().flatten().any(|p| p == "-");
+        let stdout_taken = [&args.report, &args.table, &args.series_table]
+            .into_iter()
+            .flatten()
+            .any(|p| Destination::parse(p) == Destination::Stdout);
         Ok(Campaign {
             settings,
             detail: report_settings.report_detail,
@@ -294,7 +297,7 @@ impl<'a> Campaign<'a> {
     }
 }
 
-/// Every output is checked before anything is read or written.
+/// Every output is checked before anything is written (one stdout at most, no input overwritten).
 fn check_outputs(args: &AnalyzeArgs) -> Result<(), Error> {
     let destinations: Vec<Destination> =
         [&args.report, &args.table, &args.series_table].into_iter().flatten().map(|p| Destination::parse(p)).collect();
@@ -396,6 +399,7 @@ pub fn stream(
     let mut ready: Vec<(Series, Option<String>)> = Vec::new();
     let mut campaign: Option<(Campaign, Option<u64>)> = None;
     let mut read_bytes = 0u64;
+    let units_per_series = 1 + settings.theta.bootstrap_replicates as u64;
     loop {
         // The next block is read while the series finished so far are analysed and written.
         let batch = if campaign.is_some() { std::mem::take(&mut ready) } else { Vec::new() };
@@ -425,8 +429,7 @@ pub fn stream(
         if let Some((c, _)) = &campaign {
             // The bar's length is estimated from the series per byte read so far.
             let seen = c.analysed + ready.len() as u64;
-            let per_series = 1 + settings.theta.bootstrap_replicates as u64;
-            bar.set_total(seen * per_series * file_bytes.max(read_bytes) / read_bytes.max(1));
+            bar.set_total(seen * units_per_series * file_bytes.max(read_bytes) / read_bytes.max(1));
         }
     }
     let contents = reader.finish()?;
@@ -444,7 +447,7 @@ pub fn stream(
             scattering: Vec::new(),
         }));
     };
-    bar.set_total((campaign.analysed + ready.len() as u64) * (1 + settings.theta.bootstrap_replicates as u64));
+    bar.set_total((campaign.analysed + ready.len() as u64) * units_per_series);
     campaign.analyse(&ready, &bar)?;
     drop(ready);
     bar.finish();

@@ -7,8 +7,8 @@
 
 use super::scan::{scan_header, scan_records, Layout};
 use super::{
-    check_structure, check_utf8_from, locate_roles, parse_header_cell, parse_with_polars, read_file_owned,
-    read_osmometry, FileContents, ReadOptions, Role, Table,
+    check_structure, check_utf8_from, ignored_columns, locate_roles, parse_header_cell, parse_with_polars,
+    read_file_owned, read_osmometry, FileContents, ReadOptions, Role, Table,
 };
 use crate::dataset::GroupedReadings;
 use crate::error::InputError;
@@ -80,7 +80,7 @@ impl<'a> BlockReader<'a> {
         options: &'a ReadOptions,
         block_bytes: usize,
     ) -> Result<Opened<'a>, InputError> {
-        let io = |e: std::io::Error| InputError::file(name, format!("cannot read the file: {e}"));
+        let io = |e| read_error(name, e);
         let mut buffer = Vec::new();
         let mut at_end = fill(source, &mut buffer, block_bytes).map_err(io)?;
         // Read on until the header line is complete (a block may end inside it) or the file ends.
@@ -126,7 +126,7 @@ impl<'a> BlockReader<'a> {
 
     /// Header cells that were not recognised and so are not used.
     pub fn ignored_columns(&self) -> Vec<String> {
-        self.cells.iter().filter(|c| c.role.is_none()).map(|c| c.raw.clone()).collect()
+        ignored_columns(&self.cells)
     }
 
     /// Reads, checks and groups the records of the block in hand, then reads the next block;
@@ -153,8 +153,7 @@ impl<'a> BlockReader<'a> {
         if self.at_end {
             return Ok(false);
         }
-        self.at_end = fill(self.source, &mut self.buffer, self.block_bytes)
-            .map_err(|e| InputError::file(name, format!("cannot read the file: {e}")))?;
+        self.at_end = fill(self.source, &mut self.buffer, self.block_bytes).map_err(|e| read_error(name, e))?;
         Ok(true)
     }
 
@@ -189,6 +188,10 @@ impl<'a> BlockReader<'a> {
             ..FileContents::default()
         })
     }
+}
+
+fn read_error(name: &str, e: std::io::Error) -> InputError {
+    InputError::file(name, format!("cannot read the file: {e}"))
 }
 
 /// Reads until `buffer` holds at least `block_bytes` or the source ends; true at the end.

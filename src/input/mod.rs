@@ -330,6 +330,11 @@ fn parse_with_polars(name: &str, bytes: &[u8], threads: Option<usize>) -> Result
         .map_err(|e| InputError::file(name, format!("the CSV reader refused the file: {e}")))
 }
 
+/// Header cells that were not recognised and so are not used.
+fn ignored_columns(cells: &[HeaderCell]) -> Vec<String> {
+    cells.iter().filter(|c| c.role.is_none()).map(|c| c.raw.clone()).collect()
+}
+
 fn locate_roles(file: &str, header_line: usize, cells: &[HeaderCell]) -> Result<HashMap<Role, usize>, InputError> {
     let mut found: HashMap<Role, usize> = HashMap::new();
     for (i, cell) in cells.iter().enumerate() {
@@ -440,7 +445,7 @@ impl<'a> Table<'a> {
     }
 
     fn ignored_columns(&self) -> Vec<String> {
-        self.cells.iter().filter(|c| c.role.is_none()).map(|c| c.raw.clone()).collect()
+        ignored_columns(&self.cells)
     }
 
     fn has(&self, role: Role) -> bool {

@@ -726,7 +726,7 @@ pub fn bootstrap(
                     }
                 }
                 progress.advance(1);
-                let scored = points.iter().map(|p| (p.temperature_k, p.weighted, &p.score));
+                let scored = points.iter().map(|p| (p.temperature_k, p.weighted(), &p.score));
                 line_theta(&pooled_a2_points(scored), settings.confidence)
             },
         )

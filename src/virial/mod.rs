@@ -158,10 +158,10 @@ pub fn aicc(rss: f64, n: usize, p: usize) -> Option<f64> {
 pub struct ScoredTemperature {
     /// Temperature, K.
     pub temperature_k: f64,
-    /// Whether per-point SDs weighted the fit.
-    pub weighted: bool,
     /// The chosen form, solved.
     pub score: FormScore,
+    /// SDs of Π that weighted the fit (every reading has one), Pa.
+    pressure_sd: Option<Vec<f64>>,
     choice_reason: String,
     candidates: Vec<Candidate>,
     quadratic: Option<FormScore>,
@@ -206,7 +206,7 @@ pub fn score_temperature(set: &TemperatureSet, choice: FormChoice) -> Result<Sco
     }
     Ok(ScoredTemperature {
         temperature_k: set.temperature_k,
-        weighted: all_sd.is_some(),
+        pressure_sd: all_sd,
         score,
         choice_reason,
         candidates,
@@ -231,13 +231,19 @@ pub fn fit_temperature(set: &TemperatureSet, choice: FormChoice) -> Result<Tempe
 }
 
 impl ScoredTemperature {
+    /// Whether per-point SDs weighted the fit.
+    pub fn weighted(&self) -> bool {
+        self.pressure_sd.is_some()
+    }
+
     /// The per-point output of the chosen form and the warnings about it, for the readings it
     /// was scored on.
     pub fn complete(self, set: &TemperatureSet) -> TemperatureFit {
-        let ScoredTemperature { weighted, score, choice_reason, candidates, quadratic, distinct, mut warnings, .. } =
-            self;
-        let all_sd: Option<Vec<f64>> = if weighted { set.pressure_sd_pa.iter().copied().collect() } else { None };
-        let readings = readings_of(set, all_sd.as_deref());
+        let weighted = self.weighted();
+        let ScoredTemperature {
+            pressure_sd, score, choice_reason, candidates, quadratic, distinct, mut warnings, ..
+        } = self;
+        let readings = readings_of(set, pressure_sd.as_deref());
         // Only the chosen form gets its per-point output.
         let fit = score.complete(&readings);
         if distinct < FEW_CONCENTRATIONS {
