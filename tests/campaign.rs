@@ -3,6 +3,7 @@
 
 use serde_json::Value;
 use std::fmt::Write;
+use thetaseek::units::GAS_CONSTANT_J_PER_MOL_K;
 
 mod common;
 use common::thetaseek;
@@ -28,7 +29,7 @@ fn series_rows(i: usize, temperatures: &[f64], concentrations: usize) -> String 
             let c = n as f64 * 5.0 / concentrations as f64;
             let k = (i * 20 + j * concentrations + n) as f64;
             let a2 = 2e-3 * (1.0 - theta / t);
-            let pressure = c * 8.314_462_618 * t * (1.0 / 100.0 + a2 * c) * (1.0 + 1e-3 * k.sin());
+            let pressure = c * GAS_CONSTANT_J_PER_MOL_K * t * (1.0 / 100.0 + a2 * c) * (1.0 + 1e-3 * k.sin());
             let _ = writeln!(text, "s{i:04},{t},{c},{pressure:.6}");
         }
     }

@@ -96,7 +96,7 @@ fn a_million_rows_are_read_and_analysed() {
             for r in 0..100 {
                 let c = 2.0 + 2.0 * (r % 5) as f64;
                 let p = c
-                    * 8.314462618
+                    * thetaseek::units::GAS_CONSTANT_J_PER_MOL_K
                     * t
                     * (1.0 / 150.0 + a2 * c)
                     * (1.0 + 1e-3 * (((r * 7919 + s) % 13) as f64 - 6.0) / 6.0);
