@@ -160,3 +160,15 @@ pub fn analyze_with_progress(
     );
     results
 }
+
+#[cfg(test)]
+mod tests {
+    use super::Status;
+
+    #[test]
+    fn the_status_names_the_tables_use_are_the_ones_the_report_uses() {
+        for status in [Status::Ok, Status::Partial, Status::Refused] {
+            assert_eq!(serde_json::to_value(status).unwrap(), status.name());
+        }
+    }
+}
