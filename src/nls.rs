@@ -7,12 +7,12 @@
 //! theory", in Numerical Analysis, Dundee 1977, Springer LNM 630), with D the running maximum of
 //! J's column norms and λ updated from the gain ratio (Nielsen 1999, IMM-REP-1999-05).
 //! Covariance at the optimum: s² (JᵀJ)⁻¹ = s² R⁻¹R⁻ᵀ from the QR of J, s² = S/(n − p).
+//! Householder QR on plain column-major buffers: no matrix library, a few allocations per step.
 
 use argmin::core::{
     Error as ArgminError, Executor, IterState, Jacobian, Operator, Problem, Solver, State, TerminationReason,
     TerminationStatus, KV,
 };
-use nalgebra::{DMatrix, DVector};
 
 /// A model to fit: residuals r(β) = f(β) − y and their Jacobian ∂r/∂β.
 pub trait LeastSquaresProblem {
@@ -72,24 +72,114 @@ pub enum NlsError {
 
 struct Adapter<'a, M: ?Sized> {
     model: &'a M,
-    p: usize,
 }
 
 impl<M: LeastSquaresProblem + ?Sized> Operator for Adapter<'_, M> {
-    type Param = DVector<f64>;
-    type Output = DVector<f64>;
+    type Param = Vec<f64>;
+    type Output = Vec<f64>;
     fn apply(&self, beta: &Self::Param) -> Result<Self::Output, ArgminError> {
-        Ok(DVector::from_vec(self.model.residuals(beta.as_slice())))
+        Ok(self.model.residuals(beta))
     }
 }
 
 impl<M: LeastSquaresProblem + ?Sized> Jacobian for Adapter<'_, M> {
-    type Param = DVector<f64>;
-    type Jacobian = DMatrix<f64>;
+    type Param = Vec<f64>;
+    type Jacobian = Vec<f64>;
     fn jacobian(&self, beta: &Self::Param) -> Result<Self::Jacobian, ArgminError> {
-        let n = self.model.residual_count();
-        Ok(DMatrix::from_row_slice(n, self.p, &self.model.jacobian(beta.as_slice())))
+        Ok(self.model.jacobian(beta))
     }
+}
+
+/// The QR factorisation of an m×p matrix by Householder reflections, in place, column-major so
+/// that every reflection works on contiguous columns (Golub & Van Loan 2013, "Matrix
+/// Computations", §5.2.1). R is left in the upper triangle; Q is never formed.
+struct HouseholderQr {
+    m: usize,
+    p: usize,
+    a: Vec<f64>,
+}
+
+fn dot(a: &[f64], b: &[f64]) -> f64 {
+    a.iter().zip(b).map(|(x, y)| x * y).sum()
+}
+
+// Triangular solves read best with explicit indices.
+#[allow(clippy::needless_range_loop)]
+impl HouseholderQr {
+    /// Factorises `a` (m×p, column-major), applying Qᵀ to `b` (length m, or empty) as it goes.
+    fn new(mut a: Vec<f64>, m: usize, p: usize, b: &mut [f64]) -> Self {
+        for k in 0..p {
+            let (left, right) = a.split_at_mut((k + 1) * m);
+            let v = &mut left[k * m + k..];
+            let norm = dot(v, v).sqrt();
+            if norm == 0.0 {
+                continue;
+            }
+            let alpha = if v[0] > 0.0 { -norm } else { norm };
+            v[0] -= alpha;
+            let v_norm2 = dot(v, v);
+            let reflect = |x: &mut [f64]| {
+                let f = 2.0 * dot(v, x) / v_norm2;
+                x.iter_mut().zip(v.iter()).for_each(|(x, v)| *x -= f * v);
+            };
+            for column in right.chunks_exact_mut(m) {
+                reflect(&mut column[k..]);
+            }
+            if !b.is_empty() {
+                reflect(&mut b[k..]);
+            }
+            v[0] = alpha;
+        }
+        HouseholderQr { m, p, a }
+    }
+
+    fn r(&self, i: usize, j: usize) -> f64 {
+        self.a[j * self.m + i]
+    }
+
+    /// x = R⁻¹ (Qᵀb)[..p] (non-finite where R is singular).
+    fn solve(&self, qtb: &[f64]) -> Vec<f64> {
+        let p = self.p;
+        let mut x = vec![0.0; p];
+        for i in (0..p).rev() {
+            let tail: f64 = (i + 1..p).map(|j| self.r(i, j) * x[j]).sum();
+            x[i] = (qtb[i] - tail) / self.r(i, i);
+        }
+        x
+    }
+
+    /// (RᵀR)⁻¹ = R⁻¹R⁻ᵀ, p×p row-major.
+    fn inverse_gram(&self) -> Vec<f64> {
+        let p = self.p;
+        // R⁻¹ column by column (upper triangular), row-major.
+        let mut inv = vec![0.0; p * p];
+        for col in 0..p {
+            for i in (0..=col).rev() {
+                let unit = if i == col { 1.0 } else { 0.0 };
+                let tail: f64 = (i + 1..=col).map(|j| self.r(i, j) * inv[j * p + col]).sum();
+                inv[i * p + col] = (unit - tail) / self.r(i, i);
+            }
+        }
+        let mut out = vec![0.0; p * p];
+        for i in 0..p {
+            for j in 0..p {
+                out[i * p + j] = (i.max(j)..p).map(|k| inv[i * p + k] * inv[j * p + k]).sum();
+            }
+        }
+        out
+    }
+}
+
+/// The column-major m×p copy of a row-major n×p matrix (m ≥ n; rows past n left zero), each
+/// column scaled by `1/divide[k]` when given.
+fn column_major(rows: &[f64], n: usize, p: usize, m: usize, divide: Option<&[f64]>) -> Vec<f64> {
+    let mut a = vec![0.0; m * p];
+    for (i, row) in rows.chunks_exact(p).enumerate().take(n) {
+        for (k, v) in row.iter().enumerate() {
+            a[k * m + i] = divide.map_or(*v, |d| v / d[k]);
+        }
+    }
+    a
 }
 
 /// The damped Gauss–Newton solver (argmin [`Solver`]).
@@ -97,7 +187,7 @@ impl<M: LeastSquaresProblem + ?Sized> Jacobian for Adapter<'_, M> {
 pub struct LevenbergMarquardt {
     lambda: f64,
     nu: f64,
-    scale: Option<DVector<f64>>,
+    scale: Option<Vec<f64>>,
     /// Relative reduction of S below which the fit has converged.
     pub ftol: f64,
     /// Relative step size below which the fit has converged.
@@ -111,15 +201,19 @@ impl Default for LevenbergMarquardt {
     }
 }
 
-type LmState = IterState<DVector<f64>, (), DMatrix<f64>, (), DVector<f64>, f64>;
+type LmState = IterState<Vec<f64>, (), Vec<f64>, (), Vec<f64>, f64>;
 
 fn finite_all(v: &[f64]) -> bool {
     v.iter().all(|x| x.is_finite())
 }
 
+fn norm_squared(v: &[f64]) -> f64 {
+    v.iter().map(|x| x * x).sum()
+}
+
 impl<O> Solver<O, LmState> for LevenbergMarquardt
 where
-    O: Operator<Param = DVector<f64>, Output = DVector<f64>> + Jacobian<Param = DVector<f64>, Jacobian = DMatrix<f64>>,
+    O: Operator<Param = Vec<f64>, Output = Vec<f64>> + Jacobian<Param = Vec<f64>, Jacobian = Vec<f64>>,
 {
     fn name(&self) -> &str {
         "Levenberg-Marquardt (QR steps)"
@@ -128,63 +222,64 @@ where
     fn init(&mut self, problem: &mut Problem<O>, mut state: LmState) -> Result<(LmState, Option<KV>), ArgminError> {
         let beta = state.take_param().ok_or_else(|| ArgminError::msg("no start values"))?;
         let r = problem.apply(&beta)?;
-        let cost = r.norm_squared();
+        let cost = norm_squared(&r);
         Ok((state.param(beta).residuals(r).cost(cost), None))
     }
 
     fn next_iter(&mut self, problem: &mut Problem<O>, state: LmState) -> Result<(LmState, Option<KV>), ArgminError> {
-        let beta = state.get_param().ok_or_else(|| ArgminError::msg("no parameters"))?.clone();
-        let r = state.get_residuals().ok_or_else(|| ArgminError::msg("no residuals"))?.clone();
+        let beta = state.get_param().ok_or_else(|| ArgminError::msg("no parameters"))?;
+        let r = state.get_residuals().ok_or_else(|| ArgminError::msg("no residuals"))?;
         let cost = state.get_cost();
-        let j = problem.jacobian(&beta)?;
-        if !finite_all(j.as_slice()) || !finite_all(r.as_slice()) {
+        let j = problem.jacobian(beta)?;
+        if !finite_all(&j) || !finite_all(r) {
             self.done = Some("non-finite residuals or Jacobian");
             return Ok((state, None));
         }
-        let (n, p) = j.shape();
-        let norms = DVector::from_fn(p, |k, _| j.column(k).norm());
-        let scale = match self.scale.take() {
-            Some(s) => s.zip_map(&norms, f64::max),
-            None => norms.map(|v| if v > 0.0 { v } else { 1.0 }),
+        let p = beta.len();
+        let rows = || j.chunks_exact(p).zip(r.iter());
+        // Column norms of J and the gradient Jᵀr, in one pass over the rows.
+        let (mut norms, mut gradient) = (vec![0.0; p], vec![0.0; p]);
+        for (row, ri) in rows() {
+            for k in 0..p {
+                norms[k] += row[k] * row[k];
+                gradient[k] += row[k] * ri;
+            }
+        }
+        norms.iter_mut().for_each(|v| *v = v.sqrt());
+        let scale: Vec<f64> = match self.scale.take() {
+            Some(s) => s.iter().zip(&norms).map(|(a, b)| a.max(*b)).collect(),
+            None => norms.iter().map(|&v| if v > 0.0 { v } else { 1.0 }).collect(),
         };
-        let gradient_inf = j.tr_mul(&r).iter().zip(scale.iter()).map(|(g, d)| (g / d).abs()).fold(0.0, f64::max);
+        let gradient_inf = gradient.iter().zip(&scale).map(|(g, d)| (g / d).abs()).fold(0.0, f64::max);
         if gradient_inf <= 1e-15 * cost.sqrt().max(f64::MIN_POSITIVE) || cost == 0.0 {
             self.scale = Some(scale);
             self.done = Some("gradient vanished");
             return Ok((state, None));
         }
         // Stacked system [J; √λ D] step = [−r; 0], solved by QR.
+        let (n, m) = (r.len(), r.len() + p);
+        let mut a = column_major(&j, n, p, m, None);
         let root_lambda = self.lambda.sqrt();
-        let mut a = DMatrix::zeros(n + p, p);
-        a.rows_mut(0, n).copy_from(&j);
-        for k in 0..p {
-            a[(n + k, k)] = root_lambda * scale[k];
+        for (k, d) in scale.iter().enumerate() {
+            a[k * m + n + k] = root_lambda * d;
         }
-        let mut rhs = DVector::zeros(n + p);
-        rhs.rows_mut(0, n).copy_from(&r);
-        rhs.rows_mut(0, n).neg_mut();
-        let qr = a.qr();
-        // Qᵀ applied in place: Q itself is never formed.
-        qr.q_tr_mul(&mut rhs);
-        let step = match qr.r().solve_upper_triangular(&rhs.rows(0, p)) {
-            Some(s) if finite_all(s.as_slice()) => s,
-            _ => {
-                self.lambda *= self.nu;
-                self.nu *= 2.0;
-                self.scale = Some(scale);
-                return Ok((state, None));
-            }
-        };
-        let candidate = &beta + &step;
+        let mut rhs: Vec<f64> = r.iter().map(|v| -v).chain(std::iter::repeat_n(0.0, p)).collect();
+        let step = HouseholderQr::new(a, m, p, &mut rhs).solve(&rhs);
+        if !finite_all(&step) {
+            self.lambda *= self.nu;
+            self.nu *= 2.0;
+            self.scale = Some(scale);
+            return Ok((state, None));
+        }
+        let candidate: Vec<f64> = beta.iter().zip(&step).map(|(b, s)| b + s).collect();
         let r_new = problem.apply(&candidate)?;
-        let cost_new = r_new.norm_squared();
-        let mut linear = &j * &step;
-        linear += &r;
-        let predicted = cost - linear.norm_squared();
+        let cost_new = norm_squared(&r_new);
+        let linear: f64 =
+            rows().map(|(row, ri)| (row.iter().zip(&step).map(|(a, s)| a * s).sum::<f64>() + ri).powi(2)).sum();
+        let predicted = cost - linear;
         let rho = if predicted > 0.0 { (cost - cost_new) / predicted } else { -1.0 };
-        let scaled_norm =
-            |v: &DVector<f64>| v.iter().zip(scale.iter()).map(|(x, d)| (x * d).powi(2)).sum::<f64>().sqrt();
-        let (step_size, x_size) = (scaled_norm(&step), scaled_norm(&beta));
+        let scaled_norm = |v: &[f64]| v.iter().zip(&scale).map(|(x, d)| (x * d).powi(2)).sum::<f64>().sqrt();
+        let (step_size, x_size) = (scaled_norm(&step), scaled_norm(beta));
         self.scale = Some(scale);
         if cost_new.is_finite() && rho > 0.0 {
             self.lambda *= (1.0 - (2.0 * rho - 1.0).powi(3)).max(1.0 / 3.0);
@@ -234,18 +329,17 @@ pub fn fit_nonlinear_with<M: LeastSquaresProblem + ?Sized>(
     if n < p {
         return Err(NlsError::TooFewPoints { points: n, parameters: p });
     }
-    let adapter = Adapter { model, p };
-    let result = Executor::new(adapter, solver)
-        .configure(|s| s.param(DVector::from_column_slice(start)).max_iters(max_iters))
+    let result = Executor::new(Adapter { model }, solver)
+        .configure(|s| s.param(start.to_vec()).max_iters(max_iters))
         .run()
         .map_err(|e| NlsError::Solver(e.to_string()))?;
     let state = result.state();
-    let beta: Vec<f64> = state.get_best_param().or(state.get_param()).ok_or(NlsError::NonFinite)?.as_slice().to_vec();
+    let beta: Vec<f64> = state.get_best_param().or(state.get_param()).ok_or(NlsError::NonFinite)?.clone();
     let residuals = model.residuals(&beta);
     if !finite_all(&residuals) {
         return Err(NlsError::NonFinite);
     }
-    let rss: f64 = residuals.iter().map(|r| r * r).sum();
+    let rss = norm_squared(&residuals);
     let converged =
         matches!(state.get_termination_status(), TerminationStatus::Terminated(TerminationReason::SolverConverged));
     let termination = format!("{:?}", state.get_termination_status());
@@ -271,25 +365,29 @@ fn covariance_at<M: LeastSquaresProblem + ?Sized>(
 ) -> Result<(Vec<f64>, Vec<f64>, usize, f64), NlsError> {
     let n = model.residual_count();
     let p = beta.len();
-    let j = DMatrix::from_row_slice(n, p, &model.jacobian(beta));
-    if !finite_all(j.as_slice()) {
+    let j = model.jacobian(beta);
+    if !finite_all(&j) {
         return Err(NlsError::NonFinite);
     }
-    let scale: Vec<f64> = (0..p).map(|k| j.column(k).norm()).collect();
+    let mut scale = vec![0.0; p];
+    for row in j.chunks_exact(p) {
+        scale.iter_mut().zip(row).for_each(|(s, v)| *s += v * v);
+    }
+    scale.iter_mut().for_each(|s| *s = s.sqrt());
     if scale.iter().any(|s| *s <= 0.0) {
         return Err(NlsError::Singular);
     }
-    let js = DMatrix::from_fn(n, p, |i, k| j[(i, k)] / scale[k]);
-    let r = js.qr().r();
-    if (0..p).any(|k| r[(k, k)].abs() <= 1e-13 * (n as f64)) {
+    let qr = HouseholderQr::new(column_major(&j, n, p, n, Some(&scale)), n, p, &mut []);
+    if (0..p).any(|k| qr.r(k, k).abs() <= 1e-13 * (n as f64)) {
         return Err(NlsError::Singular);
     }
-    let r_inv = r.solve_upper_triangular(&DMatrix::identity(p, p)).ok_or(NlsError::Singular)?;
-    let unscaled = &r_inv * r_inv.transpose();
+    let unscaled = qr.inverse_gram();
+    if !finite_all(&unscaled) {
+        return Err(NlsError::Singular);
+    }
     let dof = n - p;
     let s2 = if dof > 0 { rss / dof as f64 } else { f64::NAN };
-    let covariance: Vec<f64> =
-        (0..p * p).map(|k| s2 * unscaled[(k / p, k % p)] / (scale[k / p] * scale[k % p])).collect();
+    let covariance: Vec<f64> = (0..p * p).map(|k| s2 * unscaled[k] / (scale[k / p] * scale[k % p])).collect();
     let standard_errors = (0..p).map(|k| covariance[k * p + k].sqrt()).collect();
     Ok((covariance, standard_errors, dof, s2.sqrt()))
 }

@@ -29,8 +29,9 @@ struct JointProblem {
 }
 
 impl JointProblem {
-    /// (prediction, ∂/∂params) for one reading; params = [1/Mn, a, θ, A3…].
-    fn point(&self, block: &Block, c: f64, beta: &[f64], gradient: Option<&mut [f64]>) -> f64 {
+    /// (prediction, ∂/∂(1/Mn), ∂/∂a, ∂/∂θ) for one reading; params = [1/Mn, a, θ, A3…]
+    /// (∂/∂A3 of a quadratic block is c²).
+    fn point(block: &Block, c: f64, beta: &[f64]) -> (f64, [f64; 3]) {
         let (inv_mn, a, theta) = (beta[0], beta[1], beta[2]);
         let factor = 1.0 - theta / block.temperature_k;
         let a2 = a * factor;
@@ -42,16 +43,7 @@ impl JointProblem {
             }
             None => (inv_mn + a2 * c, c, 1.0),
         };
-        if let Some(g) = gradient {
-            g.iter_mut().for_each(|v| *v = 0.0);
-            g[0] = d_inv_mn;
-            g[1] = d_a2 * factor;
-            g[2] = d_a2 * (-a / block.temperature_k);
-            if let Some(k) = block.a3_index {
-                g[k] = c * c;
-            }
-        }
-        value
+        (value, [d_inv_mn, d_a2 * factor, d_a2 * (-a / block.temperature_k)])
     }
 }
 
@@ -63,20 +55,25 @@ impl LeastSquaresProblem for JointProblem {
     fn residuals(&self, beta: &[f64]) -> Vec<f64> {
         let mut r = Vec::with_capacity(self.n);
         for b in &self.blocks {
-            for i in 0..b.concentration.len() {
-                r.push(b.sqrt_weight[i] * (self.point(b, b.concentration[i], beta, None) - b.reduced[i]));
+            for ((c, y), w) in b.concentration.iter().zip(&b.reduced).zip(&b.sqrt_weight) {
+                r.push(w * (Self::point(b, *c, beta).0 - y));
             }
         }
         r
     }
 
     fn jacobian(&self, beta: &[f64]) -> Vec<f64> {
-        let mut j = Vec::with_capacity(self.n * self.p);
-        let mut g = vec![0.0; self.p];
+        let p = self.p;
+        let mut j = vec![0.0; self.n * p];
+        let mut rows = j.chunks_exact_mut(p);
         for b in &self.blocks {
-            for i in 0..b.concentration.len() {
-                self.point(b, b.concentration[i], beta, Some(&mut g));
-                j.extend(g.iter().map(|v| v * b.sqrt_weight[i]));
+            for (c, w) in b.concentration.iter().zip(&b.sqrt_weight) {
+                let row = rows.next().expect("one row per reading");
+                let (_, g) = Self::point(b, *c, beta);
+                row[..3].iter_mut().zip(g).for_each(|(v, g)| *v = g * w);
+                if let Some(k) = b.a3_index {
+                    row[k] = c * c * w;
+                }
             }
         }
         j
