@@ -33,7 +33,7 @@ fn main() {
     lap("report");
     let json = thetaseek::report::report_json(&report);
     lap("json");
-    let table = table_csv(&report).unwrap();
+    let table = table_csv(&report);
     lap("table");
     let text = render_terminal(&report);
     lap("terminal");

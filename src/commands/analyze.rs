@@ -79,8 +79,7 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
         outputs.push(PendingOutput::streamed(Destination::parse(path), |out| report::write_report_json(&report, out)));
     }
     if let Some(path) = &args.table {
-        let bytes = report::table_csv(&report).map_err(|e| Error::Setting(format!("cannot render the table: {e}")))?;
-        outputs.push(PendingOutput::bytes(Destination::parse(path), bytes));
+        outputs.push(PendingOutput::bytes(Destination::parse(path), report::table_csv(&report)));
     }
     let figures = if args.figures.is_some() || args.html.is_some() {
         plot::figures_for_report(&report).map_err(|e| Error::Setting(e.to_string()))?
@@ -99,9 +98,7 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
     if let Some(path) = &args.series_table {
         let filter =
             if args.needs_attention { report::SeriesFilter::NeedsAttention } else { report::SeriesFilter::All };
-        let bytes = report::series_table_csv(&report, filter)
-            .map_err(|e| Error::Setting(format!("cannot render the series table: {e}")))?;
-        outputs.push(PendingOutput::bytes(Destination::parse(path), bytes));
+        outputs.push(PendingOutput::bytes(Destination::parse(path), report::series_table_csv(&report, filter)));
     }
     super::check_one_stdout(outputs.iter().map(|o| &o.destination))?;
     check_outputs(&outputs, &args.files)?;

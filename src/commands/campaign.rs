@@ -102,10 +102,6 @@ impl Sink {
     }
 }
 
-fn csv(e: polars::prelude::PolarsError) -> Error {
-    Error::Setting(format!("cannot render the table: {e}"))
-}
-
 fn io_error(path: &std::path::Path, source: std::io::Error) -> Error {
     Error::Io { action: "cannot write", path: path.to_path_buf(), source }
 }
@@ -230,12 +226,11 @@ impl<'a> Campaign<'a> {
         }
         let reports: Vec<SeriesReport> = reports.into_iter().map(|(r, _)| r).collect();
         if let Some(sink) = &mut self.table {
-            sink.held.extend_from_slice(&report::table_rows_csv(&reports, self.header).map_err(csv)?);
+            report::table_rows_csv(&mut sink.held, &reports, self.header);
             sink.flush()?;
         }
         if let Some(sink) = &mut self.series_table {
-            sink.held
-                .extend_from_slice(&report::series_table_rows_csv(&reports, self.filter, self.header).map_err(csv)?);
+            report::series_table_rows_csv(&mut sink.held, &reports, self.filter, self.header);
             sink.flush()?;
         }
         self.header = false;
@@ -258,10 +253,10 @@ impl<'a> Campaign<'a> {
         if self.header {
             // No series at all reached a table: the files still get their header line.
             if let Some(sink) = &mut self.table {
-                sink.held.extend_from_slice(&report::table_rows_csv(&[], true).map_err(csv)?);
+                report::table_rows_csv(&mut sink.held, &[], true);
             }
             if let Some(sink) = &mut self.series_table {
-                sink.held.extend_from_slice(&report::series_table_rows_csv(&[], self.filter, true).map_err(csv)?);
+                report::series_table_rows_csv(&mut sink.held, &[], self.filter, true);
             }
         }
         report.series = std::mem::take(&mut self.kept);
