@@ -11,7 +11,7 @@ use thetaseek::dataset::{group, Dataset, Measurement};
 use thetaseek::input::{read_file, ReadOptions};
 use thetaseek::simulate::{simulate, Noise, VirialTruth};
 use thetaseek::thermo::flory_krigbaum_a2;
-use thetaseek::theta::{bootstrap, theta_from_points, Quantity, TemperaturePoint, ThetaSettings};
+use thetaseek::theta::{bootstrap, joint_fit, theta_from_points, Quantity, TemperaturePoint, ThetaSettings};
 use thetaseek::virial::{fit_form, fit_temperature, FormChoice, Readings, VirialForm};
 
 const C: [f64; 6] = [1.5, 3.0, 4.5, 6.0, 7.5, 9.0];
@@ -72,6 +72,12 @@ fn across_temperatures(c: &mut Criterion) {
     let fits: Vec<_> = s.temperatures.iter().map(|t| fit_temperature(t, FormChoice::Auto).unwrap()).collect();
     let sets: Vec<_> = s.temperatures.iter().collect();
     let fit_refs: Vec<_> = fits.iter().collect();
+    // The joint fit starts where the two-stage analysis of this series ends, as in a run.
+    let two_stage = analyze_series(&s, &no_boot, 0).theta.expect("this series has a θ");
+    let (start_theta, start_a) = (two_stage.theta_k.unwrap(), two_stage.line.as_ref().unwrap().a());
+    c.bench_function("joint fit of 30 readings (Levenberg-Marquardt, from the two-stage start)", |b| {
+        b.iter(|| joint_fit(black_box(&sets), &fit_refs, start_theta, start_a))
+    });
     let one = ThetaSettings { bootstrap_replicates: 1, ..ThetaSettings::default() };
     c.bench_function("one bootstrap replicate (refit five temperatures and the line)", |b| {
         b.iter(|| bootstrap(black_box(&sets), &fit_refs, &one, 0, &()))
