@@ -8,7 +8,7 @@
 use super::scan::{scan_header, scan_records, Layout};
 use super::{
     check_structure, check_utf8_from, ignored_columns, locate_roles, parse_header_cell, parse_with_polars,
-    read_file_owned, read_osmometry, FileContents, ReadOptions, Role, Table,
+    read_file_owned, read_osmometry, FileContents, OsmometryColumns, ReadOptions, Role, Table,
 };
 use crate::dataset::GroupedReadings;
 use crate::error::InputError;
@@ -63,6 +63,9 @@ pub struct BlockReader<'a> {
     header_bytes: Vec<u8>,
     cells: Vec<super::HeaderCell>,
     roles: HashMap<Role, usize>,
+    /// Which columns polars parses as numbers (the readings' own: temperature, concentration,
+    /// pressure or head and density, pressure SD).
+    numbers: Vec<bool>,
     line: usize,
     merged: Merged,
     any_row: bool,
@@ -104,6 +107,15 @@ impl<'a> BlockReader<'a> {
         let roles = locate_roles(name, header.line, &cells)?;
         let header_bytes = buffer[..header.data_start].to_vec();
         buffer.drain(..header.data_start);
+        let numeric = [
+            Role::Temperature,
+            Role::Concentration,
+            Role::Pressure,
+            Role::PressureSd,
+            Role::Head,
+            Role::SolventDensity,
+        ];
+        let numbers = (0..cells.len()).map(|i| numeric.iter().any(|r| roles.get(r) == Some(&i))).collect();
         Ok(Opened::Blocks(Box::new(BlockReader {
             name,
             file_index,
@@ -117,6 +129,7 @@ impl<'a> BlockReader<'a> {
             header_bytes,
             cells,
             roles,
+            numbers,
             line: header.data_line,
             merged: Merged::default(),
             any_row: false,
@@ -140,11 +153,41 @@ impl<'a> BlockReader<'a> {
             self.any_row |= block.records.iter().any(|r| !r.blank);
             let layout = Layout { header_line: self.header_line, header: self.fields.clone(), records: block.records };
             check_structure(name, &layout)?;
-            let frame = parse_with_polars(name, &[&self.header_bytes[..], text].concat(), Some(1))?;
-            let table =
-                Table::from_frame(name, self.file_index, self.cells.clone(), layout, self.roles.clone(), frame, true)?;
-            let columns = read_osmometry(&table, self.options)?;
-            self.merged.add(&table)?;
+            let bytes = [&self.header_bytes[..], text].concat();
+            // The fast way first: polars parses the numeric columns itself. Anything it refuses,
+            // or any refusal of ours, reads the block again as text, whose refusal quotes the
+            // value; the results are the same either way (tests/properties.rs).
+            let table = match parse_with_polars(name, &bytes, Some(1), Some(&self.numbers)) {
+                Ok(frame) => Table::from_frame(
+                    name,
+                    self.file_index,
+                    self.cells.clone(),
+                    layout,
+                    self.roles.clone(),
+                    frame,
+                    true,
+                ),
+                Err(_) => {
+                    let frame = parse_with_polars(name, &bytes, Some(1), None)?;
+                    Table::from_frame(
+                        name,
+                        self.file_index,
+                        self.cells.clone(),
+                        layout,
+                        self.roles.clone(),
+                        frame,
+                        true,
+                    )
+                }
+            };
+            let mut table = table?;
+            let columns = match self.read_table(&table) {
+                Err(_) if table.numbers => {
+                    table.read_as_text(parse_with_polars(name, &bytes, Some(1), None)?)?;
+                    self.read_table(&table)?
+                }
+                read => read?,
+            };
             drop(table);
             columns.group_into(&mut self.readings);
         }
@@ -155,6 +198,14 @@ impl<'a> BlockReader<'a> {
         }
         self.at_end = fill(self.source, &mut self.buffer, self.block_bytes).map_err(|e| read_error(name, e))?;
         Ok(true)
+    }
+
+    /// One block's readings, and what spans the file added to [`Merged`] (adding again after
+    /// a refusal changes nothing: the same rows are seen again in the same order).
+    fn read_table(&mut self, table: &Table) -> Result<OsmometryColumns, InputError> {
+        let columns = read_osmometry(table, self.options)?;
+        self.merged.add(table)?;
+        Ok(columns)
     }
 
     /// v̄ and V1 the file gives for `series` so far (the first given).
@@ -327,6 +378,33 @@ mod tests {
         let whole = read_file("f.csv", 0, &bytes, &ReadOptions::default()).unwrap_err().to_string();
         for size in [50, 200, 1000] {
             assert_eq!(blocks(&bytes, size).unwrap_err().to_string(), whole);
+        }
+    }
+
+    /// A block is read the fast way (polars parsing the numbers) and again as text on any
+    /// refusal: every odd pressure a block can hold gives what a whole read gives, a refusal
+    /// quoting the value or the same readings.
+    #[test]
+    fn odd_numbers_in_a_later_block_read_as_a_whole_read_reads_them() {
+        let good = file(|t| 20.0 + 5.0 * t as f64, "mirane");
+        let text = String::from_utf8(good).unwrap();
+        let last = text.trim_end().rsplit_once(',').unwrap().1.to_string();
+        for odd in [
+            "NaN", "inf", "-inf", "1e-320", "-3.5", "\"1,5\"", "1.5 ", " 1.5", "+1.5", "1.", ".5", "\"2.5\"", "",
+            "1e400", "0x10", "1e", "12abc",
+        ] {
+            let at = text.rfind(&last).unwrap();
+            let bytes = format!("{}{odd}{}", &text[..at], &text[at + last.len()..]).into_bytes();
+            let whole = read_file("f.csv", 0, &bytes, &ReadOptions::default())
+                .map(|c| format!("{:?}", c.readings.into_series()));
+            for size in [60, 400] {
+                let streamed = blocks(&bytes, size).map(|c| format!("{:?}", c.readings.into_series()));
+                match (&whole, &streamed) {
+                    (Ok(w), Ok(b)) => assert_eq!(w, b, "{odd:?}"),
+                    (Err(w), Err(b)) => assert_eq!(w.to_string(), b.to_string(), "{odd:?}"),
+                    _ => panic!("{odd:?}: whole {whole:?}, in blocks of {size} {streamed:?}"),
+                }
+            }
         }
     }
 

@@ -317,13 +317,22 @@ fn check_structure(name: &str, layout: &Layout) -> Result<(), InputError> {
     Ok(())
 }
 
-/// Parses CSV text with polars, every column as text; `threads` limits polars' own threads (a
-/// block of a large file is parsed on one, while the series before it are analysed).
-fn parse_with_polars(name: &str, bytes: &[u8], threads: Option<usize>) -> Result<DataFrame, InputError> {
+/// Parses CSV text with polars, every column as text, or as numbers where `numbers` is given
+/// (one flag per column); `threads` limits polars' own threads (a block of a large file is
+/// parsed on one, while the series before it are analysed).
+fn parse_with_polars(
+    name: &str,
+    bytes: &[u8],
+    threads: Option<usize>,
+    numbers: Option<&[bool]>,
+) -> Result<DataFrame, InputError> {
+    let dtypes = numbers
+        .map(|n| Arc::new(n.iter().map(|&number| if number { DataType::Float64 } else { DataType::String }).collect()));
     CsvReadOptions::default()
         .with_n_threads(threads)
         .with_has_header(true)
         .with_infer_schema_length(Some(0))
+        .with_dtype_overwrite(dtypes)
         .with_parse_options(CsvParseOptions::default().with_comment_prefix(Some("#")))
         .into_reader_with_file_handle(Cursor::new(bytes))
         .finish()
@@ -371,13 +380,51 @@ fn locate_roles(file: &str, header_line: usize, cells: &[HeaderCell]) -> Result<
     Ok(found)
 }
 
-/// One parsed file: its header cells, record lines and text columns.
+/// One column as polars read it.
+enum Cells {
+    Text(StringChunked),
+    /// A numeric column of a block read the fast way ([`Table::numbers`]): polars parsed the
+    /// values, and there is no text to quote in a refusal.
+    Numbers(Float64Chunked),
+}
+
+/// The columns of a frame polars read: text, or numbers where it was asked to parse them.
+fn cells_of(name: &str, frame: &DataFrame) -> Result<Vec<Cells>, InputError> {
+    frame
+        .columns()
+        .iter()
+        .map(|c| {
+            let series = c.as_materialized_series();
+            match series.dtype() {
+                DataType::Float64 => series.f64().cloned().map(Cells::Numbers),
+                _ => series.str().cloned().map(Cells::Text),
+            }
+        })
+        .collect::<Result<Vec<_>, _>>()
+        .map_err(|e| InputError::file(name, format!("a column could not be read as text: {e}")))
+}
+
+/// A value computed with: finite, and zero or normal (subnormal numbers, below 2.2e-308, are
+/// typing slips, and they lose precision).
+fn usable(v: f64) -> bool {
+    v.is_finite() && (v == 0.0 || v.is_normal())
+}
+
+/// The stand-in refusal of a table read the fast way: it is never shown, since the block is
+/// then read again as text, whose refusal is.
+fn read_again() -> InputError {
+    InputError::file("", "read this block again as text")
+}
+
+/// One parsed file: its header cells, record lines and columns.
 struct Table<'a> {
     name: &'a str,
     file_index: usize,
     cells: Vec<HeaderCell>,
     layout: Layout,
-    columns: Vec<StringChunked>,
+    columns: Vec<Cells>,
+    /// Numeric columns parsed by polars: any refusal means "read the block again as text".
+    numbers: bool,
     roles: HashMap<Role, usize>,
     /// For one block of a file read in blocks: the column-wide checks are recorded here (does
     /// every value of this block exceed the limit, and the refusal at its first row) and
@@ -404,7 +451,7 @@ impl<'a> Table<'a> {
         if layout.records.iter().all(|r| r.blank) {
             return Err(InputError::at(name, layout.header_line, None, None, "the header has no data rows under it"));
         }
-        let frame = parse_with_polars(name, bytes, None)?;
+        let frame = parse_with_polars(name, bytes, None, None)?;
         Table::from_frame(name, file_index, cells, layout, roles, frame, false)
     }
 
@@ -429,14 +476,22 @@ impl<'a> Table<'a> {
                 ),
             ));
         }
-        let columns = frame
-            .columns()
-            .iter()
-            .map(|c| c.as_materialized_series().str().cloned())
-            .collect::<Result<Vec<_>, _>>()
-            .map_err(|e| InputError::file(name, format!("a column could not be read as text: {e}")))?;
+        let columns = cells_of(name, &frame)?;
+        let numbers = columns.iter().any(|c| matches!(c, Cells::Numbers(_)));
         let deferred = deferred.then(|| std::sync::Mutex::new(Vec::new()));
-        Ok(Table { name, file_index, cells, layout, columns, roles, deferred })
+        Ok(Table { name, file_index, cells, layout, columns, numbers, roles, deferred })
+    }
+
+    /// Takes the text of `frame` (the same records read with every column as text) in place of
+    /// the numbers, forgetting what was recorded from them.
+    fn read_as_text(&mut self, frame: DataFrame) -> Result<(), InputError> {
+        if frame.height() != self.layout.records.len() || frame.width() != self.columns.len() {
+            return Err(InputError::file(self.name, "the CSV reader read this block differently as text"));
+        }
+        self.columns = cells_of(self.name, &frame)?;
+        self.numbers = false;
+        self.take_deferred();
+        Ok(())
     }
 
     /// The column-wide checks recorded for a block (see [`Table::deferred`]).
@@ -469,7 +524,10 @@ impl<'a> Table<'a> {
     }
 
     fn text(&self, col: usize, row: usize) -> &str {
-        self.columns[col].get(row).map(str::trim).unwrap_or("")
+        match &self.columns[col] {
+            Cells::Text(text) => text.get(row).map(str::trim).unwrap_or(""),
+            Cells::Numbers(_) => "",
+        }
     }
 
     fn line(&self, row: usize) -> usize {
@@ -481,6 +539,9 @@ impl<'a> Table<'a> {
     }
 
     fn refuse(&self, col: usize, row: usize, message: &str) -> InputError {
+        if self.numbers {
+            return read_again();
+        }
         let value = self.text(col, row);
         InputError::at(
             self.name,
@@ -493,6 +554,9 @@ impl<'a> Table<'a> {
 
     /// A finite number, or a message that says what is wrong with the value.
     fn number(&self, col: usize, row: usize) -> Result<f64, InputError> {
+        if let Cells::Numbers(values) = &self.columns[col] {
+            return values.get(row).filter(|v| usable(*v)).ok_or_else(read_again);
+        }
         let text = self.text(col, row);
         if text.is_empty() {
             return Err(self.refuse(col, row, "the value is missing: expected a number"));
@@ -522,6 +586,10 @@ impl<'a> Table<'a> {
     fn refuse_if_all_exceed(&self, col: usize, raw: &[f64], limit: f64, message: &str) -> Result<(), InputError> {
         let rows: Vec<usize> = self.rows().collect();
         let all_exceed = rows.iter().all(|&r| raw[r] > limit);
+        if self.numbers && all_exceed {
+            // The refusal would quote the first value: only the text has it.
+            return Err(read_again());
+        }
         if let Some(deferred) = &self.deferred {
             let refusal = rows.first().map(|&r| self.refuse(col, r, message));
             deferred.lock().unwrap_or_else(|p| p.into_inner()).push(DeferredCheck { column: col, all_exceed, refusal });
@@ -561,14 +629,28 @@ impl<'a> Table<'a> {
         convert: impl Fn(usize, f64) -> Result<f64, InputError>,
     ) -> Result<Vec<f64>, (usize, InputError)> {
         let mut out = Vec::with_capacity(self.layout.records.len());
-        for (row, (text, record)) in self.columns[col].iter().zip(&self.layout.records).enumerate() {
+        let text = match &self.columns[col] {
+            Cells::Text(text) => text,
+            Cells::Numbers(values) => {
+                for (row, (value, record)) in values.iter().zip(&self.layout.records).enumerate() {
+                    match value {
+                        _ if record.blank => out.push(f64::NAN),
+                        None if allow_empty => out.push(f64::NAN),
+                        Some(v) if usable(v) => out.push(convert(row, v).map_err(|e| (row, e))?),
+                        _ => return Err((row, read_again())),
+                    }
+                }
+                return Ok(out);
+            }
+        };
+        for (row, (text, record)) in text.iter().zip(&self.layout.records).enumerate() {
             let text = text.map_or("", str::trim);
             if record.blank || (allow_empty && text.is_empty()) {
                 out.push(f64::NAN);
                 continue;
             }
             let value = match f64::from_str(text) {
-                Ok(v) if v.is_finite() && (v == 0.0 || v.is_normal()) => v,
+                Ok(v) if usable(v) => v,
                 _ => return Err((row, self.number(col, row).err().unwrap_or_else(|| self.refuse(col, row, "")))),
             };
             out.push(convert(row, value).map_err(|e| (row, e))?);
@@ -677,7 +759,8 @@ impl<'a> Table<'a> {
             }
             return Ok(out);
         };
-        for (row, (text, record)) in self.columns[col].iter().zip(&self.layout.records).enumerate() {
+        let Cells::Text(names) = &self.columns[col] else { return Err((0, read_again())) };
+        for (row, (text, record)) in names.iter().zip(&self.layout.records).enumerate() {
             let name = text.map_or("", str::trim);
             if !record.blank {
                 if name.is_empty() {
