@@ -157,30 +157,12 @@ impl<'a> BlockReader<'a> {
             // The fast way first: polars parses the numeric columns itself. Anything it refuses,
             // or any refusal of ours, reads the block again as text, whose refusal quotes the
             // value; the results are the same either way (tests/properties.rs).
-            let table = match parse_with_polars(name, &bytes, Some(1), Some(&self.numbers)) {
-                Ok(frame) => Table::from_frame(
-                    name,
-                    self.file_index,
-                    self.cells.clone(),
-                    layout,
-                    self.roles.clone(),
-                    frame,
-                    true,
-                ),
-                Err(_) => {
-                    let frame = parse_with_polars(name, &bytes, Some(1), None)?;
-                    Table::from_frame(
-                        name,
-                        self.file_index,
-                        self.cells.clone(),
-                        layout,
-                        self.roles.clone(),
-                        frame,
-                        true,
-                    )
-                }
+            let frame = match parse_with_polars(name, &bytes, Some(1), Some(&self.numbers)) {
+                Ok(frame) => frame,
+                Err(_) => parse_with_polars(name, &bytes, Some(1), None)?,
             };
-            let mut table = table?;
+            let mut table =
+                Table::from_frame(name, self.file_index, self.cells.clone(), layout, self.roles.clone(), frame, true)?;
             let columns = match self.read_table(&table) {
                 Err(_) if table.numbers => {
                     table.read_as_text(parse_with_polars(name, &bytes, Some(1), None)?)?;
