@@ -562,8 +562,7 @@ impl<'a> Table<'a> {
             return Err(self.refuse(col, row, "the value is missing: expected a number"));
         }
         match f64::from_str(text) {
-            // Subnormal numbers (below 2.2e-308) are typing slips, and they lose precision.
-            Ok(v) if v.is_finite() && (v == 0.0 || v.is_normal()) => Ok(v),
+            Ok(v) if usable(v) => Ok(v),
             Ok(v) if v.is_finite() => {
                 Err(self.refuse(col, row, "the number is too small to compute with (below 1e-307)"))
             }
