@@ -156,7 +156,8 @@ impl<'a> BlockReader<'a> {
             let bytes = [&self.header_bytes[..], text].concat();
             // The fast way first: polars parses the numeric columns itself. Anything it refuses,
             // or any refusal of ours, reads the block again as text, whose refusal quotes the
-            // value; the results are the same either way (tests/properties.rs).
+            // value; the results are the same either way (the odd-numbers test below, and the
+            // block-size property in tests/properties.rs).
             let frame = match parse_with_polars(name, &bytes, Some(1), Some(&self.numbers)) {
                 Ok(frame) => frame,
                 Err(_) => parse_with_polars(name, &bytes, Some(1), None)?,

@@ -590,7 +590,9 @@ impl<'a> Table<'a> {
             return Err(read_again());
         }
         if let Some(deferred) = &self.deferred {
-            let refusal = rows.first().map(|&r| self.refuse(col, r, message));
+            // Read the fast way, this block does not exceed (else it was read again above):
+            // the column cannot be refused, and there is no text to word a refusal with.
+            let refusal = if self.numbers { None } else { rows.first().map(|&r| self.refuse(col, r, message)) };
             deferred.lock().unwrap_or_else(|p| p.into_inner()).push(DeferredCheck { column: col, all_exceed, refusal });
             return Ok(());
         }
