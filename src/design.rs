@@ -211,7 +211,7 @@ pub fn next_runs(name: &str, points: &[MeasuredTemperature], settings: &DesignSe
     };
     design.current = Current { theta_k: theta_now, se_k: se_now, ci_width_k: width_now };
     let run = |t: f64, (se, width): Prediction| CandidateRun {
-        temperature_c: t - crate::units::CELSIUS_OFFSET_K,
+        temperature_c: crate::units::kelvin_to_celsius(t),
         concentrations_g_per_ml: concentrations.iter().map(|c| c * 1e-3).collect(),
         measurements,
         predicted_se_k: se,

@@ -8,7 +8,7 @@ use crate::thermo::{
     expansion_argument, expansion_factor, flory_cm, overlap_concentration, segment_ratio, shultz_flory_tc,
 };
 use crate::theta::{brent_root, Crossing, IntervalKind, Quantity, Sense};
-use crate::units::CELSIUS_OFFSET_K;
+use crate::units::{kelvin_to_celsius, CELSIUS_OFFSET_K};
 use serde::Serialize;
 
 /// Keep the working temperature at least this far below the boiling point (common practice).
@@ -196,8 +196,8 @@ pub fn plan(series: &[PlanSeries], solvents: &[SolventProperties], settings: &Pl
         reasons.extend(c.reasons.iter().cloned());
         Recommendation {
             solvent: c.solvent.clone(),
-            temperature_c: t - CELSIUS_OFFSET_K,
-            temperature_window_c: [lo - CELSIUS_OFFSET_K, hi - CELSIUS_OFFSET_K],
+            temperature_c: kelvin_to_celsius(t),
+            temperature_window_c: [kelvin_to_celsius(lo), kelvin_to_celsius(hi)],
             reasons,
         }
     });

@@ -127,10 +127,30 @@ unit_enum!(
 );
 
 impl TemperatureUnit {
-    /// Value in this unit → kelvin (the "factor" of a temperature scale is its offset).
+    /// Value in this unit → kelvin (the "factor" of a temperature scale is its offset),
+    /// T/K = t/°C + 273.15, rounded to 1 nK when an offset is added (see [`round_to_nanokelvin`]).
     pub fn to_kelvin(self, value: f64) -> f64 {
-        value + self.factor()
+        let offset = self.factor();
+        if offset == 0.0 {
+            value
+        } else {
+            round_to_nanokelvin(value + offset)
+        }
     }
+}
+
+/// Celsius value of a kelvin temperature, t/°C = T/K − 273.15, rounded to 1 nK.
+pub fn kelvin_to_celsius(t_k: f64) -> f64 {
+    round_to_nanokelvin(t_k - CELSIUS_OFFSET_K)
+}
+
+/// A temperature rounded to 10⁻⁹ K.
+///
+/// 273.15 has no exact binary form, so a bare shift turns 275.41 K into 2.2600000000000477 °C
+/// and 2.26 °C into 275.40999999999997 K; a reader of the report should see 2.26 and 275.41.
+/// One nanokelvin is far below any thermostat's resolution, so no result moves.
+pub fn round_to_nanokelvin(t: f64) -> f64 {
+    (t * 1.0e9).round() / 1.0e9
 }
 
 unit_enum!(
@@ -372,5 +392,17 @@ mod tests {
         let err = "furlong".parse::<LengthUnit>().unwrap_err();
         assert_eq!(err.accepted, "cm, mm, m");
         assert!(err.to_string().contains("unknown head unit 'furlong'"));
+    }
+
+    #[test]
+    fn celsius_and_kelvin_convert_without_binary_artefacts() {
+        // SI brochure (9th ed., 2.3.1): t/°C = T/K − 273.15 exactly.
+        assert_eq!(TemperatureUnit::Celsius.to_kelvin(0.0), 273.15);
+        assert_eq!(kelvin_to_celsius(273.15), 0.0);
+        // A bare shift would give 2.2600000000000477 and 275.40999999999997.
+        assert_eq!(kelvin_to_celsius(275.41), 2.26);
+        assert_eq!(TemperatureUnit::Celsius.to_kelvin(2.26), 275.41);
+        assert_eq!(TemperatureUnit::Kelvin.to_kelvin(275.41), 275.41);
+        assert_eq!(kelvin_to_celsius(290.21867194735376).to_string(), "17.068671947");
     }
 }

@@ -13,7 +13,7 @@ pub use theta::{LineReport, ThetaPointReport, ThetaReport};
 
 use crate::analysis::{SeriesResult, Status};
 use crate::units::{
-    A2_MOL_ML_PER_G2_PER_SI, A3_MOL_ML2_PER_G3_PER_SI, CELSIUS_OFFSET_K, GAS_CONSTANT_J_PER_MOL_K,
+    kelvin_to_celsius, A2_MOL_ML_PER_G2_PER_SI, A3_MOL_ML2_PER_G3_PER_SI, GAS_CONSTANT_J_PER_MOL_K,
     G_PER_ML_PER_KG_PER_M3, G_PER_MOL_PER_KG_PER_MOL,
 };
 use crate::virial::{Candidate, FitWarning, SkippedTemperature, TemperatureFit, VirialForm};
@@ -329,7 +329,7 @@ impl FitReport {
         let unweighted_reduced = !t.weighted && f.score.form != VirialForm::Sqrt;
         FitReport {
             temperature_k: t.temperature_k,
-            temperature_c: t.temperature_k - CELSIUS_OFFSET_K,
+            temperature_c: kelvin_to_celsius(t.temperature_k),
             n_points: t.n_points,
             virial_form: f.score.form,
             virial_form_reason: t.choice_reason.clone(),

@@ -3,7 +3,7 @@
 
 use super::InputFile;
 use crate::plan::{Goal, Plan, PlanSettings};
-use crate::units::CELSIUS_OFFSET_K;
+use crate::units::{kelvin_to_celsius, CELSIUS_OFFSET_K};
 use serde::Serialize;
 use std::fmt::Write;
 
@@ -66,7 +66,7 @@ impl PlanReport {
                 goal,
                 target_a2_mol_ml_per_g2: target_a2,
                 target_expansion,
-                thermostat_c: settings.thermostat.map(|(lo, hi)| [lo - CELSIUS_OFFSET_K, hi - CELSIUS_OFFSET_K]),
+                thermostat_c: settings.thermostat.map(|(lo, hi)| [kelvin_to_celsius(lo), kelvin_to_celsius(hi)]),
                 a2_tolerance_mol_ml_per_g2: settings.a2_tolerance,
                 unperturbed_dimension_a2_mol_per_g: settings.unperturbed_r2_over_m.map(|d| d * 1e17),
                 boiling_margin_k: crate::plan::BOILING_MARGIN_K,

@@ -1,7 +1,7 @@
 //! The `theta` object of each series in the report, in report units.
 
 use crate::theta::{Crossing, IntervalKind, ModelTheta, Sense, ThetaResult};
-use crate::units::{CELSIUS_OFFSET_K, G_PER_MOL_PER_KG_PER_MOL};
+use crate::units::{kelvin_to_celsius, G_PER_MOL_PER_KG_PER_MOL};
 use serde::Serialize;
 
 /// θ and everything around it.
@@ -177,7 +177,7 @@ impl ThetaReport {
     pub fn new(t: &ThetaResult, quantity: crate::theta::Quantity) -> Self {
         ThetaReport {
             theta_k: t.theta_k,
-            theta_c: t.theta_k.map(|k| k - CELSIUS_OFFSET_K),
+            theta_c: t.theta_k.map(kelvin_to_celsius),
             se_k: t.se_k,
             ci_low_k: t.interval.low_k,
             ci_high_k: t.interval.high_k,
