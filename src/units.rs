@@ -128,7 +128,7 @@ unit_enum!(
 
 impl TemperatureUnit {
     /// Value in this unit → kelvin (the "factor" of a temperature scale is its offset),
-    /// T/K = t/°C + 273.15, rounded to 1 nK when an offset is added (see [`round_to_nanokelvin`]).
+    /// T/K = t/°C + 273.15, rounded to 1 nK when an offset is added (see `round_to_nanokelvin`).
     pub fn to_kelvin(self, value: f64) -> f64 {
         let offset = self.factor();
         if offset == 0.0 {
@@ -148,8 +148,8 @@ pub fn kelvin_to_celsius(t_k: f64) -> f64 {
 ///
 /// 273.15 has no exact binary form, so a bare shift turns 275.41 K into 2.2600000000000477 °C
 /// and 2.26 °C into 275.40999999999997 K; a reader of the report should see 2.26 and 275.41.
-/// One nanokelvin is far below any thermostat's resolution, so no result moves.
-pub fn round_to_nanokelvin(t: f64) -> f64 {
+/// One nanokelvin is far below any thermostat's resolution, so no result moves measurably.
+fn round_to_nanokelvin(t: f64) -> f64 {
     (t * 1.0e9).round() / 1.0e9
 }
 
