@@ -11,6 +11,7 @@
 
 use crate::theta::{InverseTemperatureLine, TemperaturePoint};
 use crate::uncertainty::{critical_value, fieller_zero, replicate_rng, FiellerSet};
+use crate::units::kelvin_to_celsius;
 use rand_distr::{Distribution, Normal};
 use serde::Serialize;
 
@@ -211,7 +212,7 @@ pub fn next_runs(name: &str, points: &[MeasuredTemperature], settings: &DesignSe
     };
     design.current = Current { theta_k: theta_now, se_k: se_now, ci_width_k: width_now };
     let run = |t: f64, (se, width): Prediction| CandidateRun {
-        temperature_c: crate::units::kelvin_to_celsius(t),
+        temperature_c: kelvin_to_celsius(t),
         concentrations_g_per_ml: concentrations.iter().map(|c| c * 1e-3).collect(),
         measurements,
         predicted_se_k: se,
@@ -245,8 +246,8 @@ pub fn next_runs(name: &str, points: &[MeasuredTemperature], settings: &DesignSe
             added.push((t, weight));
             design.advice.push(format!(
                 "θ ({:.1} °C) lies outside the measured temperatures: first measure at {:.1} °C, on its other side, so that the crossing is bracketed",
-                theta - crate::units::CELSIUS_OFFSET_K,
-                t - crate::units::CELSIUS_OFFSET_K
+                kelvin_to_celsius(theta),
+                kelvin_to_celsius(t)
             ));
             design.recommended.push(run(t, model.predict(&added, 1.0)));
         } else {

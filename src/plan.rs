@@ -8,7 +8,7 @@ use crate::thermo::{
     expansion_argument, expansion_factor, flory_cm, overlap_concentration, segment_ratio, shultz_flory_tc,
 };
 use crate::theta::{brent_root, Crossing, IntervalKind, Quantity, Sense};
-use crate::units::{kelvin_to_celsius, CELSIUS_OFFSET_K};
+use crate::units::kelvin_to_celsius;
 use serde::Serialize;
 
 /// Keep the working temperature at least this far below the boiling point (common practice).
@@ -307,14 +307,14 @@ fn assess(s: &PlanSeries, props: &SolventProperties, settings: &PlanSettings) ->
     };
     c.target_temperature_k = Some(t);
     let mut ruled_out = Vec::new();
-    let t_c = t - CELSIUS_OFFSET_K;
+    let t_c = kelvin_to_celsius(t);
 
     if let Some((lo, hi)) = settings.thermostat {
         if t < lo || t > hi {
             ruled_out.push(format!(
                 "{t_c:.1} °C lies outside the thermostat range {:.1}–{:.1} °C",
-                lo - CELSIUS_OFFSET_K,
-                hi - CELSIUS_OFFSET_K
+                kelvin_to_celsius(lo),
+                kelvin_to_celsius(hi)
             ));
         } else {
             c.reasons.push(format!("{t_c:.1} °C is inside the thermostat range"));
@@ -326,12 +326,12 @@ fn assess(s: &PlanSeries, props: &SolventProperties, settings: &PlanSettings) ->
         Some(bp) => {
             c.boiling_margin_k = Some(bp - t);
             if t >= bp {
-                ruled_out.push(format!("{t_c:.1} °C lies above the boiling point ({:.1} °C)", bp - CELSIUS_OFFSET_K));
+                ruled_out.push(format!("{t_c:.1} °C lies above the boiling point ({:.1} °C)", kelvin_to_celsius(bp)));
             } else if bp - t < BOILING_MARGIN_K {
                 ruled_out.push(format!(
                     "{t_c:.1} °C is only {:.1} K below the boiling point ({:.1} °C); keep at least {BOILING_MARGIN_K:.0} K (common practice)",
                     bp - t,
-                    bp - CELSIUS_OFFSET_K
+                    kelvin_to_celsius(bp)
                 ));
             } else {
                 c.reasons.push(format!("{:.0} K below the boiling point", bp - t));
@@ -342,7 +342,7 @@ fn assess(s: &PlanSeries, props: &SolventProperties, settings: &PlanSettings) ->
     match props.melting_point_k {
         Some(mp) if t - mp < MELTING_MARGIN_K => ruled_out.push(format!(
             "{t_c:.1} °C is within {MELTING_MARGIN_K:.0} K of the melting point ({:.1} °C)",
-            mp - CELSIUS_OFFSET_K
+            kelvin_to_celsius(mp)
         )),
         Some(_) => {}
         None => c.unchecked.push("melting point not given: freezing was not checked".into()),
@@ -358,12 +358,12 @@ fn assess(s: &PlanSeries, props: &SolventProperties, settings: &PlanSettings) ->
             if margin <= 0.0 {
                 ruled_out.push(format!(
                     "the sample phase-separates at {t_c:.1} °C (Shultz–Flory Tc = {:.1} °C)",
-                    tc - CELSIUS_OFFSET_K
+                    kelvin_to_celsius(tc)
                 ));
             } else if margin < CRITICAL_MARGIN_K {
                 c.warnings.push(format!(
                     "only {margin:.1} K from the critical temperature ({:.1} °C): near-critical fluctuations, aggregation, and a sample that may come out of solution",
-                    tc - CELSIUS_OFFSET_K
+                    kelvin_to_celsius(tc)
                 ));
             } else {
                 c.reasons.push(format!("{margin:.1} K from the sample's critical temperature"));

@@ -9,7 +9,7 @@ use thetaseek::error::{Error, InputError};
 use thetaseek::output::Destination;
 use thetaseek::report::{self, InputFile};
 use thetaseek::theta::{a2_points, TemperaturePoint, ThetaSettings};
-use thetaseek::units::CELSIUS_OFFSET_K;
+use thetaseek::units::{kelvin_to_celsius, TemperatureUnit};
 
 /// The advice of one run, as JSON.
 #[derive(Debug, serde::Serialize)]
@@ -66,7 +66,7 @@ pub fn run(args: &NextArgs) -> Result<(), Error> {
         });
         let thermostat = args
             .thermostat
-            .map(|(lo, hi)| (lo + CELSIUS_OFFSET_K, hi + CELSIUS_OFFSET_K))
+            .map(|(lo, hi)| (TemperatureUnit::Celsius.to_kelvin(lo), TemperatureUnit::Celsius.to_kelvin(hi)))
             .unwrap_or((t_lo - 15.0, t_hi + 15.0));
         let design_settings = DesignSettings {
             thermostat,
@@ -161,10 +161,10 @@ fn render(designs: &[SeriesDesign]) -> String {
         let _ = writeln!(out, "series {}", d.name);
         match (d.current.theta_k, d.current.ci_width_k) {
             (Some(t), Some(w)) => {
-                let _ = writeln!(out, "  now: θ = {:.2} °C, interval width {w:.2} K", t - CELSIUS_OFFSET_K);
+                let _ = writeln!(out, "  now: θ = {:.2} °C, interval width {w:.2} K", kelvin_to_celsius(t));
             }
             (Some(t), None) => {
-                let _ = writeln!(out, "  now: θ = {:.2} °C, no bounded interval", t - CELSIUS_OFFSET_K);
+                let _ = writeln!(out, "  now: θ = {:.2} °C, no bounded interval", kelvin_to_celsius(t));
             }
             _ => {
                 let _ = writeln!(out, "  now: no θ");

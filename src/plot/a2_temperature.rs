@@ -8,7 +8,7 @@ use super::{
 };
 use crate::report::{LineReport, SeriesReport, ThetaReport};
 use crate::theta::Quantity;
-use crate::units::CELSIUS_OFFSET_K;
+use crate::units::kelvin_to_celsius;
 use plotters::coord::Shift;
 use plotters::prelude::*;
 
@@ -106,7 +106,7 @@ pub fn draw_a2_temperature(
             .draw_series(std::iter::once(PathElement::new(vec![(th, y_lo), (th, y_hi)], INK.stroke_width(2))))?
             .label(format!(
                 "θ = {th:.2} K ({:.2} °C), {}",
-                th - CELSIUS_OFFSET_K,
+                kelvin_to_celsius(th),
                 format!("{:?}", theta.crossing).to_lowercase()
             ))
             .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 18, y)], INK.stroke_width(2)));
@@ -223,7 +223,7 @@ pub fn draw_a2_overlay(
             ))?;
         }
         let label = match t.theta_k {
-            Some(th) => format!("{}: θ = {th:.1} K ({:.1} °C)", s.name, th - CELSIUS_OFFSET_K),
+            Some(th) => format!("{}: θ = {th:.1} K ({:.1} °C)", s.name, kelvin_to_celsius(th)),
             None => format!("{}: no θ", s.name),
         };
         chart

@@ -21,6 +21,7 @@ pub use plan::draw_plan;
 pub use zimm::draw_zimm;
 
 use crate::report::{Report, SeriesReport};
+use crate::units::kelvin_to_celsius;
 use plotters::coord::types::RangedCoordf64;
 use plotters::element::{Drawable, PointCollection};
 use plotters::prelude::*;
@@ -149,7 +150,6 @@ pub fn temperature_chart<'a, 'b>(
 ) -> Result<TemperatureChart<'a, 'b>, FigureError> {
     let (x_lo, x_hi) = axis(x.0, x.1);
     let (y_lo, y_hi) = axis(y.0, y.1);
-    let offset = crate::units::CELSIUS_OFFSET_K;
     let mut chart = ChartBuilder::on(root)
         .caption(caption, ink_text(22))
         .margin(16)
@@ -157,7 +157,7 @@ pub fn temperature_chart<'a, 'b>(
         .top_x_label_area_size(44)
         .y_label_area_size(80)
         .build_cartesian_2d(x_lo..x_hi, y_lo..y_hi)?
-        .set_secondary_coord((x_lo - offset)..(x_hi - offset), y_lo..y_hi);
+        .set_secondary_coord(kelvin_to_celsius(x_lo)..kelvin_to_celsius(x_hi), y_lo..y_hi);
     chart
         .configure_mesh()
         .light_line_style(WHITE.mix(0.0))

@@ -5,7 +5,7 @@
 use super::format::{axis, power_of_ten, superscript, tick};
 use super::{ink_text, marker_element, FigureError, Marker, GREY, INK, PALETTE};
 use crate::report::{plus_minus, FitReport, SeriesReport};
-use crate::units::CELSIUS_OFFSET_K;
+use crate::units::kelvin_to_celsius;
 use crate::virial::VirialForm;
 use plotters::coord::Shift;
 use plotters::prelude::*;
@@ -194,7 +194,7 @@ pub fn draw_residuals(root: &DrawingArea<SVGBackend, Shift>, s: &SeriesReport) -
         chart.draw_series(std::iter::once(Text::new(
             format!(
                 "{:.1} °C ({:.2} K) · {} · dof {}",
-                f.temperature_k - CELSIUS_OFFSET_K,
+                kelvin_to_celsius(f.temperature_k),
                 f.temperature_k,
                 f.virial_form.name(),
                 f.dof

@@ -9,7 +9,7 @@ use super::{
 use crate::input::SolventProperties;
 use crate::plan::{Plan, PlanSeries, PlanSettings, BOILING_MARGIN_K, MELTING_MARGIN_K};
 use crate::theta::Quantity;
-use crate::units::CELSIUS_OFFSET_K;
+use crate::units::kelvin_to_celsius;
 use plotters::coord::Shift;
 use plotters::prelude::*;
 
@@ -83,7 +83,7 @@ pub fn draw_plan(
         if let (Some(line), Some(k)) = (s.line.as_ref(), k(s)) {
             let pts = grid.iter().map(|t| (*t, k * (line.a + line.b_k / t) * scale));
             let label = match s.theta_k {
-                Some(th) => format!("{}: θ = {:.1} °C{status}", s.solvent, th - CELSIUS_OFFSET_K),
+                Some(th) => format!("{}: θ = {:.1} °C{status}", s.solvent, kelvin_to_celsius(th)),
                 None => format!("{}: no θ{status}", s.solvent),
             };
             chart
@@ -108,8 +108,8 @@ pub fn draw_plan(
                 Some(b) => format!(
                     "{} usable to {:.0} °C (boils at {:.0} °C)",
                     p.name,
-                    b - BOILING_MARGIN_K - CELSIUS_OFFSET_K,
-                    b - CELSIUS_OFFSET_K
+                    kelvin_to_celsius(b - BOILING_MARGIN_K),
+                    kelvin_to_celsius(b)
                 ),
                 None => format!("{} (boiling point not given)", p.name),
             };

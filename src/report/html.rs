@@ -5,7 +5,7 @@
 use super::plan::PlanReport;
 use super::{plus_minus, InputFile, Report};
 use crate::plot::Figure;
-use crate::units::CELSIUS_OFFSET_K;
+use crate::units::kelvin_to_celsius;
 use std::fmt::Write;
 
 /// Escapes text for HTML element content and attribute values.
@@ -77,7 +77,7 @@ fn inline_svg(svg: &str) -> &str {
 
 fn k_and_c(k: Option<f64>) -> String {
     match k {
-        Some(k) => format!("{:.2} °C ({k:.2} K)", k - CELSIUS_OFFSET_K),
+        Some(k) => format!("{:.2} °C ({k:.2} K)", kelvin_to_celsius(k)),
         None => "—".into(),
     }
 }

@@ -3,7 +3,7 @@
 
 use super::InputFile;
 use crate::plan::{Goal, Plan, PlanSettings};
-use crate::units::{kelvin_to_celsius, CELSIUS_OFFSET_K};
+use crate::units::kelvin_to_celsius;
 use serde::Serialize;
 use std::fmt::Write;
 
@@ -103,7 +103,7 @@ pub fn render_terminal(plan: &Plan) -> String {
     }
     out.push('\n');
     for c in &plan.candidates {
-        let theta = c.theta_k.map_or("no θ".to_string(), |t| format!("θ = {:.1} °C", t - CELSIUS_OFFSET_K));
+        let theta = c.theta_k.map_or("no θ".to_string(), |t| format!("θ = {:.1} °C", kelvin_to_celsius(t)));
         let _ = writeln!(
             out,
             "{}. {} ({theta}) — {}",
@@ -118,7 +118,7 @@ pub fn render_terminal(plan: &Plan) -> String {
             let _ = writeln!(
                 out,
                 "     critical temperature of the sample {:.1} °C, margin {m:.1} K",
-                tc - CELSIUS_OFFSET_K
+                kelvin_to_celsius(tc)
             );
         }
         if let Some(cmax) = c.suggested_max_concentration_g_per_ml {

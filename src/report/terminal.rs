@@ -1,6 +1,7 @@
 //! The terminal table: one block per series, one row per temperature.
 
 use super::Report;
+use crate::units::kelvin_to_celsius;
 use std::fmt::Write;
 
 /// Formats `value ± se` with the SE to two significant figures and the value to match.
@@ -45,7 +46,7 @@ pub fn theta_line(t: &super::ThetaReport) -> String {
             };
             format!(
                 "θ = {:.2} °C = {k:.2}{se} K, {interval}, {crossing}{sense}, model {}",
-                k - crate::units::CELSIUS_OFFSET_K,
+                kelvin_to_celsius(k),
                 t.model
             )
         }
@@ -121,7 +122,7 @@ pub fn render_terminal(report: &Report) -> String {
                 out,
                 "  critical temperatures of {} fractions (Shultz–Flory): θ = {:.2} °C = {:.2} ± {:.2} K, ψ1 = {}",
                 c.fractions,
-                c.theta_k - crate::units::CELSIUS_OFFSET_K,
+                kelvin_to_celsius(c.theta_k),
                 c.theta_k,
                 c.se_k,
                 plus_minus(c.psi1, c.psi1_se)
