@@ -1,6 +1,7 @@
 #!/usr/bin/env bash
 # End-to-end scale check: writes an invented 20 000-series campaign, times the CSV floor and
-# `thetaseek analyze` on it, and prints their ratio, peak memory and the 1- vs 2-thread bootstrap.
+# `thetaseek analyze` on it, and prints their ratio, peak memory, the pandas pipeline's time
+# (when pandas is installed) and the 1- vs 2-thread bootstrap.
 # Usage: bash scripts/campaign-ratio.sh [SERIES]   (figures go in the notes, not in tests)
 set -euo pipefail
 cd "$(dirname "$0")/.."
@@ -32,6 +33,15 @@ printf 'floor (read + parse): %.3f s\nanalyze --bootstrap 0: %.3f s into new fil
   "$floor" "$analyze" "$replacing" "$(awk -v a="$analyze" -v f="$floor" 'BEGIN { print a / f }')" \
   "$(awk -v a="$replacing" -v f="$floor" 'BEGIN { print a / f }')" \
   "$peak_mb" "$(awk -v p="$peak_mb" -v s="$size_mb" 'BEGIN { print p / s }')"
+# The scripted pipeline the issue compares with, timed once when pandas is installed
+# (`pip install numpy pandas`; not needed by CI).
+if python3 -c "import numpy, pandas" 2>/dev/null; then
+  pandas=$(python3 scripts/pandas-baseline.py "$work/campaign.csv" "$work" 2>/dev/null)
+  printf 'pandas group-by pipeline: %.2f s, %.0f x slower than analyze\n' "$pandas" \
+    "$(awk -v p="$pandas" -v a="$analyze" 'BEGIN { print p / a }')"
+else
+  echo "pandas group-by pipeline: skipped (pip install numpy pandas to time it)"
+fi
 for threads in 1 2; do
   s=$(date +%s.%N)
   RAYON_NUM_THREADS=$threads ./target/release/thetaseek analyze "$work/campaign.csv" --bootstrap 200 -q
