@@ -22,6 +22,18 @@ pub trait LeastSquaresProblem {
     fn residuals(&self, beta: &[f64]) -> Vec<f64>;
     /// Jacobian at β, n×p row-major.
     fn jacobian(&self, beta: &[f64]) -> Vec<f64>;
+    /// The same Jacobian written a column at a time into `out`, which arrives zeroed: ∂r_i/∂β_k
+    /// at `out[k * rows + i]`, `rows` ≥ n (the solver keeps rows past n for its damping). The
+    /// default transposes [`Self::jacobian`]; a model that writes its columns directly saves
+    /// that copy at every step.
+    fn jacobian_columns(&self, beta: &[f64], out: &mut [f64], rows: usize) {
+        let p = beta.len();
+        for (i, row) in self.jacobian(beta).chunks_exact(p).enumerate() {
+            for (k, v) in row.iter().enumerate() {
+                out[k * rows + i] = *v;
+            }
+        }
+    }
 }
 
 /// Result of a nonlinear least-squares fit.
@@ -82,11 +94,16 @@ impl<M: LeastSquaresProblem + ?Sized> Operator for Adapter<'_, M> {
     }
 }
 
+/// The solver's Jacobian: column-major with p spare rows under the n of J, where a step puts
+/// its damping √λ D.
 impl<M: LeastSquaresProblem + ?Sized> Jacobian for Adapter<'_, M> {
     type Param = Vec<f64>;
     type Jacobian = Vec<f64>;
     fn jacobian(&self, beta: &Self::Param) -> Result<Self::Jacobian, ArgminError> {
-        Ok(self.model.jacobian(beta))
+        let (p, m) = (beta.len(), self.model.residual_count() + beta.len());
+        let mut a = vec![0.0; m * p];
+        self.model.jacobian_columns(beta, &mut a, m);
+        Ok(a)
     }
 }
 
@@ -170,16 +187,9 @@ impl HouseholderQr {
     }
 }
 
-/// The column-major m×p copy of a row-major n×p matrix (m ≥ n; rows past n left zero), each
-/// column scaled by `1/divide[k]` when given.
-fn column_major(rows: &[f64], n: usize, p: usize, m: usize, divide: Option<&[f64]>) -> Vec<f64> {
-    let mut a = vec![0.0; m * p];
-    for (i, row) in rows.chunks_exact(p).enumerate().take(n) {
-        for (k, v) in row.iter().enumerate() {
-            a[k * m + i] = divide.map_or(*v, |d| v / d[k]);
-        }
-    }
-    a
+/// Σ v², summed in order from +0.
+fn sum_of_squares(v: &[f64]) -> f64 {
+    v.iter().fold(0.0, |s, x| s + x * x)
 }
 
 /// The damped Gauss–Newton solver (argmin [`Solver`]).
@@ -230,22 +240,18 @@ where
         let beta = state.get_param().ok_or_else(|| ArgminError::msg("no parameters"))?;
         let r = state.get_residuals().ok_or_else(|| ArgminError::msg("no residuals"))?;
         let cost = state.get_cost();
+        // J column-major, m = n + p rows: J above, zeros where the damping goes.
         let j = problem.jacobian(beta)?;
         if !finite_all(&j) || !finite_all(r) {
             self.done = Some("non-finite residuals or Jacobian");
             return Ok((state, None));
         }
-        let p = beta.len();
-        let rows = || j.chunks_exact(p).zip(r.iter());
-        // Column norms of J and the gradient Jᵀr, in one pass over the rows.
-        let (mut norms, mut gradient) = (vec![0.0; p], vec![0.0; p]);
-        for (row, ri) in rows() {
-            for k in 0..p {
-                norms[k] += row[k] * row[k];
-                gradient[k] += row[k] * ri;
-            }
-        }
-        norms.iter_mut().for_each(|v| *v = v.sqrt());
+        let (p, n) = (beta.len(), r.len());
+        let m = n + p;
+        let column = |k: usize| &j[k * m..k * m + n];
+        // Column norms of J and the gradient Jᵀr.
+        let norms: Vec<f64> = (0..p).map(|k| sum_of_squares(column(k)).sqrt()).collect();
+        let gradient: Vec<f64> = (0..p).map(|k| column(k).iter().zip(r).fold(0.0, |g, (v, ri)| g + v * ri)).collect();
         let scale: Vec<f64> = match self.scale.take() {
             Some(s) => s.iter().zip(&norms).map(|(a, b)| a.max(*b)).collect(),
             None => norms.iter().map(|&v| if v > 0.0 { v } else { 1.0 }).collect(),
@@ -256,9 +262,8 @@ where
             self.done = Some("gradient vanished");
             return Ok((state, None));
         }
-        // Stacked system [J; √λ D] step = [−r; 0], solved by QR.
-        let (n, m) = (r.len(), r.len() + p);
-        let mut a = column_major(&j, n, p, m, None);
+        // Stacked system [J; √λ D] step = [−r; 0], solved by QR (of a copy: J is needed below).
+        let mut a = j.clone();
         let root_lambda = self.lambda.sqrt();
         for (k, d) in scale.iter().enumerate() {
             a[k * m + n + k] = root_lambda * d;
@@ -274,8 +279,7 @@ where
         let candidate: Vec<f64> = beta.iter().zip(&step).map(|(b, s)| b + s).collect();
         let r_new = problem.apply(&candidate)?;
         let cost_new = norm_squared(&r_new);
-        let linear: f64 =
-            rows().map(|(row, ri)| (row.iter().zip(&step).map(|(a, s)| a * s).sum::<f64>() + ri).powi(2)).sum();
+        let linear: f64 = (0..n).map(|i| ((0..p).map(|k| j[k * m + i] * step[k]).sum::<f64>() + r[i]).powi(2)).sum();
         let predicted = cost - linear;
         let rho = if predicted > 0.0 { (cost - cost_new) / predicted } else { -1.0 };
         let scaled_norm = |v: &[f64]| v.iter().zip(&scale).map(|(x, d)| (x * d).powi(2)).sum::<f64>().sqrt();
@@ -365,19 +369,19 @@ fn covariance_at<M: LeastSquaresProblem + ?Sized>(
 ) -> Result<(Vec<f64>, Vec<f64>, usize, f64), NlsError> {
     let n = model.residual_count();
     let p = beta.len();
-    let j = model.jacobian(beta);
+    let mut j = vec![0.0; n * p];
+    model.jacobian_columns(beta, &mut j, n);
     if !finite_all(&j) {
         return Err(NlsError::NonFinite);
     }
-    let mut scale = vec![0.0; p];
-    for row in j.chunks_exact(p) {
-        scale.iter_mut().zip(row).for_each(|(s, v)| *s += v * v);
-    }
-    scale.iter_mut().for_each(|s| *s = s.sqrt());
+    let scale: Vec<f64> = j.chunks_exact(n).map(|column| sum_of_squares(column).sqrt()).collect();
     if scale.iter().any(|s| *s <= 0.0) {
         return Err(NlsError::Singular);
     }
-    let qr = HouseholderQr::new(column_major(&j, n, p, n, Some(&scale)), n, p, &mut []);
+    for (column, s) in j.chunks_exact_mut(n).zip(&scale) {
+        column.iter_mut().for_each(|v| *v /= s);
+    }
+    let qr = HouseholderQr::new(j, n, p, &mut []);
     if (0..p).any(|k| qr.r(k, k).abs() <= 1e-13 * (n as f64)) {
         return Err(NlsError::Singular);
     }

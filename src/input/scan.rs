@@ -264,7 +264,20 @@ mod tests {
     #[test]
     fn the_vectorised_record_search_agrees_with_a_byte_walk() {
         let pieces: [&[u8]; 14] = [
-            b"a", b",", b" ", b"\t", b"\r", b"\n", b"\"", b"\"\"", b"1.5", b"#", b"x,\"y\nz\",w", b"\xc2\xb0", b",,", b"",
+            b"a",
+            b",",
+            b" ",
+            b"\t",
+            b"\r",
+            b"\n",
+            b"\"",
+            b"\"\"",
+            b"1.5",
+            b"#",
+            b"x,\"y\nz\",w",
+            b"\xc2\xb0",
+            b",,",
+            b"",
         ];
         // Every sequence of up to four pieces, and each suffix of it.
         let mut cases = 0;
