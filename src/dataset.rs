@@ -203,7 +203,8 @@ struct Sets {
 }
 
 impl Sets {
-    fn get(&mut self, key: i64) -> &mut TemperatureSet {
+    /// The set of temperature `key`; a new one reserves room for `capacity` readings.
+    fn get(&mut self, key: i64, capacity: usize) -> &mut TemperatureSet {
         // Readings of one temperature usually follow each other.
         let at = match self.sets.get(self.last) {
             Some((k, _)) if *k == key => Some(self.last),
@@ -213,7 +214,14 @@ impl Sets {
             },
         };
         let at = at.unwrap_or_else(|| {
-            self.sets.push((key, TemperatureSet::default()));
+            let set = TemperatureSet {
+                temperature_k: 0.0,
+                concentration_kg_per_m3: Vec::with_capacity(capacity),
+                pressure_pa: Vec::with_capacity(capacity),
+                pressure_sd_pa: Vec::with_capacity(capacity),
+                origins: Vec::with_capacity(capacity),
+            };
+            self.sets.push((key, set));
             let at = self.sets.len() - 1;
             match &mut self.index {
                 Some(index) => {
@@ -243,6 +251,9 @@ impl Sets {
     }
 }
 
+/// Largest number of readings a new temperature reserves room for in advance.
+const MAX_CAPACITY_HINT: usize = 64;
+
 /// Readings being grouped, one at a time, into series and temperatures, without holding them
 /// as rows first; several files are merged by [`Self::absorb`].
 #[derive(Debug, Clone, PartialEq, Default)]
@@ -254,6 +265,9 @@ pub struct GroupedReadings {
     /// Names of series given away by [`Self::take_finished`].
     taken: std::collections::HashSet<std::sync::Arc<str>>,
     reopened: Option<std::sync::Arc<str>>,
+    /// Readings per temperature of the last series the rows moved past: a new temperature
+    /// reserves that much, so that a campaign's vectors neither grow nor shrink.
+    capacity_hint: usize,
 }
 
 impl GroupedReadings {
@@ -267,7 +281,7 @@ impl GroupedReadings {
         self.current = Some(i);
         self.readings += 1;
         let key = (m.temperature_k / TEMPERATURE_GROUPING_K).round() as i64;
-        let set = self.order[i].1.get(key);
+        let set = self.order[i].1.get(key, self.capacity_hint);
         set.temperature_k += m.temperature_k;
         set.concentration_kg_per_m3.push(m.concentration_kg_per_m3);
         set.pressure_pa.push(m.pressure_pa);
@@ -285,7 +299,10 @@ impl GroupedReadings {
             self.reopened = Some(name.clone());
         }
         if let Some(previous) = self.current {
-            self.order[previous].1.shrink();
+            let sets = &mut self.order[previous].1;
+            // Bounded: one long series should not make every later set reserve its length.
+            self.capacity_hint = sets.sets.iter().map(|(_, s)| s.len()).max().unwrap_or(0).min(MAX_CAPACITY_HINT);
+            sets.shrink();
         }
         self.order.push((name.clone(), Sets::default()));
         self.by_name.insert(name.clone(), self.order.len() - 1);
@@ -306,7 +323,7 @@ impl GroupedReadings {
         for (name, sets) in other.order {
             let i = self.index_of(&name);
             for (key, set) in sets.sets {
-                let into = self.order[i].1.get(key);
+                let into = self.order[i].1.get(key, 0);
                 into.temperature_k += set.temperature_k;
                 into.concentration_kg_per_m3.extend(set.concentration_kg_per_m3);
                 into.pressure_pa.extend(set.pressure_pa);
