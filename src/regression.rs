@@ -342,6 +342,19 @@ pub fn complete(core: &CoreFit, design: &[f64], y: &[f64], weights: Option<&[f64
     }
 }
 
+/// One row [1, x, x², …] of a polynomial design with `p` columns (the rest zero), for
+/// [`fit_core`]; the powers are formed as [`polynomial_design`] forms them.
+#[inline]
+pub fn polynomial_row(x: f64, p: usize) -> [f64; MAX_PARAMETERS] {
+    let mut row = [0.0; MAX_PARAMETERS];
+    let mut power = 1.0;
+    for v in row.iter_mut().take(p) {
+        *v = power;
+        power *= x;
+    }
+    row
+}
+
 /// Polynomial design matrix [1, x, x², …, x^degree], row-major.
 pub fn polynomial_design(x: &[f64], degree: usize) -> Vec<f64> {
     let p = degree + 1;

@@ -42,19 +42,18 @@ impl CurvedFit {
         let x: Vec<f64> = points.iter().map(|p| 1.0 / p.temperature_k).collect();
         let x_centre = x.iter().sum::<f64>() / n as f64;
         let u: Vec<f64> = x.iter().map(|x| x - x_centre).collect();
-        let y: Vec<f64> = points.iter().map(|p| p.value).collect();
-        let quad = regression::fit(&regression::polynomial_design(&u, 2), 3, &y, weights.as_deref(), Weights::Relative)
-            .ok()?;
-        let line = regression::fit(&regression::polynomial_design(&u, 1), 2, &y, weights.as_deref(), Weights::Relative)
-            .ok()?;
-        let mut covariance = [0.0; 9];
-        covariance.copy_from_slice(&quad.covariance);
+        let (y, weight) = (|i: usize| points[i].value, |i: usize| weights.as_ref().map_or(1.0, |w| w[i]));
+        let u = &u;
+        let row = |p: usize| move |i: usize| regression::polynomial_row(u[i], p);
+        let quad = regression::fit_core(n, 3, row(3), y, weight, Weights::Relative).ok()?;
+        let line = regression::fit_core(n, 2, row(2), y, weight, Weights::Relative).ok()?;
+        let covariance = std::array::from_fn(|k| quad.covariance[k / 3][k % 3]);
         Some(CurvedFit {
             x_centre,
             coefficients: [quad.coefficients[0], quad.coefficients[1], quad.coefficients[2]],
             covariance,
             dof: quad.dof,
-            curvature_t: quad.coefficients[2] / quad.standard_errors[2],
+            curvature_t: quad.coefficients[2] / quad.se(2),
             aicc: crate::virial::aicc(quad.rss_weighted, n, 3),
             line_aicc: crate::virial::aicc(line.rss_weighted, n, 2),
         })

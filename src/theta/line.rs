@@ -44,7 +44,6 @@ impl InverseTemperatureLine {
             None => x.iter().sum::<f64>() / n as f64,
         };
         let u: Vec<f64> = x.iter().map(|x| x - x_centre).collect();
-        let y: Vec<f64> = points.iter().map(|p| p.value).collect();
         let (kind, dof) = match (n, &weights) {
             (2, Some(_)) => (Weights::Absolute, None),
             _ => (Weights::Relative, Some(n.saturating_sub(2))),
@@ -52,14 +51,18 @@ impl InverseTemperatureLine {
         if n < 2 || (n == 2 && weights.is_none()) {
             return Err(FitError::TooFewPoints { points: n, parameters: 3 });
         }
-        let fit = regression::fit(&regression::polynomial_design(&u, 1), 2, &y, weights.as_deref(), kind)?;
+        // Estimates and covariance only: no per-point output (every bootstrap replicate
+        // fits this line too).
+        let weight = |i: usize| weights.as_ref().map_or(1.0, |w| w[i]);
+        let fit =
+            regression::fit_core(n, 2, |i| regression::polynomial_row(u[i], 2), |i| points[i].value, weight, kind)?;
         Ok(InverseTemperatureLine {
             x_centre,
             alpha: fit.coefficients[0],
             beta: fit.coefficients[1],
-            var_alpha: fit.cov(0, 0),
-            cov: fit.cov(0, 1),
-            var_beta: fit.cov(1, 1),
+            var_alpha: fit.covariance[0][0],
+            cov: fit.covariance[0][1],
+            var_beta: fit.covariance[1][1],
             dof,
             reduced_chi2: (fit.dof > 0).then(|| fit.rss_weighted / fit.dof as f64),
             n,
