@@ -7,7 +7,7 @@
 //!   so that A3 = Γ2² /(4 Mn)); fitted as a straight line α + β c in z = (Π/c)^½, giving
 //!   Mn = RT/α², A2 = 2αβ/(RT).
 
-use crate::regression::{self, CoreFit, FitError, LinearFit, Weights, MAX_PARAMETERS};
+use crate::regression::{self, CoreFit, FitError, LinearFit, Weights};
 use crate::units::GAS_CONSTANT_J_PER_MOL_K;
 use serde::Serialize;
 
@@ -141,15 +141,7 @@ pub fn score_form(form: VirialForm, r: &Readings) -> Result<FormScore, FormError
     let (c, pressure) = (r.concentration, r.pressure);
     let n = c.len();
     let p = form.parameters();
-    let row = |i: usize| {
-        let mut x = [0.0; MAX_PARAMETERS];
-        let mut power = 1.0;
-        for xj in x.iter_mut().take(p) {
-            *xj = power;
-            power *= c[i];
-        }
-        x
-    };
+    let row = |i: usize| regression::polynomial_row(c[i], p);
     // y = Π/(c R T) and its weight 1/σ_y², σ_y = σ_Π/(c R T), as in [`Readings::reduced`].
     let reduced = |i: usize| pressure[i] / (c[i] * rt);
     let reduced_weight = |i: usize| r.pressure_sd.map_or(1.0, |sd| (c[i] * rt / sd[i]).powi(2));
