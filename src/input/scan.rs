@@ -129,17 +129,10 @@ fn is_blank(text: &[u8]) -> bool {
     text.iter().all(|&b| b.is_ascii_whitespace() || b == b',')
 }
 
-/// The record starting at `pos`: its end (exclusive, before the newline, or the end of
-/// `bytes`), the line breaks inside it (quoted fields may span lines), its field count and
-/// whether it is blank. A line without a quote, nearly every line, is taken whole with
-/// vectorised searches; a line with one is walked byte by byte, quotes respected.
+/// The record starting at `pos`, walked byte by byte with quotes respected: its end (exclusive,
+/// before the newline, or the end of `bytes`), the line breaks inside it (quoted fields may
+/// span lines), its field count and whether it is blank.
 fn record_at(bytes: &[u8], pos: usize) -> (usize, usize, usize, bool) {
-    let rest = &bytes[pos..];
-    let line = &rest[..memchr::memchr(b'\n', rest).unwrap_or(rest.len())];
-    if memchr::memchr(b'"', line).is_none() {
-        let n_fields = 1 + line.iter().filter(|&&b| b == b',').count();
-        return (pos + line.len(), 0, n_fields, is_blank(line));
-    }
     let (mut in_quotes, mut newlines, mut n_fields) = (false, 0, 1);
     let mut i = pos;
     let end = loop {
@@ -223,30 +216,11 @@ mod tests {
         }
     }
 
-    /// The byte-by-byte walk `record_at` replaced for lines without quotes.
-    fn walk(bytes: &[u8], pos: usize) -> (usize, usize, usize, bool) {
-        let (mut in_quotes, mut newlines, mut n_fields, mut blank) = (false, 0, 1, true);
-        let mut i = pos;
-        let end = loop {
-            let Some(&b) = bytes.get(i) else { break bytes.len() };
-            match b {
-                b'"' => in_quotes = !in_quotes,
-                b'\n' if !in_quotes => break i,
-                b'\n' => newlines += 1,
-                b',' if !in_quotes => n_fields += 1,
-                _ => {}
-            }
-            blank &= b.is_ascii_whitespace() || b == b',';
-            i += 1;
-        };
-        (end, newlines, n_fields, blank)
-    }
-
     /// `scan_records` as it was before the vectorised pass: every record walked byte by byte.
     fn walk_records(bytes: &[u8], first_line: usize, at_end: bool) -> Records {
         let (mut records, mut line, mut pos) = (Vec::new(), first_line, 0);
         while pos < bytes.len() {
-            let (end, newlines, n_fields, blank) = walk(bytes, pos);
+            let (end, newlines, n_fields, blank) = record_at(bytes, pos);
             if !at_end && end == bytes.len() {
                 break;
             }
@@ -279,7 +253,7 @@ mod tests {
             b",,",
             b"",
         ];
-        // Every sequence of up to four pieces, and each suffix of it.
+        // Every sequence of four pieces (empty ones included), at the end of the file or not.
         let mut cases = 0;
         let n = pieces.len();
         for code in 0..n * n * n * n {
@@ -287,10 +261,6 @@ mod tests {
                 .iter()
                 .flat_map(|&k| pieces[k].iter().copied())
                 .collect();
-            for pos in 0..text.len() {
-                assert_eq!(record_at(&text, pos), walk(&text, pos), "{:?} from {pos}", String::from_utf8_lossy(&text));
-                cases += 1;
-            }
             for at_end in [false, true] {
                 assert_eq!(
                     scan_records(&text, 3, at_end),
@@ -298,9 +268,10 @@ mod tests {
                     "{:?}, at end {at_end}",
                     String::from_utf8_lossy(&text)
                 );
+                cases += 1;
             }
         }
-        assert!(cases > 100_000);
+        assert!(cases > 70_000);
     }
 
     #[test]
