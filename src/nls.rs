@@ -20,20 +20,10 @@ pub trait LeastSquaresProblem {
     fn residual_count(&self) -> usize;
     /// Residuals at β.
     fn residuals(&self, beta: &[f64]) -> Vec<f64>;
-    /// Jacobian at β, n×p row-major.
-    fn jacobian(&self, beta: &[f64]) -> Vec<f64>;
-    /// The same Jacobian written a column at a time into `out`, which arrives zeroed: ∂r_i/∂β_k
-    /// at `out[k * rows + i]`, `rows` ≥ n (the solver keeps rows past n for its damping). The
-    /// default transposes [`Self::jacobian`]; a model that writes its columns directly saves
-    /// that copy at every step.
-    fn jacobian_columns(&self, beta: &[f64], out: &mut [f64], rows: usize) {
-        let p = beta.len();
-        for (i, row) in self.jacobian(beta).chunks_exact(p).enumerate() {
-            for (k, v) in row.iter().enumerate() {
-                out[k * rows + i] = *v;
-            }
-        }
-    }
+    /// Jacobian at β written a column at a time into `out`, which arrives zeroed: ∂r_i/∂β_k at
+    /// `out[k * rows + i]`, `rows` ≥ n (the solver keeps rows past n for its damping), so that
+    /// each step factorises it where it lies.
+    fn jacobian_columns(&self, beta: &[f64], out: &mut [f64], rows: usize);
 }
 
 /// Result of a nonlinear least-squares fit.
@@ -187,11 +177,6 @@ impl HouseholderQr {
     }
 }
 
-/// Σ v², summed in order from +0.
-fn sum_of_squares(v: &[f64]) -> f64 {
-    v.iter().fold(0.0, |s, x| s + x * x)
-}
-
 /// The damped Gauss–Newton solver (argmin [`Solver`]).
 #[derive(Debug, Clone)]
 pub struct LevenbergMarquardt {
@@ -250,7 +235,7 @@ where
         let m = n + p;
         let column = |k: usize| &j[k * m..k * m + n];
         // Column norms of J and the gradient Jᵀr.
-        let norms: Vec<f64> = (0..p).map(|k| sum_of_squares(column(k)).sqrt()).collect();
+        let norms: Vec<f64> = (0..p).map(|k| norm_squared(column(k)).sqrt()).collect();
         let gradient: Vec<f64> = (0..p).map(|k| column(k).iter().zip(r).fold(0.0, |g, (v, ri)| g + v * ri)).collect();
         let scale: Vec<f64> = match self.scale.take() {
             Some(s) => s.iter().zip(&norms).map(|(a, b)| a.max(*b)).collect(),
@@ -374,7 +359,7 @@ fn covariance_at<M: LeastSquaresProblem + ?Sized>(
     if !finite_all(&j) {
         return Err(NlsError::NonFinite);
     }
-    let scale: Vec<f64> = j.chunks_exact(n).map(|column| sum_of_squares(column).sqrt()).collect();
+    let scale: Vec<f64> = j.chunks_exact(n).map(|column| norm_squared(column).sqrt()).collect();
     if scale.iter().any(|s| *s <= 0.0) {
         return Err(NlsError::Singular);
     }
@@ -413,8 +398,11 @@ mod tests {
         fn residuals(&self, b: &[f64]) -> Vec<f64> {
             self.x.iter().zip(&self.y).map(|(x, y)| b[0] * (b[1] * x).exp() - y).collect()
         }
-        fn jacobian(&self, b: &[f64]) -> Vec<f64> {
-            self.x.iter().flat_map(|x| [(b[1] * x).exp(), b[0] * x * (b[1] * x).exp()]).collect()
+        fn jacobian_columns(&self, b: &[f64], out: &mut [f64], rows: usize) {
+            for (i, x) in self.x.iter().enumerate() {
+                out[i] = (b[1] * x).exp();
+                out[rows + i] = b[0] * x * (b[1] * x).exp();
+            }
         }
     }
 

@@ -55,8 +55,12 @@ impl LeastSquaresProblem for Problem<'_> {
     fn residuals(&self, b: &[f64]) -> Vec<f64> {
         self.data.x.iter().zip(&self.data.y).map(|(x, y)| (self.model)(b, *x).0 - y).collect()
     }
-    fn jacobian(&self, b: &[f64]) -> Vec<f64> {
-        self.data.x.iter().flat_map(|x| (self.model)(b, *x).1).collect()
+    fn jacobian_columns(&self, b: &[f64], out: &mut [f64], rows: usize) {
+        for (i, x) in self.data.x.iter().enumerate() {
+            for (k, d) in (self.model)(b, *x).1.into_iter().enumerate() {
+                out[k * rows + i] = d;
+            }
+        }
     }
 }
 
