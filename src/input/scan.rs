@@ -254,7 +254,6 @@ mod tests {
             b"",
         ];
         // Every sequence of four pieces (empty ones included), at the end of the file or not.
-        let mut cases = 0;
         let n = pieces.len();
         for code in 0..n * n * n * n {
             let text: Vec<u8> = [code % n, code / n % n, code / (n * n) % n, code / (n * n * n)]
@@ -268,10 +267,8 @@ mod tests {
                     "{:?}, at end {at_end}",
                     String::from_utf8_lossy(&text)
                 );
-                cases += 1;
             }
         }
-        assert!(cases > 70_000);
     }
 
     #[test]

@@ -42,11 +42,12 @@ impl CurvedFit {
         let x: Vec<f64> = points.iter().map(|p| 1.0 / p.temperature_k).collect();
         let x_centre = x.iter().sum::<f64>() / n as f64;
         let u: Vec<f64> = x.iter().map(|x| x - x_centre).collect();
-        let (y, weight) = (|i: usize| points[i].value, |i: usize| weights.as_ref().map_or(1.0, |w| w[i]));
-        let u = &u;
-        let row = |p: usize| move |i: usize| regression::polynomial_row(u[i], p);
-        let quad = regression::fit_core(n, 3, row(3), y, weight, Weights::Relative).ok()?;
-        let line = regression::fit_core(n, 2, row(2), y, weight, Weights::Relative).ok()?;
+        let y = |i: usize| points[i].value;
+        let weight = |i: usize| weights.as_ref().map_or(1.0, |w| w[i]);
+        let quad =
+            regression::fit_core(n, 3, |i| regression::polynomial_row(u[i], 3), y, weight, Weights::Relative).ok()?;
+        let line =
+            regression::fit_core(n, 2, |i| regression::polynomial_row(u[i], 2), y, weight, Weights::Relative).ok()?;
         let covariance = std::array::from_fn(|k| quad.covariance[k / 3][k % 3]);
         Some(CurvedFit {
             x_centre,
