@@ -14,8 +14,9 @@ import time
 import numpy as np
 import pandas as pd
 
-# J/(mol K), CODATA 2018 (exact since the 2019 SI redefinition).
-GAS_CONSTANT = 8.314462618
+# J/(mol K): R = N_A k, exact since the 2019 SI redefinition (SI brochure, 9th edition);
+# the same value as thetaseek's units::GAS_CONSTANT_J_PER_MOL_K.
+GAS_CONSTANT = 8.31446261815324
 
 
 def virial_fit(group):
