@@ -2,6 +2,7 @@
 
 use clap::{Args, Parser, Subcommand, ValueEnum};
 use std::path::PathBuf;
+use thetaseek::units::TemperatureUnit;
 
 /// Mn, A2 and the theta temperature of polymer solutions from dilute-solution series.
 #[derive(Debug, Parser)]
@@ -28,8 +29,8 @@ pub struct NextArgs {
     pub files: Vec<PathBuf>,
 
     /// Temperatures the instrument can hold, °C, as LOW:HIGH (default: the measured range ± 15 K).
-    #[arg(long, value_name = "LOW:HIGH", value_parser = parse_range)]
-    pub thermostat: Option<(f64, f64)>,
+    #[arg(long = "thermostat", value_name = "LOW:HIGH", value_parser = parse_thermostat)]
+    pub thermostat_k: Option<(f64, f64)>,
 
     /// Concentrations of a new run, g/L, comma separated (default: the set used most so far).
     #[arg(long, value_name = "G_PER_L,...", value_delimiter = ',', value_parser = parse_positive)]
@@ -120,8 +121,8 @@ pub struct PlanArgs {
     pub unperturbed_dimension: Option<f64>,
 
     /// Temperatures the instrument can hold, °C, as LOW:HIGH.
-    #[arg(long, value_name = "LOW:HIGH", value_parser = parse_range)]
-    pub thermostat: Option<(f64, f64)>,
+    #[arg(long = "thermostat", value_name = "LOW:HIGH", value_parser = parse_thermostat)]
+    pub thermostat_k: Option<(f64, f64)>,
 
     /// |A2| tolerance in mol mL/g² for the temperature stability.
     #[arg(long, default_value_t = 1.0e-5, value_name = "MOL_ML_PER_G2", value_parser = parse_positive)]
@@ -310,15 +311,17 @@ fn parse_positive(text: &str) -> Result<f64, String> {
     }
 }
 
-fn parse_range(text: &str) -> Result<(f64, f64), String> {
+/// A thermostat range given in °C as LOW:HIGH, returned in kelvin: the one place it is converted.
+fn parse_thermostat(text: &str) -> Result<(f64, f64), String> {
     let (lo, hi) = text.split_once(':').ok_or_else(|| format!("'{text}' is not LOW:HIGH (e.g. 10:80)"))?;
     let lo: f64 = lo.trim().parse().map_err(|_| format!("'{lo}' is not a number"))?;
     let hi: f64 = hi.trim().parse().map_err(|_| format!("'{hi}' is not a number"))?;
     if !(lo.is_finite() && hi.is_finite()) || lo >= hi {
         return Err(format!("LOW must be below HIGH, got {lo}:{hi}"));
     }
-    if lo <= -273.15 {
+    let (lo_k, hi_k) = (TemperatureUnit::Celsius.to_kelvin(lo), TemperatureUnit::Celsius.to_kelvin(hi));
+    if lo_k <= 0.0 {
         return Err(format!("{lo} °C is below absolute zero"));
     }
-    Ok((lo, hi))
+    Ok((lo_k, hi_k))
 }

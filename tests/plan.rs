@@ -207,6 +207,10 @@ fn bad_plan_inputs_are_refused_and_nothing_is_written() {
     assert!(String::from_utf8_lossy(&a.get_output().stderr).contains("solvent 'beta'"));
     let full = dir.path().join("solvents.csv");
     run(&["--molar-mass", "1e5", "--thermostat", "80:40"], &full).code(2);
+    // 0 K = −273.15 °C exactly (SI Brochure, 9th ed., §2.3.1): the range is converted to kelvin
+    // when it is parsed, and a low end at or below absolute zero is refused there.
+    let a = run(&["--molar-mass", "1e5", "--thermostat=-273.15:40"], &full).code(2);
+    assert!(String::from_utf8_lossy(&a.get_output().stderr).contains("below absolute zero"));
     run(&["--molar-mass", "0"], &full).code(2);
     // `--molar-mass=-5` so that clap hands the value to its parser (a bare `-5` reads as a flag).
     let a = run(&["--molar-mass=-5"], &full).code(2);

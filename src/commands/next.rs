@@ -9,7 +9,7 @@ use thetaseek::error::{Error, InputError};
 use thetaseek::output::Destination;
 use thetaseek::report::{self, InputFile};
 use thetaseek::theta::{a2_points, TemperaturePoint, ThetaSettings};
-use thetaseek::units::{kelvin_to_celsius, TemperatureUnit};
+use thetaseek::units::kelvin_to_celsius;
 
 /// The advice of one run, as JSON.
 #[derive(Debug, serde::Serialize)]
@@ -64,10 +64,7 @@ pub fn run(args: &NextArgs) -> Result<(), Error> {
         let (t_lo, t_hi) = measured.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), m| {
             (a.min(m.point.temperature_k), b.max(m.point.temperature_k))
         });
-        let thermostat = args
-            .thermostat
-            .map(|(lo, hi)| (TemperatureUnit::Celsius.to_kelvin(lo), TemperatureUnit::Celsius.to_kelvin(hi)))
-            .unwrap_or((t_lo - 15.0, t_hi + 15.0));
+        let thermostat = args.thermostat_k.unwrap_or((t_lo - 15.0, t_hi + 15.0));
         let design_settings = DesignSettings {
             thermostat,
             step_k: args.step,

@@ -11,7 +11,6 @@ use thetaseek::plan::{self, Goal, PlanSeries, PlanSettings};
 use thetaseek::plot;
 use thetaseek::report::{self, plan::PlanReport, InputFile, Report, ReportSettings};
 use thetaseek::theta::ThetaSettings;
-use thetaseek::units::TemperatureUnit;
 
 /// Runs the subcommand.
 pub fn run(args: &PlanArgs) -> Result<(), Error> {
@@ -118,9 +117,7 @@ fn plan_settings(args: &PlanArgs) -> Result<PlanSettings, Error> {
         molar_mass: args.molar_mass * 1e-3,
         specific_volume: args.polymer_specific_volume.map(|v| v * 1e-3),
         goal,
-        thermostat: args
-            .thermostat
-            .map(|(lo, hi)| (TemperatureUnit::Celsius.to_kelvin(lo), TemperatureUnit::Celsius.to_kelvin(hi))),
+        thermostat: args.thermostat_k,
         a2_tolerance: args.a2_tolerance,
         unperturbed_r2_over_m: args.unperturbed_dimension.map(|d| d * 1e-17),
     })
