@@ -9,10 +9,11 @@ use std::hint::black_box;
 use thetaseek::analysis::{analyze, analyze_series, Settings};
 use thetaseek::dataset::{group, Dataset, Measurement};
 use thetaseek::input::{read_file, ReadOptions};
+use thetaseek::regression::Weights;
 use thetaseek::simulate::{simulate, Noise, VirialTruth};
 use thetaseek::thermo::flory_krigbaum_a2;
-use thetaseek::theta::{bootstrap, joint_fit, theta_from_points, Quantity, TemperaturePoint, ThetaSettings};
-use thetaseek::virial::{fit_form, fit_temperature, FormChoice, Readings, VirialForm};
+use thetaseek::theta::{bootstrap, joint_fit, theta_from_points, Quantity, SeBasis, TemperaturePoint, ThetaSettings};
+use thetaseek::virial::{fit_form, fit_temperature, FormChoice, PressureNoise, Readings, VirialForm};
 
 const C: [f64; 6] = [1.5, 3.0, 4.5, 6.0, 7.5, 9.0];
 
@@ -35,7 +36,13 @@ fn series(rng: &mut ChaCha8Rng) -> thetaseek::dataset::Series {
 fn per_temperature(c: &mut Criterion) {
     let mut rng = ChaCha8Rng::seed_from_u64(1);
     let (conc, p) = readings(310.0, 1.5e-4, &mut rng);
-    let r = Readings { temperature_k: 310.0, concentration: &conc, pressure: &p, pressure_sd: None };
+    let r = Readings {
+        temperature_k: 310.0,
+        concentration: &conc,
+        pressure: &p,
+        pressure_sd: None,
+        sd_kind: Weights::Relative,
+    };
     let mut g = c.benchmark_group("per-temperature fit (6 concentrations)");
     g.throughput(Throughput::Elements(1));
     for form in [VirialForm::Linear, VirialForm::Quadratic, VirialForm::Sqrt] {
@@ -45,7 +52,7 @@ fn per_temperature(c: &mut Criterion) {
     }
     let s = series(&mut rng);
     g.bench_function("auto choice with diagnostics", |b| {
-        b.iter(|| fit_temperature(black_box(&s.temperatures[3]), FormChoice::Auto))
+        b.iter(|| fit_temperature(black_box(&s.temperatures[3]), FormChoice::Auto, PressureNoise::FlatReduced))
     });
     g.finish();
 }
@@ -61,7 +68,15 @@ fn across_temperatures(c: &mut Criterion) {
         .collect();
     let settings = ThetaSettings { bootstrap_replicates: 0, ..ThetaSettings::default() };
     c.bench_function("theta from six A2 values (line, curved, local, Fieller)", |b| {
-        b.iter(|| theta_from_points(black_box(&points), Quantity::SecondVirial, None, &settings))
+        b.iter(|| {
+            theta_from_points(
+                black_box(&points),
+                SeBasis::Estimated { dof: 18 },
+                Quantity::SecondVirial,
+                None,
+                &settings,
+            )
+        })
     });
     let mut rng = ChaCha8Rng::seed_from_u64(2);
     let s = series(&mut rng);
@@ -69,18 +84,22 @@ fn across_temperatures(c: &mut Criterion) {
     c.bench_function("one series: five temperatures, theta and joint fit", |b| {
         b.iter(|| analyze_series(black_box(&s), &no_boot, 0))
     });
-    let fits: Vec<_> = s.temperatures.iter().map(|t| fit_temperature(t, FormChoice::Auto).unwrap()).collect();
+    let fits: Vec<_> = s
+        .temperatures
+        .iter()
+        .map(|t| fit_temperature(t, FormChoice::Auto, PressureNoise::FlatReduced).unwrap())
+        .collect();
     let sets: Vec<_> = s.temperatures.iter().collect();
     let fit_refs: Vec<_> = fits.iter().collect();
     // The joint fit starts where the two-stage analysis of this series ends, as in a run.
     let two_stage = analyze_series(&s, &no_boot, 0).theta.expect("this series has a θ");
     let (start_theta, start_a) = (two_stage.theta_k.unwrap(), two_stage.line.as_ref().unwrap().a());
     c.bench_function("joint fit of 30 readings (Levenberg-Marquardt, from the two-stage start)", |b| {
-        b.iter(|| joint_fit(black_box(&sets), &fit_refs, start_theta, start_a))
+        b.iter(|| joint_fit(black_box(&sets), &fit_refs, PressureNoise::FlatReduced, start_theta, start_a))
     });
     let one = ThetaSettings { bootstrap_replicates: 1, ..ThetaSettings::default() };
     c.bench_function("one bootstrap replicate (refit five temperatures and the line)", |b| {
-        b.iter(|| bootstrap(black_box(&sets), &fit_refs, &one, 0, &()))
+        b.iter(|| bootstrap(black_box(&sets), &fit_refs, PressureNoise::FlatReduced, &one, 0, &()))
     });
 }
 

@@ -2,8 +2,11 @@
 //! analysis, for every series in parallel. Pure computation: no files, no printing.
 
 use crate::dataset::{Series, TabulatedSeries};
-use crate::theta::{theta_for_series, theta_from_points, Quantity, ThetaResult, ThetaSettings, Volumes};
-use crate::virial::{fit_temperature, FormChoice, SkippedTemperature, TemperatureFit};
+use crate::theta::{theta_for_series, theta_from_points, Quantity, SeBasis, ThetaResult, ThetaSettings, Volumes};
+use crate::virial::{
+    choose_noise, choose_series_forms, fit_temperature, pool_standard_errors, FormChoice, PressureNoise,
+    SkippedTemperature, TemperatureFit,
+};
 use rayon::prelude::*;
 use serde::Serialize;
 
@@ -79,6 +82,8 @@ pub struct SeriesResult {
     pub quantity: Quantity,
     /// The θ analysis (absent for refused series).
     pub theta: Option<ThetaResult>,
+    /// How the osmometry readings' noise was modelled (absent for tables).
+    pub noise: Option<PressureNoise>,
 }
 
 /// Fits every temperature of one osmometry series, then its θ.
@@ -95,12 +100,25 @@ pub fn analyze_series_with_progress(
 ) -> SeriesResult {
     let mut fits = Vec::new();
     let mut skipped = Vec::new();
-    for set in &series.temperatures {
-        match fit_temperature(set, settings.virial) {
-            Ok(fit) => fits.push(fit),
+    let noise = choose_noise(&series.temperatures);
+    let series_choice = (settings.virial == FormChoice::Auto && series.temperatures.len() > 1)
+        .then(|| choose_series_forms(&series.temperatures, noise));
+    for (i, set) in series.temperatures.iter().enumerate() {
+        let form = series_choice.as_ref().and_then(|c| c.forms[i]);
+        let choice = form.map_or(settings.virial, FormChoice::Fixed);
+        match fit_temperature(set, choice, noise) {
+            Ok(mut fit) => {
+                if let Some(c) = &series_choice {
+                    fit.choice_reason = c.reason.clone();
+                    fit.candidates = c.candidates.clone();
+                    fit.choice_variance = c.choice_variance[i];
+                }
+                fits.push(fit)
+            }
             Err(skip) => skipped.push(skip),
         }
     }
+    pool_standard_errors(&mut fits);
     let status = match (fits.is_empty(), skipped.is_empty()) {
         (true, _) => Status::Refused,
         (false, true) => Status::Ok,
@@ -108,18 +126,26 @@ pub fn analyze_series_with_progress(
     };
     let theta_settings = ThetaSettings { virial: settings.virial, ..settings.theta };
     let volumes = series.volumes.or(settings.volumes);
-    let theta =
-        (status != Status::Refused).then(|| theta_for_series(series, &fits, volumes, &theta_settings, index, progress));
+    let theta = (status != Status::Refused)
+        .then(|| theta_for_series(series, &fits, noise, volumes, &theta_settings, index, progress));
     // A series whose bootstrap did not run still counts its share of the work.
     let replicates_run = theta.as_ref().and_then(|t| t.bootstrap.as_ref()).map_or(0, |b| b.replicates as u64);
     progress.advance(1 + settings.theta.bootstrap_replicates as u64 - replicates_run);
-    SeriesResult { name: series.name.clone(), status, fits, skipped, quantity: Quantity::SecondVirial, theta }
+    SeriesResult {
+        name: series.name.clone(),
+        status,
+        fits,
+        skipped,
+        quantity: Quantity::SecondVirial,
+        theta,
+        noise: Some(noise),
+    }
 }
 
 /// θ of a series given as A2 (or χ) per temperature.
 pub fn analyze_tabulated(series: &TabulatedSeries, settings: &Settings) -> SeriesResult {
     let volumes = series.volumes.or(settings.volumes);
-    let theta = theta_from_points(&series.points, series.quantity, volumes, &settings.theta);
+    let theta = theta_from_points(&series.points, SeBasis::Known, series.quantity, volumes, &settings.theta);
     SeriesResult {
         name: series.name.clone(),
         status: Status::Ok,
@@ -127,6 +153,7 @@ pub fn analyze_tabulated(series: &TabulatedSeries, settings: &Settings) -> Serie
         skipped: Vec::new(),
         quantity: series.quantity,
         theta: Some(theta),
+        noise: None,
     }
 }
 

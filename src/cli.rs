@@ -264,8 +264,10 @@ pub struct AnalyzeArgs {
     #[arg(long, default_value_t = 0.95, value_parser = parse_confidence)]
     pub confidence: f64,
 
-    /// Bootstrap replicates for the θ interval cross-check (0 turns it off).
-    #[arg(long, default_value_t = 2000, value_name = "N")]
+    /// Bootstrap replicates for a θ cross-check (off by default: in the coverage study its
+    /// percentile interval held θ in 84–90 % of series; the headline Fieller interval is the
+    /// calibrated one).
+    #[arg(long, default_value_t = 0, value_name = "N")]
     pub bootstrap: usize,
 
     /// Largest --bootstrap accepted (each replicate of each series costs 8 bytes and a refit).

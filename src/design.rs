@@ -3,13 +3,14 @@
 //! the noise level of the per-temperature fits. Pure computation.
 //!
 //! Line: A2 = α + β u, u = 1/T − x̄, weights w_i = 1/SE_i². Information M = Σ w_i (1, u_i)ᵀ(1, u_i);
-//! Cov(α, β) = φ M⁻¹ with φ the line's reduced χ², as the analysis scales it. A new temperature T with
+//! Cov(α, β) = φ M⁻¹ with φ the line's scale (1, or its reduced χ² where the points scatter
+//! more than their SEs allow), as the analysis takes it. A new temperature T with
 //! concentrations c_j (each measured r times) adds w = r Σ(c_j − c̄)² / s², where s is the noise
-//! of Π/(cRT) inferred from the measured temperatures: SE_i = s / √Σ(c − c̄)² for a straight
-//! virial line. θ = 1/(x̄ − α/β), its SE by the delta method, its interval by Fieller with
+//! of Π/(cRT) inferred from the measured temperatures (SE_i = s / √Σ(c − c̄)² for a straight
+//! virial line), interpolated to T. θ = 1/(x̄ − α/β), its SE by the delta method, its interval by Fieller with
 //! n + k − 2 degrees of freedom.
 
-use crate::theta::{InverseTemperatureLine, TemperaturePoint};
+use crate::theta::{InverseTemperatureLine, SeBasis, TemperaturePoint};
 use crate::uncertainty::{critical_value, fieller_zero, replicate_rng, FiellerSet};
 use crate::units::kelvin_to_celsius;
 use rand_distr::{Distribution, Normal};
@@ -103,8 +104,8 @@ struct Model {
     phi: f64,
     /// Information of the measured temperatures: M00, M01, M11.
     info: [f64; 3],
-    /// Noise of Π/(cRT), mol/kg.
-    noise: f64,
+    /// Noise of Π/(cRT) at each measured temperature, (K, mol/kg), ascending in T.
+    noise: Vec<(f64, f64)>,
     n: usize,
     confidence: f64,
 }
@@ -118,9 +119,9 @@ fn spread(c: &[f64]) -> f64 {
 impl Model {
     fn new(points: &[MeasuredTemperature], confidence: f64) -> Option<Self> {
         let tp: Vec<TemperaturePoint> = points.iter().map(|m| m.point).collect();
-        let line = InverseTemperatureLine::fit(&tp).ok()?;
+        let line = InverseTemperatureLine::fit(&tp, SeBasis::Known).ok()?;
         let mut info = [0.0; 3];
-        let mut noise: Vec<f64> = Vec::new();
+        let mut noise: Vec<(f64, f64)> = Vec::new();
         for m in points {
             let se = m.point.se?;
             let u = 1.0 / m.point.temperature_k - line.x_centre;
@@ -128,17 +129,19 @@ impl Model {
             info[0] += w;
             info[1] += w * u;
             info[2] += w * u * u;
-            noise.push(se * spread(&m.concentrations).sqrt());
+            noise.push((m.point.temperature_k, se * spread(&m.concentrations).sqrt()));
         }
-        noise.sort_by(f64::total_cmp);
-        let noise = *noise.get(noise.len() / 2)?;
+        noise.sort_by(|a, b| a.0.total_cmp(&b.0));
+        if noise.is_empty() {
+            return None;
+        }
         Some(Model {
             x_centre: line.x_centre,
             alpha: line.alpha,
             beta: line.beta,
-            // As the analysis scales the line's covariance (E φ = 1 when the SEs are right;
-            // flooring it at 1 overstated the SE by 17 % in tests/next.rs).
-            phi: line.reduced_chi2.filter(|p| p.is_finite() && *p > 0.0).unwrap_or(1.0),
+            // As the analysis scales the line's covariance: 1 unless the points scatter more
+            // than their SEs allow.
+            phi: line.scale(),
             info,
             noise,
             n: points.len(),
@@ -146,9 +149,19 @@ impl Model {
         })
     }
 
-    /// Weight of a new run at these concentrations.
-    fn weight(&self, concentrations: &[f64], replicates: usize) -> f64 {
-        replicates as f64 * spread(concentrations) / (self.noise * self.noise)
+    /// Weight of a new run at T (K) at these concentrations. The noise is interpolated between
+    /// the measured temperatures (the nearest one's beyond them): an SE carries the share of
+    /// the series' form choice, which grows with |A2|, so it varies across temperatures.
+    fn weight(&self, temperature_k: f64, concentrations: &[f64], replicates: usize) -> f64 {
+        let noise = match self.noise.iter().position(|(t, _)| *t >= temperature_k) {
+            Some(0) => self.noise[0].1,
+            None => self.noise[self.noise.len() - 1].1,
+            Some(k) => {
+                let ((t0, n0), (t1, n1)) = (self.noise[k - 1], self.noise[k]);
+                n0 + (n1 - n0) * (temperature_k - t0) / (t1 - t0)
+            }
+        };
+        replicates as f64 * spread(concentrations) / (noise * noise)
     }
 
     /// (θ SE, Fieller width) after adding runs (T, weight), `info` scaled by `boost` (2 = every
@@ -203,7 +216,7 @@ pub fn next_runs(name: &str, points: &[MeasuredTemperature], settings: &DesignSe
         return design;
     };
     let concentrations = settings.concentrations.clone().unwrap_or_else(|| most_used(points));
-    let weight = model.weight(&concentrations, settings.replicates);
+    let weight = |t: f64| model.weight(t, &concentrations, settings.replicates);
     let measurements = concentrations.len() * settings.replicates;
     let (se_now, width_now) = model.predict(&[], 1.0);
     let theta_now = {
@@ -229,7 +242,7 @@ pub fn next_runs(name: &str, points: &[MeasuredTemperature], settings: &DesignSe
     };
     let score = |p: &Prediction| p.1.or(p.0.map(|se| 1e6 + se)).unwrap_or(f64::INFINITY);
     let mut candidates: Vec<(f64, Prediction)> =
-        grid.iter().map(|&t| (t, model.predict(&[(t, weight)], 1.0))).collect();
+        grid.iter().map(|&t| (t, model.predict(&[(t, weight(t))], 1.0))).collect();
     candidates.sort_by(|a, b| score(&a.1).total_cmp(&score(&b.1)));
     design.candidates = candidates.iter().map(|(t, p)| run(*t, *p)).collect();
 
@@ -243,7 +256,7 @@ pub fn next_runs(name: &str, points: &[MeasuredTemperature], settings: &DesignSe
         let mirror = (theta + (theta - near)).clamp(settings.thermostat.0, settings.thermostat.1);
         let bracket = grid.iter().copied().min_by(|a, b| (a - mirror).abs().total_cmp(&(b - mirror).abs()));
         if let Some(t) = bracket.filter(|t| (*t - theta).signum() != (near - theta).signum()) {
-            added.push((t, weight));
+            added.push((t, weight(t)));
             design.advice.push(format!(
                 "θ ({:.1} °C) lies outside the measured temperatures: first measure at {:.1} °C, on its other side, so that the crossing is bracketed",
                 kelvin_to_celsius(theta),
@@ -259,12 +272,12 @@ pub fn next_runs(name: &str, points: &[MeasuredTemperature], settings: &DesignSe
             .iter()
             .map(|&t| {
                 let mut trial = added.clone();
-                trial.push((t, weight));
+                trial.push((t, weight(t)));
                 (t, model.predict(&trial, 1.0))
             })
             .min_by(|a, b| score(&a.1).total_cmp(&score(&b.1)));
         let Some((t, p)) = best else { break };
-        added.push((t, weight));
+        added.push((t, weight(t)));
         design.recommended.push(run(t, p));
     }
 
@@ -333,7 +346,7 @@ fn simulate_design(
                 TemperaturePoint { temperature_k: t, value: truth + draw, se: Some(se) }
             })
             .collect();
-        if let Some(theta) = InverseTemperatureLine::fit(&sim).ok().and_then(|l| l.theta_k()) {
+        if let Some(theta) = InverseTemperatureLine::fit(&sim, SeBasis::Known).ok().and_then(|l| l.theta_k()) {
             thetas.push(theta);
         }
     }

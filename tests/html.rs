@@ -64,7 +64,7 @@ fn the_analyze_report_has_its_sections_and_every_figure_inline() {
     assert_eq!(svgs, 2 * 4 + 1);
     assert_self_contained(&doc);
     let text: String = doc.descendants().filter_map(|n| n.text()).collect();
-    assert!(text.contains("θ = 34.34 °C (307.49 K)"), "the answer comes first");
+    assert!(text.contains("θ = 34.48 °C (307.63 K)"), "the answer comes first");
     assert!(text.contains("sha256") || html.contains("SHA-256"));
     assert!(html.contains("@media print") && html.contains("name=\"viewport\""));
 }

@@ -17,7 +17,8 @@ use common::thetaseek;
 const C: [f64; 5] = [2.0, 4.0, 6.0, 8.0, 10.0];
 const THETA: f64 = 305.0;
 
-/// Readings with equal noise in Π/(cRT) (σ_y = 0.4 % of 1/Mn), the model the prediction uses.
+/// Readings with equal noise in Π/(cRT) (σ_y = 0.4 % of 1/Mn), the model the prediction uses,
+/// given with each reading as its SD (the analysis would otherwise estimate the noise's shape).
 fn series(temps: &[f64], rng: &mut ChaCha8Rng) -> Series {
     let noise = Normal::new(0.0, 0.004 / 150.0).unwrap();
     let mut rows = Vec::new();
@@ -25,21 +26,33 @@ fn series(temps: &[f64], rng: &mut ChaCha8Rng) -> Series {
         let a2 = flory_krigbaum_a2(t, THETA, 0.4, 0.9e-3, 100e-6);
         for c in C {
             let y = 1.0 / 150.0 + a2 * c + noise.sample(rng);
-            rows.push(Measurement::simulated("s", t, c, y * c * GAS_CONSTANT_J_PER_MOL_K * t));
+            let rt = c * GAS_CONSTANT_J_PER_MOL_K * t;
+            rows.push(Measurement {
+                pressure_sd_pa: Some(0.004 / 150.0 * rt),
+                ..Measurement::simulated("s", t, c, y * rt)
+            });
         }
     }
     group(&rows).remove(0)
 }
 
-fn measured(s: &Series) -> Vec<MeasuredTemperature> {
-    let settings = Settings {
+/// The linear form at every temperature: the design's prediction is checked on the model it
+/// assumes. (Under `--virial auto` each SE also carries the form choice's share, and the
+/// prediction came out 14 % above the SD obtained: conservative where the simpler form is true.)
+fn linear_forms() -> Settings {
+    Settings {
+        virial: thetaseek::virial::FormChoice::Fixed(thetaseek::virial::VirialForm::Linear),
         theta: ThetaSettings { bootstrap_replicates: 0, ..ThetaSettings::default() },
         ..Settings::default()
-    };
+    }
+}
+
+fn measured(s: &Series) -> Vec<MeasuredTemperature> {
+    let settings = linear_forms();
     let r = analyze_series(s, &settings, 0);
     r.fits
         .iter()
-        .zip(a2_points(&r.fits))
+        .zip(a2_points(&r.fits).0)
         .map(|(f, p)| MeasuredTemperature {
             point: p,
             concentrations: s
@@ -81,22 +94,27 @@ fn the_predicted_se_matches_the_se_obtained_on_simulated_data_of_that_design() {
         predicted.push(d.recommended[0].predicted_se_k.unwrap());
     }
     // ...against the SD of θ actually obtained on 300 simulated series of the six-temperature design.
-    let mut thetas = Vec::new();
+    let (mut thetas, mut reported) = (Vec::new(), Vec::new());
     let mut all = base.to_vec();
     all.push(extra);
     for _ in 0..300 {
         let s = series(&all, &mut rng);
-        let settings = Settings {
-            theta: ThetaSettings { bootstrap_replicates: 0, ..ThetaSettings::default() },
-            ..Settings::default()
-        };
-        thetas.push(analyze_series(&s, &settings, 0).theta.unwrap().theta_k.unwrap());
+        let t = analyze_series(&s, &linear_forms(), 0).theta.unwrap();
+        thetas.push(t.theta_k.unwrap());
+        reported.push(t.se_k.unwrap());
     }
     let mean_predicted = predicted.iter().sum::<f64>() / predicted.len() as f64;
     let mean = thetas.iter().sum::<f64>() / thetas.len() as f64;
     let actual = (thetas.iter().map(|t| (t - mean).powi(2)).sum::<f64>() / (thetas.len() - 1) as f64).sqrt();
-    println!("predicted SE {mean_predicted:.4} K, obtained {actual:.4} K");
-    assert!((mean_predicted / actual - 1.0).abs() < 0.10, "predicted {mean_predicted} vs obtained {actual}");
+    let mean_reported = reported.iter().sum::<f64>() / reported.len() as f64;
+    println!("predicted SE {mean_predicted:.4} K, reported {mean_reported:.4} K, SD of θ {actual:.4} K");
+    // The prediction is of the SE the analysis will report, which is scaled up where the line's
+    // scatter exceeds its SEs (p < 0.10): so it sits a little above the bare SD of θ.
+    assert!(
+        (mean_predicted / mean_reported - 1.0).abs() < 0.10,
+        "predicted {mean_predicted} vs reported {mean_reported}"
+    );
+    assert!((0.95..1.25).contains(&(mean_predicted / actual)), "predicted {mean_predicted} vs SD {actual}");
 }
 
 #[test]

@@ -52,6 +52,7 @@ fn virial_forms_on_osmometry_readings_match_numpy() {
             concentration: &c,
             pressure: &pressure,
             pressure_sd: sd.as_deref(),
+            sd_kind: thetaseek::regression::Weights::Absolute,
         };
         let form = if case["degree"].as_u64() == Some(2) { VirialForm::Quadratic } else { VirialForm::Linear };
         let f = fit_form(form, &readings).unwrap();

@@ -6,6 +6,7 @@ use rand::SeedableRng;
 use rand_chacha::ChaCha8Rng;
 use rand_distr::{Distribution, Normal as NormalSampler};
 use statrs::distribution::{ContinuousCDF, Normal, StudentsT};
+use thetaseek::regression::Weights;
 use thetaseek::simulate::{simulate, Noise, VirialTruth};
 use thetaseek::units::GAS_CONSTANT_J_PER_MOL_K;
 use thetaseek::virial::{fit_form, Readings, VirialForm};
@@ -14,7 +15,7 @@ const T: f64 = 303.15;
 const C: [f64; 6] = [1.0, 2.0, 4.0, 6.0, 8.0, 10.0]; // kg/m³
 
 fn readings_of<'a>(c: &'a [f64], p: &'a [f64], sd: Option<&'a [f64]>) -> Readings<'a> {
-    Readings { temperature_k: T, concentration: c, pressure: p, pressure_sd: sd }
+    Readings { temperature_k: T, concentration: c, pressure: p, pressure_sd: sd, sd_kind: Weights::Absolute }
 }
 
 #[test]

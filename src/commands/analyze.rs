@@ -235,6 +235,9 @@ pub(super) fn add_scattering_series(
         let v = volumes.iter().find(|(s, _)| s == name).map(|(_, v)| *v).or(settings.volumes);
         let theta = thetaseek::theta::theta_from_points(
             &thetaseek::scattering::points(&fits),
+            // Each temperature's SE from its own Zimm fit: taken as known (normal quantile),
+            // widened by the line's lack-of-fit test where the points scatter more.
+            thetaseek::theta::SeBasis::Known,
             thetaseek::theta::Quantity::SecondVirial,
             v,
             &settings.theta,

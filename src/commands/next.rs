@@ -50,7 +50,7 @@ pub fn run(args: &NextArgs) -> Result<(), Error> {
             let measured: Vec<MeasuredTemperature> = result
                 .fits
                 .iter()
-                .zip(a2_points(&result.fits))
+                .zip(a2_points(&result.fits).0)
                 .filter_map(|(fit, point)| {
                     let set = series.temperatures.iter().find(|t| t.temperature_k == fit.temperature_k)?;
                     Some(MeasuredTemperature { point, concentrations: set.concentration_kg_per_m3.clone() })

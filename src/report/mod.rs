@@ -199,6 +199,10 @@ pub struct SeriesReport {
     pub reason: Option<String>,
     /// Series-level warnings.
     pub warnings: Vec<String>,
+    /// How the readings' noise was modelled for the weights: `given_sds`, `flat_reduced`,
+    /// `constant_pressure`, `proportional_pressure` or `floor_and_gain` (with its crossover
+    /// pressure in Pa); chosen by pooled likelihood when no SDs are given (null for tables).
+    pub reading_noise: Option<crate::virial::PressureNoise>,
     /// Per-temperature fits, ascending temperature.
     pub fits: Vec<FitReport>,
     /// Temperatures that were not fitted.
@@ -267,7 +271,8 @@ pub struct FitReport {
     pub weighted: bool,
     /// Number-average molar mass Mn, g/mol.
     pub mn_g_per_mol: f64,
-    /// SE of Mn, g/mol.
+    /// SE of Mn, g/mol: on the residual variance pooled over the series' temperatures (where no
+    /// SDs were given), with the share of the series' form choice.
     pub mn_se_g_per_mol: f64,
     /// Second virial coefficient A2, mol mL/g².
     pub a2_mol_ml_per_g2: f64,
@@ -281,8 +286,11 @@ pub struct FitReport {
     pub inverse_mn_mol_per_g: f64,
     /// Covariance of (1/Mn, A2), mol² mL/g³.
     pub cov_inverse_mn_a2_mol2_ml_per_g3: f64,
-    /// Residual degrees of freedom.
+    /// Residual degrees of freedom of this temperature's fit.
     pub dof: usize,
+    /// Degrees of freedom behind the SEs (the pooled residual variance; null where given SDs
+    /// make them known, normal quantile).
+    pub se_dof: Option<usize>,
     /// Σ w e² / dof for weighted fits (≈ 1 when the SDs are right); null when unweighted.
     pub reduced_chi2: Option<f64>,
     /// Residual SD of the unweighted reduced pressure, mol/g (null when weighted or for sqrt).
@@ -336,15 +344,16 @@ impl FitReport {
             virial_candidates: full.then(|| t.candidates.clone()),
             weighted: t.weighted,
             mn_g_per_mol: f.mn() * G_PER_MOL_PER_KG_PER_MOL,
-            mn_se_g_per_mol: f.mn_se() * G_PER_MOL_PER_KG_PER_MOL,
+            mn_se_g_per_mol: t.mn_se() * G_PER_MOL_PER_KG_PER_MOL,
             a2_mol_ml_per_g2: f.score.a2 * A2_MOL_ML_PER_G2_PER_SI,
-            a2_se_mol_ml_per_g2: f.score.a2_se * A2_MOL_ML_PER_G2_PER_SI,
+            a2_se_mol_ml_per_g2: t.a2_se() * A2_MOL_ML_PER_G2_PER_SI,
             a3_mol_ml2_per_g3: f.score.a3.map(|(a, _)| a * A3_MOL_ML2_PER_G3_PER_SI),
-            a3_se_mol_ml2_per_g3: f.score.a3.map(|(_, s)| s * A3_MOL_ML2_PER_G3_PER_SI),
+            a3_se_mol_ml2_per_g3: t.a3_se().map(|s| s * A3_MOL_ML2_PER_G3_PER_SI),
             inverse_mn_mol_per_g: f.score.inverse_mn * MOL_PER_G_PER_MOL_PER_KG,
             // mol² m³/kg³ → mol² mL/g³: 10⁶ mL/m³ over 10⁹ g³/kg³.
-            cov_inverse_mn_a2_mol2_ml_per_g3: f.score.cov_inverse_mn_a2 * 1.0e-3,
+            cov_inverse_mn_a2_mol2_ml_per_g3: t.cov_inverse_mn_a2() * 1.0e-3,
             dof: f.lsq.dof,
+            se_dof: t.se_dof,
             reduced_chi2: t.weighted.then(|| f.lsq.rss_weighted / f.lsq.dof as f64).and_then(finite),
             residual_sd_mol_per_g: unweighted_reduced
                 .then_some(f.lsq.residual_sd * MOL_PER_G_PER_MOL_PER_KG)
@@ -363,6 +372,7 @@ impl FitReport {
             concentration: &series_set.concentration_kg_per_m3,
             pressure: &series_set.pressure_pa,
             pressure_sd: None,
+            sd_kind: crate::regression::Weights::Absolute,
         }
         .reduced();
         (0..series_set.len())
@@ -411,6 +421,7 @@ impl SeriesReport {
         let fit_warnings = result.fits.iter().map(|f| f.warnings.len()).sum();
         SeriesReport {
             name: result.name.clone(),
+            reading_noise: result.noise,
             solvent: None,
             status: result.status,
             reason,
@@ -506,6 +517,7 @@ impl Report {
             Err(e) => (Status::Refused, Some(e), None),
         };
         self.series.push(SeriesReport {
+            reading_noise: None,
             name: name.to_string(),
             solvent: None,
             status,
@@ -530,6 +542,7 @@ impl Report {
     ) {
         let status = if fits.is_empty() { Status::Refused } else { Status::Ok };
         self.series.push(SeriesReport {
+            reading_noise: None,
             name: name.to_string(),
             solvent: None,
             status,

@@ -174,7 +174,7 @@ fn render_digest(report: &Report) -> String {
 }
 
 /// Counts for the end of a run: series analysed and refused (reasons grouped), and how many
-/// have a bracketed, an extrapolated or no θ.
+/// have a bracketed, an extrapolated, a critical-temperature (Shultz–Flory) or no θ.
 pub fn render_summary(report: &Report) -> String {
     let mut tally = Tally::default();
     report.series.iter().for_each(|s| tally.add(s));
@@ -187,7 +187,8 @@ pub fn render_summary(report: &Report) -> String {
 pub struct Tally {
     series: usize,
     refused: usize,
-    crossings: [usize; 3],
+    /// θ bracketed, extrapolated, from critical temperatures (a limit, no crossing), none.
+    crossings: [usize; 4],
     /// Refusal reasons with their count and the first series refused for each.
     reasons: Vec<(String, usize, String)>,
     attention: usize,
@@ -200,12 +201,16 @@ impl Tally {
         use crate::analysis::Status;
         use crate::theta::Crossing;
         self.series += 1;
-        if let Some(t) = &s.theta {
-            let k = match t.crossing {
-                Crossing::Bracketed => 0,
-                Crossing::Extrapolated => 1,
-                Crossing::None => 2,
-            };
+        let k = match (&s.theta, &s.critical) {
+            (Some(t), _) => match t.crossing {
+                Crossing::Bracketed => Some(0),
+                Crossing::Extrapolated => Some(1),
+                Crossing::None => Some(3),
+            },
+            (None, Some(_)) => Some(2),
+            (None, None) => None,
+        };
+        if let Some(k) = k {
             self.crossings[k] += 1;
         }
         if s.status == Status::Refused {
@@ -245,9 +250,10 @@ impl Tally {
 
     /// The summary lines.
     pub fn summary(&self) -> String {
-        let [bracketed, extrapolated, none] = self.crossings;
+        let [bracketed, extrapolated, critical, none] = self.crossings;
+        let critical = if critical > 0 { format!(", from critical temperatures {critical}") } else { String::new() };
         let mut out = format!(
-            "summary: {} series analysed, {} refused; θ bracketed {bracketed}, extrapolated {extrapolated}, none {none}\n",
+            "summary: {} series analysed, {} refused; θ bracketed {bracketed}, extrapolated {extrapolated}{critical}, none {none}\n",
             self.series - self.refused,
             self.refused,
         );

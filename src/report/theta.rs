@@ -53,8 +53,30 @@ pub struct ThetaReport {
     pub line: Option<LineReport>,
     /// The values the across-temperature models were fitted to, in the line's units.
     pub points: Vec<ThetaPointReport>,
+    /// Every sign change between measured temperatures when there are two or more (an upper
+    /// and a lower θ); empty otherwise.
+    pub sign_changes: Vec<SignChangeReport>,
+    /// The interval is at the limit of what the design supports (a warning says why).
+    pub design_limited: bool,
     /// Warnings.
     pub warnings: Vec<String>,
+}
+
+/// One sign change of A2 (or 1/2 − χ) between neighbouring measured temperatures.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct SignChangeReport {
+    /// θ, K: zero of the line in 1/T through the two bracketing temperatures.
+    pub theta_k: f64,
+    /// θ, °C.
+    pub theta_c: f64,
+    /// SE, K.
+    pub se_k: Option<f64>,
+    /// Fieller interval of that two-point line, K (null where unbounded).
+    pub ci_low_k: Option<f64>,
+    /// K.
+    pub ci_high_k: Option<f64>,
+    /// `ucst` where A2 rises through zero with T, `lcst` where it falls.
+    pub sense: Sense,
 }
 
 /// One temperature's value in the across-temperature fit.
@@ -168,8 +190,19 @@ pub struct LineReport {
     pub cov_ab_k: f64,
     /// Var(b), value² K².
     pub var_b_k2: f64,
-    /// Reduced χ² of the line.
+    /// Reduced χ² of the line on the per-temperature SEs as given.
     pub reduced_chi2: Option<f64>,
+    /// P of a scatter at least that large if the SEs are right (null where not testable).
+    #[serde(default)]
+    pub lack_of_fit_p: Option<f64>,
+    /// `standard_errors` (covariance from the per-temperature SEs), `scaled_by_scatter` (scaled
+    /// up by the reduced χ², where p < 0.10) or `unweighted` (no SEs: the line's own scatter).
+    #[serde(default = "default_variance")]
+    pub variance: crate::theta::LineVariance,
+}
+
+fn default_variance() -> crate::theta::LineVariance {
+    crate::theta::LineVariance::Unweighted
 }
 
 impl ThetaReport {
@@ -243,6 +276,8 @@ impl ThetaReport {
                     cov_ab_k: cov_ab,
                     var_b_k2: var_b,
                     reduced_chi2: l.reduced_chi2,
+                    lack_of_fit_p: l.lack_of_fit_p,
+                    variance: l.variance,
                 }
             }),
             points: t
@@ -250,6 +285,19 @@ impl ThetaReport {
                 .iter()
                 .map(|p| ThetaPointReport { temperature_k: p.temperature_k, value: p.value, se: p.se })
                 .collect(),
+            sign_changes: t
+                .sign_changes
+                .iter()
+                .map(|c| SignChangeReport {
+                    theta_k: c.theta_k,
+                    theta_c: kelvin_to_celsius(c.theta_k),
+                    se_k: c.se_k,
+                    ci_low_k: c.interval.low_k,
+                    ci_high_k: c.interval.high_k,
+                    sense: c.sense,
+                })
+                .collect(),
+            design_limited: t.design_limited,
             warnings: t.warnings.clone(),
         }
     }

@@ -3,6 +3,7 @@
 //! argmin's Brent root finder; the SE of θ follows by the delta method through the implicit
 //! function theorem.
 
+use super::line::{scatter_p_value, SeBasis, LACK_OF_FIT_P};
 use super::TemperaturePoint;
 use crate::regression::{self, Weights};
 use crate::uncertainty::critical_value;
@@ -18,8 +19,8 @@ pub struct CurvedFit {
     pub coefficients: [f64; 3],
     /// Covariance, row-major 3×3.
     pub covariance: [f64; 9],
-    /// n − 3.
-    pub dof: usize,
+    /// Degrees of freedom of the quantile (None: normal), chosen as for the line.
+    pub dof: Option<usize>,
     /// t statistic of c2.
     pub curvature_t: f64,
     /// AICc of this fit and of the straight line on the same weights.
@@ -32,8 +33,10 @@ pub struct CurvedFit {
 pub const MIN_TEMPERATURES: usize = 5;
 
 impl CurvedFit {
-    /// Fits the curve; `None` with fewer than `MIN_TEMPERATURES` (5) temperatures.
-    pub fn fit(points: &[TemperaturePoint]) -> Option<Self> {
+    /// Fits the curve; `None` with fewer than `MIN_TEMPERATURES` (5) temperatures. The
+    /// covariance follows the line's rule ([`super::InverseTemperatureLine::fit`]): from the
+    /// per-temperature SEs unless the points scatter about the curve more than they allow.
+    pub fn fit(points: &[TemperaturePoint], basis: SeBasis) -> Option<Self> {
         let n = points.len();
         if n < MIN_TEMPERATURES {
             return None;
@@ -44,26 +47,34 @@ impl CurvedFit {
         let u: Vec<f64> = x.iter().map(|x| x - x_centre).collect();
         let y = |i: usize| points[i].value;
         let weight = |i: usize| weights.as_ref().map_or(1.0, |w| w[i]);
-        let quad =
-            regression::fit_core(n, 3, |i| regression::polynomial_row(u[i], 3), y, weight, Weights::Relative).ok()?;
-        let line =
-            regression::fit_core(n, 2, |i| regression::polynomial_row(u[i], 2), y, weight, Weights::Relative).ok()?;
-        let covariance = std::array::from_fn(|k| quad.covariance[k / 3][k % 3]);
+        let kind = if weights.is_some() { Weights::Absolute } else { Weights::Relative };
+        let quad = regression::fit_core(n, 3, |i| regression::polynomial_row(u[i], 3), y, weight, kind).ok()?;
+        let line = regression::fit_core(n, 2, |i| regression::polynomial_row(u[i], 2), y, weight, kind).ok()?;
+        let reduced_chi2 = quad.rss_weighted / quad.dof as f64;
+        let (scale, dof) = match weights {
+            None => (1.0, Some(quad.dof)),
+            Some(_) => match scatter_p_value(reduced_chi2, quad.dof, basis.dof()) {
+                Some(p) if p < LACK_OF_FIT_P => (reduced_chi2, Some(quad.dof)),
+                _ => (1.0, basis.dof()),
+            },
+        };
+        let covariance = std::array::from_fn(|k| scale * quad.covariance[k / 3][k % 3]);
         Some(CurvedFit {
             x_centre,
             coefficients: [quad.coefficients[0], quad.coefficients[1], quad.coefficients[2]],
             covariance,
-            dof: quad.dof,
-            curvature_t: quad.coefficients[2] / quad.se(2),
+            dof,
+            curvature_t: quad.coefficients[2] / (scale * quad.covariance[2][2]).sqrt(),
             aicc: crate::virial::aicc(quad.rss_weighted, n, 3),
             line_aicc: crate::virial::aicc(line.rss_weighted, n, 2),
         })
     }
 
     /// Whether the data support the curve over the line: the c2 term is significant at
-    /// `confidence` (t test, n − 3 dof) and, where both are defined, AICc prefers it.
+    /// `confidence` (t test on the curve's quantile dof) and, where both are defined, AICc
+    /// prefers it.
     pub fn supported(&self, confidence: f64) -> bool {
-        let significant = self.curvature_t.abs() > critical_value(confidence, Some(self.dof));
+        let significant = self.curvature_t.abs() > critical_value(confidence, self.dof);
         let aicc_prefers = match (self.aicc, self.line_aicc) {
             (Some(q), Some(l)) => q < l,
             _ => true,

@@ -6,11 +6,13 @@
 //! good-solvent curvature, g = 1/4, and none at or below θ). That ties the curvature to A2 at
 //! temperatures where a straight line was chosen too: in a coverage study (examples/
 //! theta-coverage.rs) leaving it out there made the joint interval cover 86–92 % instead of 95 %. Solved by the damped Gauss–Newton of [`crate::nls`].
-//! Weights: 1/σ_y² from the pressure SDs, else equal (a variance of y common to all temperatures).
+//! Weights: 1/σ_y² from the pressure SDs, else from the series' noise shape
+//! ([`PressureNoise`]), up to a variance common to all temperatures.
 
 use crate::dataset::TemperatureSet;
 use crate::nls::{LeastSquaresProblem, NlsError};
-use crate::virial::{Readings, TemperatureFit, VirialForm};
+use crate::regression::Weights;
+use crate::virial::{PressureNoise, Readings, TemperatureFit, VirialForm};
 
 /// One temperature of the joint problem.
 struct Block {
@@ -108,6 +110,7 @@ pub struct JointFit {
 pub fn joint_fit(
     sets: &[&TemperatureSet],
     fits: &[&TemperatureFit],
+    noise: PressureNoise,
     start_theta_k: f64,
     start_a: f64,
 ) -> Result<JointFit, NlsError> {
@@ -116,12 +119,14 @@ pub fn joint_fit(
     let mut n = 0;
     let mut start_inv_mn = 0.0;
     for (set, fit) in sets.iter().zip(fits) {
-        let sd: Option<Vec<f64>> = set.pressure_sd_pa.iter().copied().collect();
+        let given: Option<Vec<f64>> = set.pressure_sd_pa.iter().copied().collect();
+        let sd = given.or_else(|| noise.shape(set));
         let readings = Readings {
             temperature_k: set.temperature_k,
             concentration: &set.concentration_kg_per_m3,
             pressure: &set.pressure_pa,
             pressure_sd: sd.as_deref(),
+            sd_kind: Weights::Relative,
         };
         let reduced = readings.reduced();
         let sqrt_weight = match readings.reduced_weights() {
@@ -129,6 +134,8 @@ pub fn joint_fit(
             // One instrument at every temperature: a common variance of Π/(cRT), estimated
             // by the fit itself (per-temperature residual SDs on 3 dof would be noisy weights).
             None => vec![1.0; set.len()],
+            // (With SDs or a noise shape the weights are relative too: the solver scales its
+            // covariance by the residual variance either way.)
         };
         let a3_index = (fit.fit.score.form == VirialForm::Quadratic).then(|| {
             p += 1;

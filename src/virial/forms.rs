@@ -79,6 +79,9 @@ pub struct Readings<'a> {
     pub pressure: &'a [f64],
     /// SD of Π in Pa, every point or none.
     pub pressure_sd: Option<&'a [f64]>,
+    /// How to read `pressure_sd`: the readings' SDs (absolute), or the noise's shape across
+    /// readings up to one unknown factor (relative).
+    pub sd_kind: Weights,
 }
 
 impl Readings<'_> {
@@ -136,7 +139,7 @@ pub struct FormScore {
 
 /// Solves `form` at one temperature without per-point output (no allocation).
 pub fn score_form(form: VirialForm, r: &Readings) -> Result<FormScore, FormError> {
-    let kind = if r.pressure_sd.is_some() { Weights::Absolute } else { Weights::Relative };
+    let kind = if r.pressure_sd.is_some() { r.sd_kind } else { Weights::Relative };
     let rt = GAS_CONSTANT_J_PER_MOL_K * r.temperature_k;
     let (c, pressure) = (r.concentration, r.pressure);
     let n = c.len();

@@ -2,8 +2,12 @@
 //! polymer chemist would want to see next to Mn and A2.
 
 mod forms;
+mod noise;
 
 pub use forms::{fit_form, score_form, FormError, FormFit, FormScore, Readings, VirialForm};
+pub use noise::{choose_noise, PressureNoise};
+
+use crate::regression::Weights;
 
 use crate::dataset::TemperatureSet;
 use serde::Serialize;
@@ -130,6 +134,15 @@ pub struct TemperatureFit {
     pub candidates: Vec<Candidate>,
     /// Diagnostics.
     pub warnings: Vec<FitWarning>,
+    /// Factor on the fit's own SEs: s_pooled/s_own where the residual variance is pooled over
+    /// the series' temperatures ([`pool_standard_errors`]), else 1.
+    pub se_scale: f64,
+    /// Degrees of freedom of the variance behind the SEs (`None`: given SDs weighted the fit,
+    /// the SEs are known and the normal quantile applies).
+    pub se_dof: Option<usize>,
+    /// Variance the series' form choice adds to (1/Mn, A2), (mol/kg)² and (mol m³/kg²)²
+    /// ([`SeriesChoice::choice_variance`]; zero for a form fixed by the user).
+    pub choice_variance: (f64, f64),
 }
 
 /// Why a temperature was not fitted.
@@ -160,8 +173,10 @@ pub struct ScoredTemperature {
     pub temperature_k: f64,
     /// The chosen form, solved.
     pub score: FormScore,
-    /// SDs of Π that weighted the fit (every reading has one), Pa.
+    /// SDs of Π that weighted the fit (every reading has one), Pa, or the noise's shape.
     pressure_sd: Option<Vec<f64>>,
+    /// Whether `pressure_sd` holds given SDs (absolute) or a shape (relative).
+    sd_kind: Weights,
     choice_reason: String,
     candidates: Vec<Candidate>,
     quadratic: Option<FormScore>,
@@ -169,8 +184,13 @@ pub struct ScoredTemperature {
     warnings: Vec<FitWarning>,
 }
 
-/// Chooses and solves the form at one temperature, or says why it cannot be fitted.
-pub fn score_temperature(set: &TemperatureSet, choice: FormChoice) -> Result<ScoredTemperature, SkippedTemperature> {
+/// Chooses and solves the form at one temperature, weighted by the SDs given with every
+/// reading or else by the series' noise shape, or says why it cannot be fitted.
+pub fn score_temperature(
+    set: &TemperatureSet,
+    choice: FormChoice,
+    noise: PressureNoise,
+) -> Result<ScoredTemperature, SkippedTemperature> {
     let skip = |reason: String| SkippedTemperature { temperature_k: set.temperature_k, n_points: set.len(), reason };
     let distinct = set.distinct_concentrations();
     if distinct < MIN_CONCENTRATIONS {
@@ -179,11 +199,15 @@ pub fn score_temperature(set: &TemperatureSet, choice: FormChoice) -> Result<Sco
         )));
     }
     let mut warnings = Vec::new();
-    let all_sd: Option<Vec<f64>> = set.pressure_sd_pa.iter().copied().collect();
-    if all_sd.is_none() && set.pressure_sd_pa.iter().any(Option::is_some) {
+    let given: Option<Vec<f64>> = set.pressure_sd_pa.iter().copied().collect();
+    if given.is_none() && set.pressure_sd_pa.iter().any(Option::is_some) {
         warnings.push(FitWarning::PartialWeights);
     }
-    let readings = readings_of(set, all_sd.as_deref());
+    let (all_sd, sd_kind) = match given {
+        Some(sd) => (Some(sd), Weights::Absolute),
+        None => (noise.shape(set), Weights::Relative),
+    };
+    let readings = readings_of(set, all_sd.as_deref(), sd_kind);
     let (score, choice_reason, candidates, quadratic) = match choice {
         FormChoice::Fixed(form) => match score_form(form, &readings) {
             Ok(score) => (score, format!("{} form requested", form.name()), Vec::new(), None),
@@ -207,6 +231,7 @@ pub fn score_temperature(set: &TemperatureSet, choice: FormChoice) -> Result<Sco
     Ok(ScoredTemperature {
         temperature_k: set.temperature_k,
         pressure_sd: all_sd,
+        sd_kind,
         score,
         choice_reason,
         candidates,
@@ -216,24 +241,29 @@ pub fn score_temperature(set: &TemperatureSet, choice: FormChoice) -> Result<Sco
     })
 }
 
-fn readings_of<'a>(set: &'a TemperatureSet, sd: Option<&'a [f64]>) -> Readings<'a> {
+fn readings_of<'a>(set: &'a TemperatureSet, sd: Option<&'a [f64]>, sd_kind: Weights) -> Readings<'a> {
     Readings {
         temperature_k: set.temperature_k,
         concentration: &set.concentration_kg_per_m3,
         pressure: &set.pressure_pa,
         pressure_sd: sd,
+        sd_kind,
     }
 }
 
 /// Fits one temperature: the chosen form plus diagnostics, or why it cannot be fitted.
-pub fn fit_temperature(set: &TemperatureSet, choice: FormChoice) -> Result<TemperatureFit, SkippedTemperature> {
-    Ok(score_temperature(set, choice)?.complete(set))
+pub fn fit_temperature(
+    set: &TemperatureSet,
+    choice: FormChoice,
+    noise: PressureNoise,
+) -> Result<TemperatureFit, SkippedTemperature> {
+    Ok(score_temperature(set, choice, noise)?.complete(set))
 }
 
 impl ScoredTemperature {
-    /// Whether per-point SDs weighted the fit.
+    /// Whether SDs given with the readings weighted the fit.
     pub fn weighted(&self) -> bool {
-        self.pressure_sd.is_some()
+        self.pressure_sd.is_some() && self.sd_kind == Weights::Absolute
     }
 
     /// The per-point output of the chosen form and the warnings about it, for the readings it
@@ -241,11 +271,20 @@ impl ScoredTemperature {
     pub fn complete(self, set: &TemperatureSet) -> TemperatureFit {
         let weighted = self.weighted();
         let ScoredTemperature {
-            pressure_sd, score, choice_reason, candidates, quadratic, distinct, mut warnings, ..
+            pressure_sd,
+            sd_kind,
+            score,
+            choice_reason,
+            candidates,
+            quadratic,
+            distinct,
+            mut warnings,
+            ..
         } = self;
-        let readings = readings_of(set, pressure_sd.as_deref());
+        let readings = readings_of(set, pressure_sd.as_deref(), sd_kind);
         // Only the chosen form gets its per-point output.
         let fit = score.complete(&readings);
+        let fit_dof = fit.score.core.dof;
         if distinct < FEW_CONCENTRATIONS {
             warnings.push(FitWarning::FewConcentrations { n: distinct });
         }
@@ -281,6 +320,75 @@ impl ScoredTemperature {
             choice_reason,
             candidates,
             warnings,
+            se_scale: 1.0,
+            se_dof: (!weighted).then_some(fit_dof),
+            choice_variance: (0.0, 0.0),
+        }
+    }
+}
+
+impl TemperatureFit {
+    /// SE of Mn, kg/mol: the fit's (on the pooled variance where pooled) with the form choice's
+    /// share, by the delta method from 1/Mn.
+    pub fn mn_se(&self) -> f64 {
+        let inverse = self.fit.score.inverse_mn;
+        let se_inverse = ((self.se_scale * self.fit.score.inverse_mn_se).powi(2) + self.choice_variance.0).sqrt();
+        se_inverse / (inverse * inverse)
+    }
+
+    /// SE of A2, mol m³/kg²: the fit's, with the form choice's share.
+    pub fn a2_se(&self) -> f64 {
+        ((self.se_scale * self.fit.score.a2_se).powi(2) + self.choice_variance.1).sqrt()
+    }
+
+    /// SE of A3, mol m⁶/kg³ (quadratic form only).
+    pub fn a3_se(&self) -> Option<f64> {
+        self.fit.score.a3.map(|(_, se)| self.se_scale * se)
+    }
+
+    /// Cov(1/Mn, A2), mol² m³/kg³.
+    pub fn cov_inverse_mn_a2(&self) -> f64 {
+        self.se_scale * self.se_scale * self.fit.score.cov_inverse_mn_a2
+    }
+}
+
+/// One temperature's share of a pooled residual variance: whether known SDs weighted it, its
+/// weighted RSS on the reduced-pressure scale, and its residual degrees of freedom.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct PoolShare {
+    /// Known SDs weighted the fit (it does not join the pool).
+    pub weighted: bool,
+    /// Σ (y − ŷ)² on the reduced-pressure scale, (mol/kg)².
+    pub rss_reduced: f64,
+    /// n − p.
+    pub dof: usize,
+}
+
+/// The residual variance of Π/(cRT) pooled over a series' unweighted temperatures: one
+/// instrument measured them all, so s²_pooled = Σ RSS_i / Σ ν_i rests on many more degrees of
+/// freedom than any one temperature's n − p (often 3), whose SEs alone would make weights and
+/// tests that chase each temperature's luck. Returns each pooled temperature's factor
+/// s_pooled/s_i (`None` for weighted or unpoolable ones) and the pooled degrees of freedom.
+pub fn pooled_scales(shares: &[PoolShare]) -> (Vec<Option<f64>>, usize) {
+    let pool = |s: &PoolShare| !s.weighted && s.dof > 0 && s.rss_reduced > 0.0;
+    let (rss, dof) = shares.iter().filter(|s| pool(s)).fold((0.0, 0usize), |(r, d), s| (r + s.rss_reduced, d + s.dof));
+    let pooled_sd = (rss / dof.max(1) as f64).sqrt();
+    let scales = shares.iter().map(|s| pool(s).then(|| pooled_sd / (s.rss_reduced / s.dof as f64).sqrt())).collect();
+    (scales, dof)
+}
+
+/// Puts every unweighted temperature of one series on the pooled residual variance
+/// ([`pooled_scales`]): SEs rescaled, degrees of freedom those of the pool.
+pub fn pool_standard_errors(fits: &mut [TemperatureFit]) {
+    let shares: Vec<PoolShare> = fits
+        .iter()
+        .map(|f| PoolShare { weighted: f.weighted, rss_reduced: f.fit.score.rss_reduced, dof: f.fit.score.core.dof })
+        .collect();
+    let (scales, dof) = pooled_scales(&shares);
+    for (fit, scale) in fits.iter_mut().zip(scales) {
+        if let Some(scale) = scale {
+            fit.se_scale = scale;
+            fit.se_dof = Some(dof);
         }
     }
 }
@@ -363,6 +471,133 @@ pub fn choose_form(readings: &Readings) -> Result<Choice, FormError> {
         None => score_form(form, readings)?,
     };
     Ok(Choice { score, reason, candidates, quadratic: quadratic_score })
+}
+
+/// The forms chosen once for a whole series under `--virial auto` ([`choose_series_forms`]).
+#[derive(Debug, Clone, PartialEq)]
+pub struct SeriesChoice {
+    /// The form at each temperature, in the order of the sets given (`None`: not fittable).
+    pub forms: Vec<Option<VirialForm>>,
+    /// Why, in words.
+    pub reason: String,
+    /// Each family with its pooled AICc (`form` names the family).
+    pub candidates: Vec<Candidate>,
+    /// At each temperature, the variance the choice itself adds to (1/Mn, A2):
+    /// Σ_k w_k (θ_k − θ_chosen)² over the families k with Akaike weights w_k, (mol/kg)² and
+    /// (mol m³/kg²)² (Buckland, Burnham & Augustin 1997, Biometrics 53, 603; Burnham &
+    /// Anderson 2002, "Model Selection and Multimodel Inference", §4.3.2).
+    pub choice_variance: Vec<(f64, f64)>,
+}
+
+/// Chooses one virial family for a whole series by AICc on every reading pooled: linear at every
+/// temperature; sqrt (Stockmayer–Casassa, g = 1/4) wherever it applies (A2 ≥ 0, every Π > 0)
+/// and linear elsewhere — the good-solvent curvature vanishes at and below θ; or quadratic
+/// wherever a temperature has the points for it. The quadratic family must win by
+/// [`QUADRATIC_AICC_MARGIN`]. One instrument and one polymer make the curvature a property of
+/// the series: chosen from all n_T × n_c readings it is seen √n_T times more clearly than at
+/// one temperature, where a choice among 4–6 points is nearly a coin toss and leaves A2 biased
+/// by about its own SE (the coverage study in DEVELOPERS.md measured both).
+pub fn choose_series_forms(sets: &[TemperatureSet], noise: PressureNoise) -> SeriesChoice {
+    struct Family {
+        form: VirialForm,
+        forms: Vec<Option<VirialForm>>,
+        estimates: Vec<Option<(f64, f64)>>,
+        rss: f64,
+        points: usize,
+        parameters: usize,
+    }
+    let families = [VirialForm::Linear, VirialForm::Sqrt, VirialForm::Quadratic].map(|family| {
+        let mut f = Family {
+            form: family,
+            forms: Vec::with_capacity(sets.len()),
+            estimates: Vec::with_capacity(sets.len()),
+            rss: 0.0,
+            points: 0,
+            parameters: 0,
+        };
+        for set in sets {
+            if set.distinct_concentrations() < MIN_CONCENTRATIONS {
+                f.forms.push(None);
+                f.estimates.push(None);
+                continue;
+            }
+            let given: Option<Vec<f64>> = set.pressure_sd_pa.iter().copied().collect();
+            let (sd, kind) = match given {
+                Some(sd) => (Some(sd), Weights::Absolute),
+                None => (noise.shape(set), Weights::Relative),
+            };
+            let readings = readings_of(set, sd.as_deref(), kind);
+            let n = set.len();
+            let own = match family {
+                VirialForm::Quadratic if n < VirialForm::Quadratic.parameters() + MIN_AUTO_DOF => None,
+                form => score_form(form, &readings).ok(),
+            };
+            let score = own.or_else(|| score_form(VirialForm::Linear, &readings).ok());
+            match score {
+                Some(score) => {
+                    f.rss += score.rss_reduced;
+                    f.points += n;
+                    f.parameters += score.form.parameters();
+                    f.forms.push(Some(score.form));
+                    f.estimates.push(Some((score.inverse_mn, score.a2)));
+                }
+                None => {
+                    f.forms.push(None);
+                    f.estimates.push(None);
+                }
+            }
+        }
+        f
+    });
+    let scored: Vec<(Option<f64>, &Family)> =
+        families.iter().map(|f| (aicc(f.rss, f.points, f.parameters), f)).collect();
+    let candidates = scored
+        .iter()
+        .map(|(a, f)| Candidate {
+            form: f.form,
+            aicc: *a,
+            excluded: a.is_none().then(|| "too few readings in the series for AICc".to_string()),
+        })
+        .collect();
+    let value = |form: VirialForm| scored.iter().find(|(_, f)| f.form == form).and_then(|(a, _)| *a);
+    let (linear, sqrt, quadratic) = (value(VirialForm::Linear), value(VirialForm::Sqrt), value(VirialForm::Quadratic));
+    let best_two = match (linear, sqrt) {
+        (Some(l), Some(s)) if s < l => Some((s, VirialForm::Sqrt)),
+        (Some(l), _) => Some((l, VirialForm::Linear)),
+        (None, Some(s)) => Some((s, VirialForm::Sqrt)),
+        (None, None) => None,
+    };
+    let (family, reason) = match (best_two, quadratic) {
+        (Some((s2, f2)), Some(sq)) if sq < s2 - QUADRATIC_AICC_MARGIN => (
+            VirialForm::Quadratic,
+            format!(
+                "series AICc {sq:.1} beats the {} family's {s2:.1} by more than {QUADRATIC_AICC_MARGIN}",
+                f2.name()
+            ),
+        ),
+        (Some((s2, f2)), _) => (f2, format!("lowest series AICc ({s2:.1}) over all readings")),
+        (None, _) => (VirialForm::Linear, "too few readings to compare forms; linear used".to_string()),
+    };
+    let best = scored.iter().filter_map(|(a, _)| *a).fold(f64::INFINITY, f64::min);
+    let akaike: Vec<(f64, &Family)> =
+        scored.iter().filter_map(|(a, f)| a.map(|a| ((-(a - best) / 2.0).exp(), *f))).collect();
+    let total: f64 = akaike.iter().map(|(w, _)| w).sum();
+    let chosen = families.iter().find(|f| f.form == family).expect("the chosen family was scored");
+    let choice_variance = (0..sets.len())
+        .map(|i| {
+            let Some((m0, a0)) = chosen.estimates[i] else { return (0.0, 0.0) };
+            akaike
+                .iter()
+                .filter_map(|(w, f)| f.estimates[i].map(|e| (w / total, e)))
+                .fold((0.0, 0.0), |(vm, va), (w, (m, a))| (vm + w * (m - m0).powi(2), va + w * (a - a0).powi(2)))
+        })
+        .collect();
+    let forms = chosen.forms.clone();
+    let reason = match family {
+        VirialForm::Sqrt => format!("{reason}: sqrt where A2 ≥ 0, linear at and below θ"),
+        _ => reason,
+    };
+    SeriesChoice { forms, reason, candidates, choice_variance }
 }
 
 /// t of A3 in a quadratic fit when it exceeds the two-sided 95 % point of Student's t;

@@ -65,3 +65,5 @@ pub fn simulate(truth: &VirialTruth, concentrations: &[f64], noise: Noise, rng: 
         })
         .collect()
 }
+
+pub mod study;
