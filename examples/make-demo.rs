@@ -16,6 +16,7 @@ use thetaseek::units::CELSIUS_OFFSET_K;
 
 struct Solvent {
     name: &'static str,
+    solvent: &'static str,
     theta_c: f64,
     psi1: f64,
     molar_volume_ml_per_mol: f64,
@@ -29,6 +30,7 @@ fn main() {
     let solvents = [
         Solvent {
             name: "PX-40 in mirane",
+            solvent: "mirane",
             theta_c: 34.5,
             psi1: 0.35,
             molar_volume_ml_per_mol: 105.0,
@@ -37,6 +39,7 @@ fn main() {
         },
         Solvent {
             name: "PX-40 in ostrol",
+            solvent: "ostrol",
             theta_c: 12.0,
             psi1: 0.6,
             molar_volume_ml_per_mol: 92.0,
@@ -51,7 +54,7 @@ fn main() {
          # Made by `cargo run --example make-demo` from the Flory-Krigbaum model with seeded noise.\n\
          # Truth: Mn = 185000 g/mol, v = 0.92 mL/g; mirane theta = 34.5 C, psi1 = 0.35, V1 = 105 mL/mol;\n\
          # ostrol theta = 12.0 C, psi1 = 0.60, V1 = 92 mL/mol. Noise sd = 0.3 Pa + 0.3 % of the reading.\n\
-         series,temperature (C),concentration (g/L),pressure (Pa),pressure sd (Pa)\n",
+         series,solvent,temperature (C),concentration (g/L),pressure (Pa),pressure sd (Pa)\n",
     );
     for s in &solvents {
         for &t_c in s.temperatures_c {
@@ -66,7 +69,7 @@ fn main() {
             );
             let truth = VirialTruth::with_good_solvent_curvature(t_k, MN_G_PER_MOL / 1000.0, a2);
             for (c, p, sd) in simulate(&truth, s.concentrations_g_per_l, noise, &mut rng) {
-                let _ = writeln!(csv, "{},{t_c:.1},{c:.2},{p:.2},{sd:.2}", s.name);
+                let _ = writeln!(csv, "{},{},{t_c:.1},{c:.2},{p:.2},{sd:.2}", s.name, s.solvent);
             }
         }
     }

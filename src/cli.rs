@@ -28,9 +28,23 @@ pub struct NextArgs {
     #[arg(required = true, value_name = "FILE")]
     pub files: Vec<PathBuf>,
 
-    /// Temperatures the instrument can hold, °C, as LOW:HIGH (default: the measured range ± 15 K).
-    #[arg(long = "thermostat", value_name = "LOW:HIGH", value_parser = parse_thermostat)]
+    /// Temperatures the instrument can hold, °C, as LOW:HIGH (default: the measured range ± 15 K
+    /// with --solvents, ± 5 K without).
+    #[arg(long = "thermostat", value_name = "LOW:HIGH", value_parser = parse_thermostat, allow_hyphen_values = true)]
     pub thermostat_k: Option<(f64, f64)>,
+
+    /// Solvent properties (CSV, as for plan): boiling and melting points keep runs inside the
+    /// liquid range, the molar volume gives ψ1 and the sample's critical temperature.
+    #[arg(long, value_name = "CSV")]
+    pub solvents: Option<PathBuf>,
+
+    /// Molar mass of the sample for its critical temperature, g/mol (default: the measured Mn).
+    #[arg(long, value_name = "G_PER_MOL", value_parser = parse_positive)]
+    pub molar_mass: Option<f64>,
+
+    /// Partial specific volume of the polymer v̄, mL/g (for ψ1 and the critical temperature).
+    #[arg(long, value_name = "ML_PER_G", value_parser = parse_positive)]
+    pub polymer_specific_volume: Option<f64>,
 
     /// Concentrations of a new run, g/L, comma separated (default: the set used most so far).
     #[arg(long, value_name = "G_PER_L,...", value_delimiter = ',', value_parser = parse_positive)]
@@ -121,7 +135,7 @@ pub struct PlanArgs {
     pub unperturbed_dimension: Option<f64>,
 
     /// Temperatures the instrument can hold, °C, as LOW:HIGH.
-    #[arg(long = "thermostat", value_name = "LOW:HIGH", value_parser = parse_thermostat)]
+    #[arg(long = "thermostat", value_name = "LOW:HIGH", value_parser = parse_thermostat, allow_hyphen_values = true)]
     pub thermostat_k: Option<(f64, f64)>,
 
     /// |A2| tolerance in mol mL/g² for the temperature stability.
@@ -285,6 +299,11 @@ pub struct AnalyzeArgs {
     /// Molar volume of the solvent V1 in mL/mol (for ψ1, κ1, χ).
     #[arg(long, value_name = "ML_PER_MOL", value_parser = parse_positive)]
     pub solvent_molar_volume: Option<f64>,
+
+    /// Solvent properties (CSV, as for plan): each series takes the molar volume of its own
+    /// solvent (matched by the `solvent` column, else by the series name); per-series columns win.
+    #[arg(long, value_name = "CSV")]
+    pub solvents: Option<PathBuf>,
 
     /// |A2| tolerance in mol mL/g² for the temperature-stability advice.
     #[arg(long, default_value_t = 1.0e-5, value_name = "MOL_ML_PER_G2", value_parser = parse_positive)]

@@ -10,6 +10,7 @@
 //! virial line), interpolated to T. θ = 1/(x̄ − α/β), its SE by the delta method, its interval by Fieller with
 //! n + k − 2 degrees of freedom.
 
+use crate::safety::{cautions, Exclusion, SafeWindow};
 use crate::theta::{InverseTemperatureLine, SeBasis, TemperaturePoint};
 use crate::uncertainty::{critical_value, fieller_zero, replicate_rng, FiellerSet};
 use crate::units::kelvin_to_celsius;
@@ -28,8 +29,9 @@ pub struct MeasuredTemperature {
 /// Settings of the search.
 #[derive(Debug, Clone, PartialEq)]
 pub struct DesignSettings {
-    /// Temperatures the instrument can hold, K.
-    pub thermostat: (f64, f64),
+    /// Where runs may be recommended: the thermostat's range narrowed by the solvent's liquid
+    /// range and the sample's critical temperature ([`SafeWindow`]).
+    pub window: SafeWindow,
     /// Grid step of candidate temperatures, K.
     pub step_k: f64,
     /// Concentrations of a new run, kg/m³ (`None`: the ones most used so far).
@@ -91,6 +93,14 @@ pub struct SeriesDesign {
     pub simulated_se_k: Option<f64>,
     /// What to do, in words.
     pub advice: Vec<String>,
+    /// The window the runs were chosen in, °C (null when nothing is left in it).
+    pub window_c: Option<[f64; 2]>,
+    /// The ranges left out of the thermostat's, and why.
+    pub excluded: Vec<Exclusion>,
+    /// What could not be checked.
+    pub unchecked: Vec<String>,
+    /// Safety cautions, always given.
+    pub cautions: Vec<String>,
 }
 
 /// A predicted (θ SE, Fieller width), K; `None` where not defined.
@@ -210,6 +220,11 @@ pub fn next_runs(name: &str, points: &[MeasuredTemperature], settings: &DesignSe
         candidates: Vec::new(),
         simulated_se_k: None,
         advice: Vec::new(),
+        window_c: (!settings.window.is_empty())
+            .then(|| [kelvin_to_celsius(settings.window.low_k), kelvin_to_celsius(settings.window.high_k)]),
+        excluded: settings.window.exclusions.clone(),
+        unchecked: settings.window.unchecked.clone(),
+        cautions: cautions(),
     };
     let Some(model) = Model::new(points, settings.confidence) else {
         design.advice.push("fewer than two temperatures with a standard error: measure at two temperatures on either side of the expected θ first".into());
@@ -236,10 +251,19 @@ pub fn next_runs(name: &str, points: &[MeasuredTemperature], settings: &DesignSe
         },
     };
     let grid: Vec<f64> = {
-        let (lo, hi) = settings.thermostat;
-        let steps = ((hi - lo) / settings.step_k.max(0.01)).floor() as usize;
-        (0..=steps.min(10_000)).map(|i| lo + settings.step_k * i as f64).collect()
+        let (lo, hi) = (settings.window.low_k, settings.window.high_k);
+        if settings.window.is_empty() {
+            Vec::new()
+        } else {
+            let steps = ((hi - lo) / settings.step_k.max(0.01)).floor() as usize;
+            (0..=steps.min(10_000)).map(|i| lo + settings.step_k * i as f64).collect()
+        }
     };
+    if grid.is_empty() {
+        design
+            .advice
+            .push("no temperature is left inside the safe window (see the exclusions): nothing is recommended".into());
+    }
     let score = |p: &Prediction| p.1.or(p.0.map(|se| 1e6 + se)).unwrap_or(f64::INFINITY);
     let mut candidates: Vec<(f64, Prediction)> =
         grid.iter().map(|&t| (t, model.predict(&[(t, weight(t))], 1.0))).collect();
@@ -253,7 +277,8 @@ pub fn next_runs(name: &str, points: &[MeasuredTemperature], settings: &DesignSe
     let mut added: Vec<(f64, f64)> = Vec::new();
     if let Some(theta) = theta_now.filter(|t| *t < t_min || *t > t_max) {
         let near = if theta < t_min { t_min } else { t_max };
-        let mirror = (theta + (theta - near)).clamp(settings.thermostat.0, settings.thermostat.1);
+        let mirror =
+            (theta + (theta - near)).clamp(settings.window.low_k, settings.window.high_k.max(settings.window.low_k));
         let bracket = grid.iter().copied().min_by(|a, b| (a - mirror).abs().total_cmp(&(b - mirror).abs()));
         if let Some(t) = bracket.filter(|t| (*t - theta).signum() != (near - theta).signum()) {
             added.push((t, weight(t)));
@@ -264,7 +289,7 @@ pub fn next_runs(name: &str, points: &[MeasuredTemperature], settings: &DesignSe
             ));
             design.recommended.push(run(t, model.predict(&added, 1.0)));
         } else {
-            design.advice.push("θ lies outside the measured temperatures and beyond the thermostat range: it cannot be bracketed with this instrument".into());
+            design.advice.push("θ lies outside the measured temperatures and beyond the safe window: it cannot be bracketed safely with this solvent and instrument".into());
         }
     }
     while design.recommended.len() < settings.budget {

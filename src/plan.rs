@@ -11,12 +11,8 @@ use crate::theta::{brent_root, Crossing, IntervalKind, Quantity, Sense};
 use crate::units::kelvin_to_celsius;
 use serde::Serialize;
 
-/// Keep the working temperature at least this far below the boiling point (common practice).
-pub const BOILING_MARGIN_K: f64 = 15.0;
-/// And at least this far above the melting point (common practice).
-pub const MELTING_MARGIN_K: f64 = 5.0;
-/// A margin to the critical temperature below this is a warning.
-pub const CRITICAL_MARGIN_K: f64 = 5.0;
+pub use crate::safety::{cautions, BOILING_MARGIN_K, CRITICAL_MARGIN_K, MELTING_MARGIN_K};
+use crate::safety::{SafeWindow, SeparatesOn};
 /// Dilute work: stay below c*/this (a rule of thumb, common practice).
 pub const OVERLAP_FRACTION: f64 = 5.0;
 
@@ -144,18 +140,6 @@ pub struct Plan {
     pub cautions: Vec<String>,
 }
 
-/// The cautions every plan carries: the study heats flammable, often toxic solvents.
-pub fn cautions() -> Vec<String> {
-    vec![
-        "Many solvents used near θ are flammable and some are toxic: prepare and heat solutions in a fume hood.".into(),
-        format!(
-            "Stay well below the boiling point (this plan keeps at least {BOILING_MARGIN_K:.0} K); never heat a closed cell near it."
-        ),
-        "Read the safety data sheet of every solvent and use the protective equipment it names.".into(),
-        "Follow your laboratory's and local rules; this tool does not replace a safety review by your lab's safety officer.".into(),
-    ]
-}
-
 impl PlanSeries {
     /// A2 (SI) as a function of T from the line; `k` converts 1/2 − χ to A2.
     fn a2(&self, t: f64, k: f64) -> Option<f64> {
@@ -187,11 +171,16 @@ pub fn plan(series: &[PlanSeries], solvents: &[SolventProperties], settings: &Pl
     let recommendation = candidates.first().filter(|c| c.suitable).map(|c| {
         let t = c.target_temperature_k.unwrap_or(f64::NAN);
         let half = c.required_stability_k.unwrap_or(0.0);
-        let (mut lo, mut hi) = (t - half, t + half);
-        if let Some((tl, th)) = settings.thermostat {
-            lo = lo.max(tl);
-            hi = hi.min(th);
+        // The window to hold stays inside the same safety window `next` applies.
+        let mut safe = SafeWindow::new(settings.thermostat.unwrap_or((t - half, t + half)));
+        if let Some(props) = solvents.iter().find(|p| p.name == c.solvent) {
+            safe.liquid_range(props);
         }
+        if let (Some(tc), Some(psi1)) = (c.critical_temperature_k, c.psi1) {
+            let side = if psi1 > 0.0 { SeparatesOn::Cooling } else { SeparatesOn::Heating };
+            safe.phase_separation(tc, side, &c.series);
+        }
+        let (lo, hi) = ((t - half).max(safe.low_k).min(t), (t + half).min(safe.high_k).max(t));
         let mut reasons = vec![format!("ranked first of {} solvent(s)", candidates.len())];
         reasons.extend(c.reasons.iter().cloned());
         Recommendation {
@@ -361,6 +350,9 @@ fn assess(s: &PlanSeries, props: &SolventProperties, settings: &PlanSettings) ->
                     kelvin_to_celsius(tc)
                 ));
             } else if margin < CRITICAL_MARGIN_K {
+                // θ is the goal's own temperature: for a very long chain Tc lies within a few
+                // kelvin of it and the study can only be done there, so this is a warning here,
+                // while `next` (free to choose) keeps out of this band.
                 c.warnings.push(format!(
                     "only {margin:.1} K from the critical temperature ({:.1} °C): near-critical fluctuations, aggregation, and a sample that may come out of solution",
                     kelvin_to_celsius(tc)

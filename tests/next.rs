@@ -68,7 +68,7 @@ fn measured(s: &Series) -> Vec<MeasuredTemperature> {
 
 fn settings(thermostat: (f64, f64), budget: usize) -> DesignSettings {
     DesignSettings {
-        thermostat,
+        window: thetaseek::safety::SafeWindow::new(thermostat),
         step_k: 1.0,
         concentrations: None,
         replicates: 1,
@@ -209,4 +209,166 @@ fn a_report_from_analyze_gives_the_same_advice_as_its_data() {
         let (p, q) = (x["current"]["ci_width_k"].as_f64().unwrap(), y["current"]["ci_width_k"].as_f64().unwrap());
         assert!((p - q).abs() < 1e-9 * p, "{p} vs {q}");
     }
+}
+
+// ---- The safety window (issue #23) ----
+
+use proptest::prelude::*;
+use thetaseek::input::SolventProperties;
+use thetaseek::safety::{SafeWindow, SeparatesOn};
+
+proptest! {
+    #![proptest_config(common::proptest_config(64))]
+
+    /// Whatever the data, the thermostat, the solvent's liquid range and the sample's critical
+    /// temperature, `next` never recommends (nor lists) a temperature outside the window.
+    #[test]
+    fn next_never_recommends_a_temperature_outside_the_safe_window(
+        thermostat_low in 230.0f64..330.0,
+        thermostat_width in 0.0f64..120.0,
+        boiling in proptest::option::of(280.0f64..420.0),
+        melting in proptest::option::of(180.0f64..300.0),
+        critical in proptest::option::of((250.0f64..340.0, proptest::bool::ANY)),
+        theta in 260.0f64..340.0,
+        temps in proptest::collection::vec(250.0f64..350.0, 2..7),
+        budget in 1usize..4,
+    ) {
+        let mut window = SafeWindow::new((thermostat_low, thermostat_low + thermostat_width));
+        window.liquid_range(&SolventProperties {
+            name: "s".into(),
+            boiling_point_k: boiling,
+            melting_point_k: melting,
+            ..SolventProperties::default()
+        });
+        if let Some((tc, ucst)) = critical {
+            window.phase_separation(tc, if ucst { SeparatesOn::Cooling } else { SeparatesOn::Heating }, "s");
+        }
+        let (low, high) = (window.low_k, window.high_k);
+        let measured: Vec<MeasuredTemperature> = temps
+            .iter()
+            .map(|&t| MeasuredTemperature {
+                point: TemperaturePoint {
+                    temperature_k: t,
+                    value: flory_krigbaum_a2(t, theta, 0.4, 0.9e-3, 100e-6),
+                    se: Some(1e-5),
+                },
+                concentrations: C.to_vec(),
+            })
+            .collect();
+        let mut st = settings((low, high), budget);
+        st.window = window;
+        let d = next_runs("s", &measured, &st);
+        for r in d.recommended.iter().chain(&d.candidates) {
+            let t = r.temperature_c + 273.15;
+            prop_assert!(low - 1e-9 <= t && t <= high + 1e-9, "{t} K outside {low}–{high} K");
+        }
+        if low > high {
+            prop_assert!(d.recommended.is_empty() && d.window_c.is_none());
+        }
+        prop_assert!(d.cautions.iter().any(|c| c.contains("fume hood")));
+    }
+}
+
+fn demo(file: &str) -> std::path::PathBuf {
+    std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("data").join(file)
+}
+
+fn next_report(extra: &[&str]) -> serde_json::Value {
+    let out = thetaseek()
+        .arg("next")
+        .arg(demo("px40-osmometry.csv"))
+        .args(["--simulations", "0", "--report", "-"])
+        .args(extra)
+        .assert()
+        .success()
+        .get_output()
+        .clone();
+    // The cautions reach the terminal too (stderr, as the report takes stdout).
+    assert!(String::from_utf8_lossy(&out.stderr).contains("fume hood"));
+    serde_json::from_slice(&out.stdout).unwrap()
+}
+
+fn ostrol(report: &serde_json::Value) -> &serde_json::Value {
+    report["series"].as_array().unwrap().iter().find(|s| s["name"] == "PX-40 in ostrol").unwrap()
+}
+
+#[test]
+fn ostrol_is_never_sent_above_its_boiling_point_nor_below_its_critical_temperature() {
+    // Issue #23: with --thermostat 20:80 `next` recommended 80 °C for ostrol, which boils at
+    // 61 °C (the invented solvents table); with the default range, −10 °C, below the sample's
+    // Shultz–Flory critical temperature in ostrol (1.6 °C).
+    let solvents = demo("px40-solvents.csv");
+    for thermostat in [&["--thermostat", "20:80"][..], &[]] {
+        let mut args = vec!["--solvents", solvents.to_str().unwrap(), "--polymer-specific-volume", "0.92"];
+        args.extend(thermostat);
+        let report = next_report(&args);
+        let s = ostrol(&report);
+        let [lo, hi] = [s["window_c"][0].as_f64().unwrap(), s["window_c"][1].as_f64().unwrap()];
+        assert!(hi <= 61.0 - 15.0 + 1e-9, "window up to {hi} °C");
+        assert!(lo >= 1.6 + 5.0 - 0.1, "window from {lo} °C");
+        for r in s["recommended"].as_array().unwrap().iter().chain(s["candidates"].as_array().unwrap()) {
+            let t = r["temperature_c"].as_f64().unwrap();
+            assert!(lo - 1e-9 <= t && t <= hi + 1e-9, "{t} °C");
+        }
+        let reasons: Vec<&str> =
+            s["excluded"].as_array().unwrap().iter().map(|e| e["reason"].as_str().unwrap()).collect();
+        assert!(reasons.iter().any(|r| r.contains("boiling point")), "{reasons:?}");
+        assert!(reasons.iter().any(|r| r.contains("critical temperature")), "{reasons:?}");
+        assert!(s["cautions"].as_array().unwrap().iter().any(|c| c.as_str().unwrap().contains("safety data sheet")));
+    }
+}
+
+#[test]
+fn without_a_solvents_table_next_says_what_it_could_not_check_and_stays_near_the_data() {
+    let report = next_report(&[]);
+    let s = ostrol(&report);
+    let unchecked = s["unchecked"].as_array().unwrap();
+    assert!(unchecked.iter().any(|u| u.as_str().unwrap().contains("boiling point")), "{unchecked:?}");
+    // Ostrol was measured at 5–40 °C: runs stay within 5 K of that.
+    for r in s["recommended"].as_array().unwrap() {
+        let t = r["temperature_c"].as_f64().unwrap();
+        assert!((0.0 - 1e-9..=45.0 + 1e-9).contains(&t), "{t} °C");
+    }
+}
+
+#[test]
+fn every_output_of_next_carries_the_cautions_even_when_quiet() {
+    let dir = tempfile::tempdir().unwrap();
+    let figure = dir.path().join("next.svg");
+    let out = thetaseek()
+        .arg("next")
+        .arg(demo("px40-osmometry.csv"))
+        .args(["--simulations", "0", "-q", "--figure"])
+        .arg(&figure)
+        .assert()
+        .success()
+        .get_output()
+        .clone();
+    assert!(out.stdout.is_empty());
+    let stderr = String::from_utf8_lossy(&out.stderr);
+    assert!(stderr.contains("Safety cautions") && stderr.contains("fume hood") && stderr.contains("safety officer"));
+    let svg = std::fs::read_to_string(&figure).unwrap();
+    assert!(svg.contains("fume hood") && svg.contains("safety data sheet"), "the figure carries the cautions");
+    let terminal =
+        thetaseek().arg("next").arg(demo("px40-osmometry.csv")).args(["--simulations", "0"]).assert().success();
+    let text = String::from_utf8_lossy(&terminal.get_output().stdout).to_string();
+    assert!(text.contains("Safety cautions") && text.contains("not checked"), "{text}");
+}
+
+#[test]
+fn negative_thermostat_temperatures_parse_as_typed() {
+    for range in ["-20:80", "-20:-5"] {
+        let report = next_report(&["--thermostat", range]);
+        let s = ostrol(&report);
+        let lo = s["window_c"][0].as_f64().unwrap();
+        assert!((lo + 20.0).abs() < 1e-9, "{range}: window from {lo} °C");
+    }
+    thetaseek()
+        .arg("plan")
+        .arg(demo("px40-osmometry.csv"))
+        .arg("--solvents")
+        .arg(demo("px40-solvents.csv"))
+        .args(["--molar-mass", "2e5", "--thermostat", "-20:80", "-q"])
+        .assert()
+        .success();
 }

@@ -183,7 +183,7 @@ fn a_report_from_analyze_plans_like_the_data_it_came_from() {
     };
     let (from_report, from_data) = (plan(&report), plan(&demo));
     assert_eq!(from_report["recommendation"], from_data["recommendation"]);
-    assert_eq!(from_report["recommendation"]["solvent"], "PX-40 in mirane");
+    assert_eq!(from_report["recommendation"]["solvent"], "mirane");
 }
 
 #[test]
@@ -217,4 +217,81 @@ fn bad_plan_inputs_are_refused_and_nothing_is_written() {
     assert!(String::from_utf8_lossy(&a.get_output().stderr).contains("not a positive number"));
     run(&["--molar-mass", "1e5", "--goal", "expanded"], &full).code(2);
     assert!(!out.exists());
+}
+
+// ---- Solvent properties follow the solvent (issue #23) ----
+
+fn analyze_report(extra: &[&str]) -> Value {
+    let root = Path::new(env!("CARGO_MANIFEST_DIR"));
+    let out = thetaseek()
+        .current_dir(root)
+        .args(["analyze", "data/px40-osmometry.csv", "--report", "-", "-q"])
+        .args(extra)
+        .assert()
+        .success()
+        .get_output()
+        .stdout
+        .clone();
+    serde_json::from_slice(&out).unwrap()
+}
+
+#[test]
+fn the_readmes_demo_command_gives_each_series_the_psi1_of_its_own_solvent() {
+    // The README's first command. Truth from the invented demo's header: ψ1 = 0.35 in mirane
+    // (V1 = 105 mL/mol) and 0.60 in ostrol (V1 = 92 mL/mol). Within 2 SE (a 95 % statement: a
+    // 1-SE bound would fail one honest run in three).
+    let report = analyze_report(&["--polymer-specific-volume", "0.92", "--solvents", "data/px40-solvents.csv"]);
+    for (name, truth) in [("PX-40 in mirane", 0.35), ("PX-40 in ostrol", 0.60)] {
+        let s = report["series"].as_array().unwrap().iter().find(|s| s["name"] == name).unwrap();
+        let flory = &s["theta"]["flory"];
+        let (psi1, se) = (flory["psi1"].as_f64().unwrap(), flory["psi1_se"].as_f64().unwrap());
+        assert!((psi1 - truth).abs() < 2.0 * se, "{name}: ψ1 {psi1} ± {se}, truth {truth}");
+    }
+    assert!(report["warnings"].as_array().unwrap().is_empty(), "{:?}", report["warnings"]);
+    assert!(report["inputs"].as_array().unwrap().iter().any(|i| i["path"] == "data/px40-solvents.csv"));
+}
+
+#[test]
+fn one_molar_volume_for_series_in_different_solvents_is_a_warning() {
+    // The README's command before issue #23: one V1 for mirane and ostrol gave ostrol
+    // ψ1 ≈ 0.72 (truth 0.60), silently.
+    let report = analyze_report(&["--polymer-specific-volume", "0.92", "--solvent-molar-volume", "105"]);
+    let warnings = report["warnings"].as_array().unwrap();
+    assert!(
+        warnings.iter().any(|w| w.as_str().unwrap().contains("2 different solvents (mirane, ostrol)")),
+        "{warnings:?}"
+    );
+    // With the table as well, the table's V1 wins for each series and the difference is said.
+    let both = analyze_report(&[
+        "--polymer-specific-volume",
+        "0.92",
+        "--solvent-molar-volume",
+        "105",
+        "--solvents",
+        "data/px40-solvents.csv",
+    ]);
+    let w: Vec<&str> = both["warnings"].as_array().unwrap().iter().map(|w| w.as_str().unwrap()).collect();
+    assert!(w.iter().any(|w| w.contains("PX-40 in ostrol") && w.contains("92.0000 mL/mol")), "{w:?}");
+    assert!(!w.iter().any(|w| w.contains("different solvents")), "{w:?}");
+}
+
+#[test]
+fn analyze_and_plan_report_the_same_psi1_for_the_same_series() {
+    let report = analyze_report(&["--polymer-specific-volume", "0.92", "--solvents", "data/px40-solvents.csv"]);
+    let root = Path::new(env!("CARGO_MANIFEST_DIR"));
+    let out = thetaseek()
+        .current_dir(root)
+        .args(["plan", "data/px40-osmometry.csv", "--solvents", "data/px40-solvents.csv"])
+        .args(["--molar-mass", "2e5", "--polymer-specific-volume", "0.92", "--report", "-", "-q"])
+        .assert()
+        .success()
+        .get_output()
+        .stdout
+        .clone();
+    let plan: Value = serde_json::from_slice(&out).unwrap();
+    for c in plan["candidates"].as_array().unwrap() {
+        let s = report["series"].as_array().unwrap().iter().find(|s| s["name"] == c["series"]).unwrap();
+        let (a, b) = (c["psi1"].as_f64().unwrap(), s["theta"]["flory"]["psi1"].as_f64().unwrap());
+        assert!((a - b).abs() <= 1e-12 * a.abs(), "{}: plan {a}, analyze {b}", c["series"]);
+    }
 }

@@ -39,9 +39,10 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
         ..ReportSettings::new(&format!("{:?}", args.read.virial).to_lowercase())
     };
     let figures_wanted = args.figures.is_some() || args.html.is_some();
+    let table = read_solvent_table(args)?;
     // One large osmometry file is analysed as it is read (see `campaign::stream`).
-    let loaded = if args.files.len() == 1 && !figures_wanted {
-        match super::campaign::stream(args, &options, &settings, report_settings)? {
+    let mut loaded = if args.files.len() == 1 && !figures_wanted {
+        match super::campaign::stream(args, &options, &settings, report_settings, table.as_ref())? {
             Streamed::Done => return Ok(()),
             Streamed::Loaded(loaded) => loaded,
             Streamed::Reread => load(&args.files, &options, args.read.max_input_mb)?,
@@ -49,6 +50,7 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
     } else {
         load(&args.files, &options, args.read.max_input_mb)?
     };
+    attach_solvent_volumes(&mut loaded, table.as_ref(), args);
     let series_count = loaded.dataset.series.len()
         + loaded.dataset.tabulated.len()
         + names_in_order(loaded.critical.iter().map(|r| r.series.as_str())).len()
@@ -101,7 +103,7 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
         outputs.push(PendingOutput::bytes(Destination::parse(path), report::series_table_csv(&report, filter)));
     }
     super::check_one_stdout(outputs.iter().map(|o| &o.destination))?;
-    check_outputs(&outputs, &args.files)?;
+    check_outputs(&outputs, &input_paths(args))?;
     // The figures folder is made only once every check has passed.
     if let Some(dir) = &args.figures {
         std::fs::create_dir_all(dir).map_err(|source| Error::Io {
@@ -116,6 +118,55 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
         super::print_terminal(&report, stdout_taken);
     }
     Ok(())
+}
+
+/// Every file the run reads (none may be an output).
+pub(crate) fn input_paths(args: &AnalyzeArgs) -> Vec<std::path::PathBuf> {
+    args.files.iter().chain(&args.solvents).cloned().collect()
+}
+
+/// A solvents table given to analyze, read once, with its hash for the report's inputs.
+pub(crate) struct SolventTable {
+    /// Its rows.
+    pub rows: Vec<thetaseek::input::SolventProperties>,
+    /// Its name and SHA-256.
+    pub input: report::InputFile,
+}
+
+fn read_solvent_table(args: &AnalyzeArgs) -> Result<Option<SolventTable>, Error> {
+    let Some(path) = &args.solvents else { return Ok(None) };
+    let name = path.display().to_string();
+    let bytes = super::read_input(path, args.read.max_input_mb)?;
+    let rows = thetaseek::input::read_solvents(&name, &bytes)?;
+    Ok(Some(SolventTable { rows, input: report::InputFile::new(&name, &bytes) }))
+}
+
+/// Gives each series its own solvent's molar volume from the table (columns win), and warns
+/// where one `--solvent-molar-volume` still covers series that name different solvents.
+fn attach_solvent_volumes(loaded: &mut Loaded, table: Option<&SolventTable>, args: &AnalyzeArgs) {
+    let solvent_of = |name: &str| loaded.dataset.solvents.iter().find(|(s, _)| s == name).map(|(_, v)| v.clone());
+    let solvents: Vec<Option<String>> = loaded.dataset.series.iter().map(|s| solvent_of(&s.name)).collect();
+    let flag = args.solvent_molar_volume.map(|v| v * 1e-6);
+    if let Some(table) = table {
+        if !loaded.inputs.iter().any(|i| i.path == table.input.path) {
+            loaded.inputs.push(table.input.clone());
+        }
+        let v = args.polymer_specific_volume.map(|v| v * 1e-3);
+        for (series, solvent) in loaded.dataset.series.iter_mut().zip(&solvents) {
+            let warning = thetaseek::solvent::attach_molar_volume(series, solvent.as_deref(), &table.rows, v, flag);
+            loaded.warnings.extend(warning);
+        }
+    }
+    // Series the flag still covers: no volumes of their own, none from the table.
+    let covered: Vec<&str> = loaded
+        .dataset
+        .series
+        .iter()
+        .zip(&solvents)
+        .filter(|(s, _)| s.volumes.is_none())
+        .filter_map(|(_, solvent)| solvent.as_deref())
+        .collect();
+    loaded.warnings.extend(thetaseek::solvent::one_volume_for_several_solvents(flag, &covered));
 }
 
 /// The report's detail: figures and HTML need the readings; otherwise `auto` follows the
@@ -145,9 +196,11 @@ fn settings(args: &AnalyzeArgs) -> Result<Settings, Error> {
         // mL/g → m³/kg and mL/mol → m³/mol.
         (Some(v), Some(m)) => Some(Volumes { specific_volume: v * 1e-3, molar_volume: m * 1e-6 }),
         (None, None) => None,
+        // The solvents table gives each series its V1; v̄ is the polymer's.
+        (Some(_), None) if args.solvents.is_some() => None,
         _ => {
             return Err(Error::Setting(
-                "give both --polymer-specific-volume and --solvent-molar-volume, or neither".into(),
+                "give both --polymer-specific-volume and --solvent-molar-volume (or --solvents with the molar volumes), or neither".into(),
             ))
         }
     };

@@ -297,7 +297,7 @@ fn check_outputs(args: &AnalyzeArgs) -> Result<(), Error> {
     let destinations: Vec<Destination> =
         [&args.report, &args.table, &args.series_table].into_iter().flatten().map(|p| Destination::parse(p)).collect();
     super::check_one_stdout(&destinations)?;
-    super::check_destinations(&destinations, &args.files)
+    super::check_destinations(&destinations, &super::analyze::input_paths(args))
 }
 
 /// Runs `analyze` on a campaign already read.
@@ -373,6 +373,7 @@ pub fn stream(
     options: &ReadOptions,
     settings: &Settings,
     report_settings: impl Fn(usize) -> ReportSettings,
+    table: Option<&super::analyze::SolventTable>,
 ) -> Result<Streamed, Error> {
     let path = &args.files[0];
     let name = path.display().to_string();
@@ -413,10 +414,17 @@ pub fn stream(
         ready.extend(finished.into_iter().map(|mut s| {
             s.volumes = reader.volumes_of(&s.name);
             let solvent = reader.solvent_of(&s.name).map(str::to_string);
+            if let Some(table) = table {
+                // Per-series notes of a streamed campaign are not kept (its opening is written).
+                let v = args.polymer_specific_volume.map(|v| v * 1e-3);
+                let flag = args.solvent_molar_volume.map(|v| v * 1e-6);
+                let _ = thetaseek::solvent::attach_molar_volume(&mut s, solvent.as_deref(), &table.rows, v, flag);
+            }
             (s, solvent)
         }));
         if campaign.is_none() && ready.len() > report::CAMPAIGN_SERIES {
-            campaign = Some(open_streamed(args, settings, &report_settings(ready.len()), &placeholder, &run_warnings)?);
+            campaign =
+                Some(open_streamed(args, settings, &report_settings(ready.len()), &placeholder, table, &run_warnings)?);
         }
         if !more {
             break;
@@ -460,17 +468,13 @@ fn open_streamed<'a>(
     settings: &'a Settings,
     report_settings: &ReportSettings,
     placeholder: &InputFile,
+    table: Option<&super::analyze::SolventTable>,
     run_warnings: &[String],
 ) -> Result<(Campaign<'a>, Option<u64>), Error> {
     check_outputs(args)?;
-    let campaign = Campaign::open(
-        args,
-        settings,
-        std::slice::from_ref(placeholder),
-        report_settings,
-        run_warnings,
-        HashSet::new(),
-    )?;
+    let mut inputs = vec![placeholder.clone()];
+    inputs.extend(table.map(|t| t.input.clone()));
+    let campaign = Campaign::open(args, settings, &inputs, report_settings, run_warnings, HashSet::new())?;
     let digest_at = campaign.json.as_ref().map(|(sink, _)| {
         let key = format!("\"sha256\":\"{}\"", placeholder.sha256);
         let at = sink.held.windows(key.len()).position(|w| w == key.as_bytes()).expect("the opening names the input");

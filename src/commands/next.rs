@@ -6,8 +6,10 @@ use std::fmt::Write;
 use thetaseek::analysis::{self, Settings};
 use thetaseek::design::{next_runs, DesignSettings, MeasuredTemperature, SeriesDesign};
 use thetaseek::error::{Error, InputError};
+use thetaseek::input;
 use thetaseek::output::Destination;
 use thetaseek::report::{self, InputFile};
+use thetaseek::safety::{critical_of, SafeWindow};
 use thetaseek::theta::{a2_points, TemperaturePoint, ThetaSettings};
 use thetaseek::units::kelvin_to_celsius;
 
@@ -20,6 +22,25 @@ struct NextReport {
     series: Vec<SeriesDesign>,
 }
 
+/// Without a solvents table, runs stay within this far of the measured temperatures: boiling
+/// and phase separation could not be checked.
+const UNCHECKED_MARGIN_K: f64 = 5.0;
+/// With one, the default thermostat range reaches this far beyond the measured temperatures.
+const CHECKED_MARGIN_K: f64 = 15.0;
+
+/// One series to plan runs for, with what the safety window needs (SI).
+struct Planned {
+    name: String,
+    solvent: String,
+    measured: Vec<MeasuredTemperature>,
+    /// The Flory–Krigbaum line's a and b (A2 = a + b/T), for θ and ψ1.
+    line: Option<(f64, f64)>,
+    /// Mean Mn, kg/mol.
+    mn: Option<f64>,
+    /// v̄ given with the series, m³/kg.
+    specific_volume: Option<f64>,
+}
+
 /// Runs the subcommand.
 pub fn run(args: &NextArgs) -> Result<(), Error> {
     let options = super::analyze::read_options(&args.read)?;
@@ -28,13 +49,13 @@ pub fn run(args: &NextArgs) -> Result<(), Error> {
     let (reports, data): (Vec<_>, Vec<_>) =
         args.files.iter().cloned().partition(|p| p.extension().is_some_and(|e| e.eq_ignore_ascii_case("json")));
     let mut inputs = Vec::new();
-    let mut measured_series: Vec<(String, Vec<MeasuredTemperature>)> = Vec::new();
+    let mut planned: Vec<Planned> = Vec::new();
     for path in &reports {
         let bytes = super::read_input(path, args.read.max_input_mb)?;
         let name = path.display().to_string();
         let value: serde_json::Value = serde_json::from_slice(&bytes)
             .map_err(|e| InputError::at(&name, e.line(), None, None, format!("not a JSON report: {e}")))?;
-        measured_series.extend(from_report_json(&value).map_err(|e| InputError::file(&name, e))?);
+        planned.extend(from_report_json(&value).map_err(|e| InputError::file(&name, e))?);
         inputs.push(InputFile::new(&name, &bytes));
     }
     if !data.is_empty() {
@@ -56,17 +77,36 @@ pub fn run(args: &NextArgs) -> Result<(), Error> {
                     Some(MeasuredTemperature { point, concentrations: set.concentration_kg_per_m3.clone() })
                 })
                 .collect();
-            measured_series.push((series.name.clone(), measured));
+            let theta = result.theta.as_ref();
+            planned.push(Planned {
+                name: series.name.clone(),
+                solvent: dataset
+                    .solvents
+                    .iter()
+                    .find(|(s, _)| *s == series.name)
+                    .map_or_else(|| series.name.clone(), |(_, v)| v.clone()),
+                measured,
+                line: theta.and_then(|t| t.line.as_ref()).map(|l| (l.a(), l.b())),
+                mn: theta.and_then(|t| t.mn_consistency.as_ref()).map(|m| m.mean_kg_per_mol),
+                specific_volume: series.volumes.map(|v| v.specific_volume),
+            });
         }
     }
+    let solvents = match &args.solvents {
+        Some(path) => {
+            let name = path.display().to_string();
+            let bytes = super::read_input(path, args.read.max_input_mb)?;
+            let table = input::read_solvents(&name, &bytes)?;
+            inputs.push(InputFile::new(&name, &bytes));
+            Some(table)
+        }
+        None => None,
+    };
     let mut designs = Vec::new();
-    for (name, measured) in &measured_series {
-        let (t_lo, t_hi) = measured.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), m| {
-            (a.min(m.point.temperature_k), b.max(m.point.temperature_k))
-        });
-        let thermostat = args.thermostat_k.unwrap_or((t_lo - 15.0, t_hi + 15.0));
+    for p in &planned {
+        let window = safe_window(p, args, solvents.as_deref());
         let design_settings = DesignSettings {
-            thermostat,
+            window,
             step_k: args.step,
             // g/L = kg/m³.
             concentrations: args.concentrations.clone(),
@@ -76,7 +116,7 @@ pub fn run(args: &NextArgs) -> Result<(), Error> {
             simulations: args.simulations,
             seed: args.seed,
         };
-        designs.push(next_runs(name, measured, &design_settings));
+        designs.push(next_runs(&p.name, &p.measured, &design_settings));
     }
     if designs.is_empty() {
         return Err(Error::NothingAnalysed("no osmometry series to plan from".into()));
@@ -93,14 +133,19 @@ pub fn run(args: &NextArgs) -> Result<(), Error> {
         outputs.push(PendingOutput::bytes(Destination::parse(path), report::to_json(&next)));
     }
     if let Some(path) = &args.figure {
-        let svg = thetaseek::plot::render_svg(900, 560, |root| thetaseek::plot::draw_next(root, &next.series))
+        let svg = thetaseek::plot::render_svg(900, 600, |root| thetaseek::plot::draw_next(root, &next.series))
             .map_err(|e| Error::Setting(e.to_string()))?;
         outputs.push(PendingOutput::bytes(Destination::File(path.clone()), svg.into_bytes()));
     }
-    check_outputs(&outputs, &args.files)?;
+    let mut all_inputs = args.files.clone();
+    all_inputs.extend(args.solvents.clone());
+    check_outputs(&outputs, &all_inputs)?;
     let stdout_taken = outputs.iter().any(|o| o.destination == Destination::Stdout);
     write_outputs(outputs)?;
-    if !args.quiet {
+    if args.quiet {
+        // The cautions are shown even then, on stderr.
+        eprint!("{}", report::plan::render_cautions(&thetaseek::safety::cautions()));
+    } else {
         let text = render(&next.series);
         if stdout_taken {
             eprint!("{text}");
@@ -111,9 +156,49 @@ pub fn run(args: &NextArgs) -> Result<(), Error> {
     Ok(())
 }
 
+/// The window runs may be recommended in: the thermostat's range (given, or the measured one
+/// widened by 15 K with a solvents table and 5 K without), the solvent's liquid range, and the
+/// sample's critical temperature where ψ1 can be had.
+fn safe_window(p: &Planned, args: &NextArgs, solvents: Option<&[input::SolventProperties]>) -> SafeWindow {
+    let (t_lo, t_hi) = p.measured.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), m| {
+        (a.min(m.point.temperature_k), b.max(m.point.temperature_k))
+    });
+    let margin = if solvents.is_some() { CHECKED_MARGIN_K } else { UNCHECKED_MARGIN_K };
+    let mut window = SafeWindow::new(args.thermostat_k.unwrap_or((t_lo - margin, t_hi + margin)));
+    let props = solvents.and_then(|table| table.iter().find(|s| s.name == p.solvent));
+    match (solvents, props) {
+        (None, _) => window.unchecked.push(format!(
+            "no solvents table (--solvents): the boiling point, the melting point and phase separation of the sample were not checked; runs are kept within {UNCHECKED_MARGIN_K:.0} K of the measured temperatures unless --thermostat says otherwise"
+        )),
+        (Some(_), None) => window.unchecked.push(format!(
+            "solvent '{}' has no row in the solvents table: its liquid range and the sample's phase separation were not checked",
+            p.solvent
+        )),
+        (Some(_), Some(props)) => window.liquid_range(props),
+    }
+    let molar_mass = args.molar_mass.map(|m| m * 1e-3).or(p.mn);
+    let specific_volume = p.specific_volume.or(args.polymer_specific_volume.map(|v| v * 1e-3));
+    match (p.line, molar_mass, specific_volume, props.and_then(|s| s.molar_volume)) {
+        (Some((a, b)), Some(m), Some(v), Some(v1)) => match critical_of(a, b, m, v, v1) {
+            Some((tc, side)) => window.phase_separation(tc, side, &p.name),
+            None => window
+                .unchecked
+                .push("the sample's critical temperature could not be computed from its θ and ψ1".into()),
+        },
+        (_, _, None, _) if props.is_some() => window.unchecked.push(
+            "phase separation: give --polymer-specific-volume (v̄) for ψ1 and the sample's critical temperature".into(),
+        ),
+        (_, _, _, None) if props.is_some() => window
+            .unchecked
+            .push(format!("phase separation: the solvents table gives no molar volume for '{}'", p.solvent)),
+        _ => {}
+    }
+    window
+}
+
 /// The measured temperatures of every series in a report that analyze wrote: the A2 values and
 /// SEs the θ fit used (`theta.points`) with the concentrations of each fit.
-fn from_report_json(report: &serde_json::Value) -> Result<Vec<(String, Vec<MeasuredTemperature>)>, String> {
+fn from_report_json(report: &serde_json::Value) -> Result<Vec<Planned>, String> {
     let series = report
         .get("series")
         .and_then(|s| s.as_array())
@@ -147,7 +232,19 @@ fn from_report_json(report: &serde_json::Value) -> Result<Vec<(String, Vec<Measu
                 concentrations,
             });
         }
-        out.push((name, measured));
+        // A2 in mol mL/g² is numerically SI (mol m³/kg²); Mn g/mol → kg/mol.
+        let line = match (s.pointer("/theta/line/a"), s.pointer("/theta/line/b_k"), s.pointer("/theta/line/quantity")) {
+            (Some(a), Some(b), Some(q)) if q == "second_virial" => a.as_f64().zip(b.as_f64()),
+            _ => None,
+        };
+        out.push(Planned {
+            solvent: s.get("solvent").and_then(|v| v.as_str()).map_or_else(|| name.clone(), str::to_string),
+            name,
+            measured,
+            line,
+            mn: s.pointer("/theta/mn_consistency/mean_mn_g_per_mol").and_then(|v| v.as_f64()).map(|m| m * 1e-3),
+            specific_volume: None,
+        });
     }
     Ok(out)
 }
@@ -178,6 +275,26 @@ fn render(designs: &[SeriesDesign]) -> String {
                 r.predicted_ci_width_k.map_or("unbounded".into(), |v| format!("{v:.2}"))
             );
         }
+        match d.window_c {
+            Some([lo, hi]) => {
+                let _ = writeln!(out, "  runs chosen between {lo:.1} and {hi:.1} °C");
+            }
+            None => {
+                let _ = writeln!(out, "  no temperature is left inside the safe window");
+            }
+        }
+        for e in &d.excluded {
+            let range = match (e.from_c, e.to_c) {
+                (Some(f), None) => format!("above {f:.1} °C"),
+                (None, Some(t)) => format!("below {t:.1} °C"),
+                (Some(f), Some(t)) => format!("{f:.1}–{t:.1} °C"),
+                (None, None) => "everything".into(),
+            };
+            let _ = writeln!(out, "  excluded {range}: {}", e.reason);
+        }
+        for u in &d.unchecked {
+            let _ = writeln!(out, "  not checked: {u}");
+        }
         if let (Some(sim), Some(last)) = (d.simulated_se_k, d.recommended.last().and_then(|r| r.predicted_se_k)) {
             let _ = writeln!(out, "  check: predicted SE {last:.2} K, simulated {sim:.2} K");
         }
@@ -196,5 +313,6 @@ fn render(designs: &[SeriesDesign]) -> String {
         }
         out.push('\n');
     }
+    out.push_str(&report::plan::render_cautions(&thetaseek::safety::cautions()));
     out
 }

@@ -91,7 +91,7 @@ pub fn run(args: &PlanArgs) -> Result<(), Error> {
     let text = report::plan::render_terminal(&plan_report.plan);
     if stdout_taken || args.quiet {
         // The cautions are shown even then, on stderr.
-        eprint!("{}", if args.quiet { report::plan::render_cautions(&plan_report.plan) } else { text });
+        eprint!("{}", if args.quiet { report::plan::render_cautions(&plan_report.plan.cautions) } else { text });
     } else {
         print!("{text}");
     }

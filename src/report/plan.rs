@@ -78,9 +78,9 @@ impl PlanReport {
 }
 
 /// The safety block, as printed at the end of every plan.
-pub fn render_cautions(plan: &Plan) -> String {
+pub fn render_cautions(cautions: &[String]) -> String {
     let mut out = String::from("Safety cautions\n");
-    for c in &plan.cautions {
+    for c in cautions {
         let _ = writeln!(out, "  - {c}");
     }
     out
@@ -132,6 +132,6 @@ pub fn render_terminal(plan: &Plan) -> String {
         }
     }
     out.push('\n');
-    out.push_str(&render_cautions(plan));
+    out.push_str(&render_cautions(&plan.cautions));
     out
 }
