@@ -295,3 +295,64 @@ fn analyze_and_plan_report_the_same_psi1_for_the_same_series() {
         assert!((a - b).abs() <= 1e-12 * a.abs(), "{}: plan {a}, analyze {b}", c["series"]);
     }
 }
+
+#[test]
+fn head_readings_take_each_solvents_density_from_the_table() {
+    // The demo's readings as heads of solvent, h = Π/(ρ g), with ρ from the invented solvents
+    // table (0.86 and 0.91 g/mL) and g = 9.80665 m/s² (standard gravity, SI brochure): analyzed
+    // with --solvents they must give the pressures' θ back.
+    let root = Path::new(env!("CARGO_MANIFEST_DIR"));
+    let demo = std::fs::read_to_string(root.join("data/px40-osmometry.csv")).unwrap();
+    let mut heads = String::from("series,solvent,temperature (C),concentration (g/L),head (cm),pressure sd (Pa)\n");
+    for line in demo.lines().filter(|l| !l.starts_with('#')).skip(1) {
+        let f: Vec<&str> = line.split(',').collect();
+        let rho = if f[1] == "mirane" { 860.0 } else { 910.0 };
+        let head_cm = f[4].parse::<f64>().unwrap() / (rho * 9.80665) * 100.0;
+        heads.push_str(&format!("{},{},{},{},{head_cm:.15e},{}\n", f[0], f[1], f[2], f[3], f[5]));
+    }
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("heads.csv");
+    std::fs::write(&path, &heads).unwrap();
+    let solvents = root.join("data/px40-solvents.csv");
+    let theta_of = |file: &Path, extra: &[&str]| -> Vec<f64> {
+        let out = thetaseek()
+            .arg("analyze")
+            .arg(file)
+            .args(["--virial", "linear", "--report", "-", "-q"])
+            .args(extra)
+            .assert()
+            .success()
+            .get_output()
+            .stdout
+            .clone();
+        let v: Value = serde_json::from_slice(&out).unwrap();
+        v["series"].as_array().unwrap().iter().map(|s| s["theta"]["theta_k"].as_f64().unwrap()).collect()
+    };
+    let from_heads = theta_of(&path, &["--solvents", solvents.to_str().unwrap()]);
+    let from_pressures = theta_of(&root.join("data/px40-osmometry.csv"), &[]);
+    for (a, b) in from_heads.iter().zip(&from_pressures) {
+        assert!((a - b).abs() < 1e-9 * b, "θ from heads {a} K, from pressures {b} K");
+    }
+    // A solvent missing from the table is refused with its line and column.
+    std::fs::write(&path, heads.replace("ostrol", "xenol")).unwrap();
+    let out =
+        thetaseek().arg("analyze").arg(&path).arg("--solvents").arg(&solvents).assert().code(65).get_output().clone();
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(err.contains("no density for 'xenol'") && err.contains("head (cm)") && err.contains("line"), "{err}");
+}
+
+#[test]
+fn the_plan_figure_carries_the_recommendation_and_the_cautions() {
+    let root = Path::new(env!("CARGO_MANIFEST_DIR"));
+    let dir = tempfile::tempdir().unwrap();
+    let figure = dir.path().join("plan.svg");
+    thetaseek()
+        .current_dir(root)
+        .args(["plan", "data/px40-osmometry.csv", "--solvents", "data/px40-solvents.csv"])
+        .args(["--molar-mass", "2e5", "--polymer-specific-volume", "0.92", "--thermostat", "20:80", "-q", "--figure"])
+        .arg(&figure)
+        .assert()
+        .success();
+    let svg = std::fs::read_to_string(&figure).unwrap();
+    assert!(svg.contains("Recommended: mirane") && svg.contains("fume hood") && svg.contains("safety data sheet"));
+}

@@ -15,8 +15,12 @@ use thetaseek::virial::{FormChoice, VirialForm};
 
 /// Runs the subcommand.
 pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
-    let options = read_options(&args.read)?;
+    let mut options = read_options(&args.read)?;
     let settings = settings(args)?;
+    let table = read_solvent_table(args)?;
+    if let Some(table) = &table {
+        options.solvent_densities = table.rows.iter().filter_map(|r| r.density.map(|d| (r.name.clone(), d))).collect();
+    }
 
     if args.bootstrap > args.max_bootstrap {
         return Err(Error::Setting(format!(
@@ -39,7 +43,6 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
         ..ReportSettings::new(&format!("{:?}", args.read.virial).to_lowercase())
     };
     let figures_wanted = args.figures.is_some() || args.html.is_some();
-    let table = read_solvent_table(args)?;
     // One large osmometry file is analysed as it is read (see `campaign::stream`).
     let mut loaded = if args.files.len() == 1 && !figures_wanted {
         match super::campaign::stream(args, &options, &settings, report_settings, table.as_ref())? {
@@ -233,6 +236,7 @@ pub(crate) fn read_options(args: &ReadArgs) -> Result<ReadOptions, Error> {
         None => None,
     };
     Ok(ReadOptions {
+        solvent_densities: Vec::new(),
         temperature_unit: unit::<TemperatureUnit>(&args.temperature_unit, "--temperature-unit")?,
         concentration_unit: unit::<ConcentrationUnit>(&args.concentration_unit, "--concentration-unit")?,
         pressure_unit: unit::<PressureUnit>(&args.pressure_unit, "--pressure-unit")?,

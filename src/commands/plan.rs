@@ -70,7 +70,7 @@ pub fn run(args: &PlanArgs) -> Result<(), Error> {
     }
     let svg = if args.figure.is_some() || args.html.is_some() {
         Some(
-            plot::render_svg(1000, 640, |root| plot::draw_plan(root, &series, &solvents, &plan_report.plan, &settings))
+            plot::render_svg(1000, 700, |root| plot::draw_plan(root, &series, &solvents, &plan_report.plan, &settings))
                 .map_err(|e| Error::Setting(e.to_string()))?,
         )
     } else {

@@ -49,6 +49,9 @@ pub struct ReadOptions {
     pub pressure_unit: Option<PressureUnit>,
     /// Solvent density in kg/m³ for `head` columns, when the file has no density column.
     pub solvent_density_kg_per_m3: Option<f64>,
+    /// Densities by solvent name (kg/m³) from a solvents table, for `head` columns: a row takes
+    /// its solvent's (its `solvent` column, else its series name); they win over the flag.
+    pub solvent_densities: Vec<(String, f64)>,
     /// Light-scattering optical constant K, mol m²/kg² (for `rayleigh ratio` columns).
     pub optical_constant: Option<f64>,
     /// Solvent refractive index n0 (for angles, and K when not given).
@@ -923,7 +926,7 @@ fn read_osmometry(table: &Table, options: &ReadOptions) -> Result<OsmometryColum
             let h = table.require(Role::Head)?;
             let density = match table.column(Role::SolventDensity) {
                 Some(d) => Some((d, table.unit(d, None, "")?)),
-                None if options.solvent_density_kg_per_m3.is_some() => None,
+                None if options.solvent_density_kg_per_m3.is_some() || !options.solvent_densities.is_empty() => None,
                 None => {
                     return Err(InputError::at(
                         table.name,
@@ -955,6 +958,10 @@ fn read_osmometry(table: &Table, options: &ReadOptions) -> Result<OsmometryColum
             }
             Source::Head(col, unit, density) => {
                 let h = table.checked_column(*col, false, |x| unit.to_si(x), true, "a head cannot be negative");
+                if density.is_none() && !options.solvent_densities.is_empty() {
+                    // Each row's solvent density is looked up once the names are read (below).
+                    return h;
+                }
                 let rho = match density {
                     Some((d, du)) => {
                         table.checked_column(*d, false, |x| du.to_si(x), false, "a density must be greater than zero")
@@ -999,10 +1006,34 @@ fn read_osmometry(table: &Table, options: &ReadOptions) -> Result<OsmometryColum
     };
     let (pressure, (sd_values, (names, concentration))) =
         rayon::join(pressure, || rayon::join(sd_values, || rayon::join(|| table.series_column(), concentration)));
-    let (pressure, sd_values, names, concentration) = match (pressure, sd_values, names, concentration) {
+    let (mut pressure, sd_values, names, concentration) = match (pressure, sd_values, names, concentration) {
         (Ok(p), Ok(s), Ok(n), Ok(c)) => (p, s, n, c),
         (p, s, n, c) => return Err(first_in_row_order([p.err(), s.err(), n.err(), c.err()]).1),
     };
+    if let Source::Head(h, _, None) = source {
+        if !options.solvent_densities.is_empty() {
+            let solvent_col = table.column(Role::Solvent);
+            for row in table.rows() {
+                let solvent = solvent_col.map_or(&*names[row], |col| table.text(col, row));
+                let rho = options
+                    .solvent_densities
+                    .iter()
+                    .find(|(name, _)| name == solvent)
+                    .map(|(_, rho)| *rho)
+                    .or(options.solvent_density_kg_per_m3)
+                    .ok_or_else(|| {
+                        table.refuse(
+                            h,
+                            row,
+                            &format!(
+                                "the solvents table gives no density for '{solvent}': add it there, add a 'solvent density (g/mL)' column, or give --solvent-density"
+                            ),
+                        )
+                    })?;
+                pressure[row] = crate::units::head_to_pressure_pa(rho, pressure[row]);
+            }
+        }
+    }
     let rows: Vec<(usize, usize)> = table.rows().map(|row| (row, table.line(row))).collect();
     Ok(OsmometryColumns {
         file_index: table.file_index,

@@ -305,6 +305,25 @@ pub fn figures_for_report(report: &Report) -> Result<Vec<Figure>, FigureError> {
     Ok(figures)
 }
 
+/// Splits off a strip at the foot of a figure that recommends a temperature or a solvent, writes
+/// `notes` (one line each) and the safety cautions in it, and returns the area above for the chart.
+pub fn with_cautions<'a>(
+    root: &DrawingArea<SVGBackend<'a>, plotters::coord::Shift>,
+    notes: &[String],
+) -> Result<DrawingArea<SVGBackend<'a>, plotters::coord::Shift>, FigureError> {
+    let (_, height) = root.dim_in_pixel();
+    let lines = notes.len() + 2;
+    let (chart, strip) = root.split_vertically(height.saturating_sub(18 * lines as u32 + 14));
+    let cautions = [
+        "Safety: prepare and heat solutions in a fume hood; stay well below the boiling point; read each solvent's safety data sheet;",
+        "follow your laboratory's and local rules and your safety officer's review.",
+    ];
+    for (i, line) in notes.iter().map(String::as_str).chain(cautions).enumerate() {
+        strip.draw(&Text::new(line.to_string(), (16, 6 + 18 * i as i32), ink_text(13)))?;
+    }
+    Ok(chart)
+}
+
 #[cfg(test)]
 mod tests {
     use super::slug;

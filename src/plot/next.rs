@@ -10,30 +10,18 @@ use plotters::prelude::*;
 /// One curve per series, drawn only over each series' safe window; under the chart, the windows
 /// and the safety cautions.
 pub fn draw_next(root: &DrawingArea<SVGBackend, Shift>, designs: &[SeriesDesign]) -> Result<(), FigureError> {
-    let (_, height) = root.dim_in_pixel();
-    let lines = designs.len() + 2;
-    let (root, notes) = root.split_vertically(height.saturating_sub(18 * lines as u32 + 14));
-    let root = &root;
-    let mut y = 6;
-    for d in designs {
-        let window = match d.window_c {
-            Some([lo, hi]) => format!("{}: runs considered between {lo:.1} and {hi:.1} °C", d.name),
-            None => format!("{}: no temperature left inside the safe window; nothing recommended", d.name),
-        };
-        let unchecked = if d.unchecked.is_empty() { "" } else { " (some checks not made: see the report)" };
-        notes.draw(&Text::new(format!("{window}{unchecked}"), (16, y), super::ink_text(13)))?;
-        y += 18;
-    }
-    notes.draw(&Text::new(
-        "Safety: prepare and heat solutions in a fume hood; stay well below the boiling point; read each solvent's safety data sheet;",
-        (16, y),
-        super::ink_text(13),
-    ))?;
-    notes.draw(&Text::new(
-        "follow your laboratory's and local rules and your safety officer's review.",
-        (16, y + 18),
-        super::ink_text(13),
-    ))?;
+    let notes: Vec<String> = designs
+        .iter()
+        .map(|d| {
+            let window = match d.window_c {
+                Some([lo, hi]) => format!("{}: runs considered between {lo:.1} and {hi:.1} °C", d.name),
+                None => format!("{}: no temperature left inside the safe window; nothing recommended", d.name),
+            };
+            let unchecked = if d.unchecked.is_empty() { "" } else { " (some checks not made: see the report)" };
+            format!("{window}{unchecked}")
+        })
+        .collect();
+    let root = &super::with_cautions(root, &notes)?;
     let widths: Vec<f64> = designs
         .iter()
         .flat_map(|d| d.candidates.iter().filter_map(|c| c.predicted_ci_width_k).chain(d.current.ci_width_k))

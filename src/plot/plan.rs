@@ -21,6 +21,14 @@ pub fn draw_plan(
     plan: &Plan,
     settings: &PlanSettings,
 ) -> Result<(), FigureError> {
+    let note = match &plan.recommendation {
+        Some(r) => format!(
+            "Recommended: {} at {:.1} °C (hold {:.1}–{:.1} °C)",
+            r.solvent, r.temperature_c, r.temperature_window_c[0], r.temperature_window_c[1]
+        ),
+        None => "No solvent passes every check: nothing is recommended".to_string(),
+    };
+    let root = &super::with_cautions(root, &[note])?;
     let k = |s: &PlanSeries| -> Option<f64> {
         let line = s.line.as_ref()?;
         match line.quantity {
