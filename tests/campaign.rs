@@ -292,3 +292,31 @@ fn a_bad_row_late_in_a_large_file_fails_the_run_and_writes_nothing() {
     let names: Vec<_> = std::fs::read_dir(dir.path()).unwrap().map(|e| e.unwrap().file_name()).collect();
     assert_eq!(names, vec![std::ffi::OsString::from("big.csv")], "nothing but the input");
 }
+
+#[test]
+fn a_streamed_campaign_warns_when_one_molar_volume_covers_several_solvents() {
+    // Issue #23 on the streamed path: 1 500 series in two solvents, one --solvent-molar-volume.
+    let dir = tempfile::tempdir().unwrap();
+    let mut text = String::from("series,solvent,temperature (K),concentration (g/L),pressure (Pa)\n");
+    for i in 0..1500 {
+        for row in series_rows(i, &[290.0, 300.0, 310.0, 320.0], 5).lines() {
+            let (name, rest) = row.split_once(',').unwrap();
+            let _ = writeln!(text, "{name},{},{rest}", ["mirane", "ostrol"][i % 2]);
+        }
+    }
+    assert!(text.len() > thetaseek::input::BLOCK_BYTES * 2);
+    std::fs::write(dir.path().join("big.csv"), &text).unwrap();
+    let out = thetaseek()
+        .current_dir(dir.path())
+        .args(["analyze", "big.csv", "--polymer-specific-volume", "0.9", "--solvent-molar-volume", "100"])
+        .args(["--report", "-", "-q"])
+        .output()
+        .unwrap();
+    assert!(out.status.success());
+    let report: Value = serde_json::from_slice(&out.stdout).unwrap();
+    let warnings = report["warnings"].as_array().unwrap();
+    assert!(
+        warnings.iter().any(|w| w.as_str().unwrap().contains("2 different solvents (mirane, ostrol)")),
+        "{warnings:?}"
+    );
+}

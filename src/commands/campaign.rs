@@ -423,8 +423,18 @@ pub fn stream(
             (s, solvent)
         }));
         if campaign.is_none() && ready.len() > report::CAMPAIGN_SERIES {
+            // The opening is written now: one molar volume over several solvents is judged on
+            // the series read so far (those the table or their own columns leave to the flag).
+            let covered: Vec<&str> = ready
+                .iter()
+                .filter(|(s, _)| s.volumes.is_none())
+                .filter_map(|(_, solvent)| solvent.as_deref())
+                .collect();
+            let flag = args.solvent_molar_volume.map(|v| v * 1e-6);
+            let mut warnings = run_warnings.clone();
+            warnings.extend(thetaseek::solvent::one_volume_for_several_solvents(flag, &covered));
             campaign =
-                Some(open_streamed(args, settings, &report_settings(ready.len()), &placeholder, table, &run_warnings)?);
+                Some(open_streamed(args, settings, &report_settings(ready.len()), &placeholder, table, &warnings)?);
         }
         if !more {
             break;
