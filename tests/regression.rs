@@ -53,3 +53,56 @@ fn figures_of_extreme_but_accepted_values_finish() {
         wild,290,-1e-300\nwild,300,1e290\nwild,310,1e-4\nflat,290,0\nflat,300,0\nflat,310,0\n";
     assert!(figures_of(text) >= 1);
 }
+
+/// Issue #28, item 1: a comment holding an unmatched double quote (`# operator: "new membrane`)
+/// made every data row after it vanish up to the next quote in a file read in blocks (a
+/// 600-series file reported 3 series, exit 0); in a small file it was refused with the CSV
+/// reader's byte offset, above the header it read as "the file is empty". A `#` line is a
+/// comment whatever it holds.
+fn with_quoted_comment(series: usize, comment_after_rows: Option<usize>) -> String {
+    let header = "series,temperature (K),concentration (g/L),pressure (Pa)";
+    let mut rows = Vec::new();
+    for i in 0..series {
+        for t in [290.0, 300.0, 310.0] {
+            for c in [1.0, 2.0, 3.0, 4.0, 5.0] {
+                let a2 = 2e-3 * (1.0 - 300.0 / t);
+                let p = c
+                    * thetaseek::units::GAS_CONSTANT_J_PER_MOL_K
+                    * t
+                    * (1.0 / 100.0 + a2 * c)
+                    * (1.0 + 1e-4 * (i as f64 + c).sin());
+                rows.push(format!("s{i:04},{t},{c},{p:.6}"));
+            }
+        }
+    }
+    let comment = "# operator: \"new membrane".to_string();
+    match comment_after_rows {
+        Some(k) => {
+            rows.insert(k, comment);
+            format!("{header}\n{}\n", rows.join("\n"))
+        }
+        None => format!("{comment}\n{header}\n{}\n", rows.join("\n")),
+    }
+}
+
+fn series_read(text: &str, block: usize) -> usize {
+    let mut source = std::io::Cursor::new(text.as_bytes().to_vec());
+    let contents = thetaseek::input::read_source("q.csv", 0, &mut source, &ReadOptions::default(), block)
+        .expect("a comment with a quote is read, not refused");
+    contents.readings.into_series().len()
+}
+
+#[test]
+fn a_comment_with_an_unmatched_quote_loses_no_rows_in_a_file_read_in_blocks() {
+    let text = with_quoted_comment(1500, Some(30));
+    assert!(text.len() > thetaseek::input::BLOCK_BYTES, "{} bytes", text.len());
+    assert_eq!(series_read(&text, thetaseek::input::BLOCK_BYTES), 1500);
+    // And in small blocks, the comment falling anywhere in one.
+    assert_eq!(series_read(&text, 4096), 1500);
+}
+
+#[test]
+fn a_comment_with_an_unmatched_quote_in_a_small_file_or_above_the_header_is_a_comment() {
+    assert_eq!(series_read(&with_quoted_comment(4, Some(20)), thetaseek::input::BLOCK_BYTES), 4);
+    assert_eq!(series_read(&with_quoted_comment(4, None), thetaseek::input::BLOCK_BYTES), 4);
+}

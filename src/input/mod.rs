@@ -331,13 +331,15 @@ fn parse_with_polars(
 ) -> Result<DataFrame, InputError> {
     let dtypes = numbers
         .map(|n| Arc::new(n.iter().map(|&number| if number { DataType::Float64 } else { DataType::String }).collect()));
+    // A `#` line is a comment whatever it holds (polars would open a quoted field at a quote in it).
+    let bytes = scan::comment_quotes_neutralised(bytes);
     CsvReadOptions::default()
         .with_n_threads(threads)
         .with_has_header(true)
         .with_infer_schema_length(Some(0))
         .with_dtype_overwrite(dtypes)
         .with_parse_options(CsvParseOptions::default().with_comment_prefix(Some("#")))
-        .into_reader_with_file_handle(Cursor::new(bytes))
+        .into_reader_with_file_handle(Cursor::new(bytes.as_ref()))
         .finish()
         .map_err(|e| InputError::file(name, format!("the CSV reader refused the file: {e}")))
 }

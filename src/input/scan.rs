@@ -55,7 +55,13 @@ pub fn scan_header(bytes: &[u8]) -> Option<Header> {
     let mut pos = 0usize;
     while pos < body.len() {
         let start_line = line;
-        let (end, next, newlines) = record_end(body, pos);
+        let (end, next, newlines) = if body[pos] == b'#' {
+            // A comment ends at its line end whatever it holds.
+            let end = memchr::memchr(b'\n', &body[pos..]).map_or(body.len(), |e| pos + e);
+            (end, (end + 1).min(body.len()), usize::from(end < body.len()))
+        } else {
+            record_end(body, pos)
+        };
         let text = &body[pos..end];
         let text = text.strip_suffix(b"\r").unwrap_or(text);
         pos = next;
@@ -107,8 +113,13 @@ pub fn scan_records(bytes: &[u8], first_line: usize, at_end: bool) -> Records {
         if pos == bytes.len() {
             break;
         }
-        // The record at `pos` holds a quote, or runs to the end of the bytes.
-        let (end, newlines, n_fields, blank) = record_at(bytes, pos);
+        // The record at `pos` holds a quote, or runs to the end of the bytes. A comment ends at
+        // its line end whatever it holds: a quote in it opens nothing.
+        let (end, newlines, n_fields, blank) = if bytes[pos] == b'#' {
+            (memchr::memchr(b'\n', &bytes[pos..]).map_or(bytes.len(), |e| pos + e), 0, 1, false)
+        } else {
+            record_at(bytes, pos)
+        };
         if !at_end && end == bytes.len() {
             break;
         }
@@ -122,6 +133,30 @@ pub fn scan_records(bytes: &[u8], first_line: usize, at_end: bool) -> Records {
         }
     }
     Records { records, consumed: pos, next_line: line }
+}
+
+/// `bytes` with every double quote inside a comment line (a `#` at the start of a line outside
+/// quotes) replaced by a single quote, for the CSV reader, which would otherwise open a quoted
+/// field at it and read on to the next quote, swallowing the rows between. Borrowed unchanged
+/// when no comment holds a quote (the usual case: a file without quotes is not walked).
+pub fn comment_quotes_neutralised(bytes: &[u8]) -> std::borrow::Cow<'_, [u8]> {
+    if memchr::memchr(b'"', bytes).is_none() {
+        return std::borrow::Cow::Borrowed(bytes);
+    }
+    let mut out: Option<Vec<u8>> = None;
+    let mut pos = if bytes.starts_with(BOM) { BOM.len() } else { 0 };
+    while pos < bytes.len() {
+        if bytes[pos] == b'#' {
+            let end = memchr::memchr(b'\n', &bytes[pos..]).map_or(bytes.len(), |e| pos + e);
+            for q in memchr::memchr_iter(b'"', &bytes[pos..end]) {
+                out.get_or_insert_with(|| bytes.to_vec())[pos + q] = b'\'';
+            }
+            pos = end + 1;
+        } else {
+            pos = record_end(bytes, pos).1;
+        }
+    }
+    out.map_or(std::borrow::Cow::Borrowed(bytes), std::borrow::Cow::Owned)
 }
 
 /// Nothing but white space and commas: a row the reader yields as nulls.
@@ -216,11 +251,17 @@ mod tests {
         }
     }
 
-    /// `scan_records` as it was before the vectorised pass: every record walked byte by byte.
+    /// `scan_records` without the vectorised pass: every record walked byte by byte, a comment
+    /// to its line end.
     fn walk_records(bytes: &[u8], first_line: usize, at_end: bool) -> Records {
         let (mut records, mut line, mut pos) = (Vec::new(), first_line, 0);
         while pos < bytes.len() {
-            let (end, newlines, n_fields, blank) = record_at(bytes, pos);
+            let (end, newlines, n_fields, blank) = if bytes[pos] == b'#' {
+                let end = bytes[pos..].iter().position(|&b| b == b'\n').map_or(bytes.len(), |e| pos + e);
+                (end, 0, 1, false)
+            } else {
+                record_at(bytes, pos)
+            };
             if !at_end && end == bytes.len() {
                 break;
             }
@@ -269,6 +310,18 @@ mod tests {
                 );
             }
         }
+    }
+
+    #[test]
+    fn a_quote_in_a_comment_opens_nothing_but_a_hash_inside_a_quoted_field_is_data() {
+        let text = b"# by \"ann\nseries,t\n\"two\n# lines\",1\n# \"x\nb,2\n";
+        let fixed = comment_quotes_neutralised(text);
+        assert_eq!(&*fixed, &b"# by 'ann\nseries,t\n\"two\n# lines\",1\n# 'x\nb,2\n"[..]);
+        let layout = scan(text).unwrap();
+        assert_eq!(layout.header_line, 2);
+        let lines: Vec<usize> = layout.records.iter().map(|r| r.line).collect();
+        assert_eq!(lines, [3, 6]);
+        assert!(matches!(comment_quotes_neutralised(b"a,b\n1,2\n"), std::borrow::Cow::Borrowed(_)));
     }
 
     #[test]
