@@ -106,3 +106,41 @@ fn a_comment_with_an_unmatched_quote_in_a_small_file_or_above_the_header_is_a_co
     assert_eq!(series_read(&with_quoted_comment(4, Some(20)), thetaseek::input::BLOCK_BYTES), 4);
     assert_eq!(series_read(&with_quoted_comment(4, None), thetaseek::input::BLOCK_BYTES), 4);
 }
+
+/// Issue #28, item 9: a pressure of 1e308 made Mn and A2 NaN ± NaN and θ "none … t = NaN" with
+/// status ok and exit 0; 1e-5000 was read as 0 while 1e-320 was refused.
+#[test]
+fn absurd_magnitudes_are_refused_with_the_reading_named_and_never_become_nan() {
+    let header = "series,temperature (K),concentration (g/L),pressure (Pa)\n";
+    let rows = "a,290,1,10\na,290,2,VALUE\na,290,3,30\na,300,1,11\na,300,2,21\na,300,3,31\n";
+    for (value, says) in [("1e308", "beyond any physical"), ("1e-5000", "too small"), ("1e-320", "too small")] {
+        let text = format!("{header}{}", rows.replace("VALUE", value));
+        let err = read_file("r.csv", 0, text.as_bytes(), &ReadOptions::default()).expect_err(value).to_string();
+        assert!(err.contains("line 3") && err.contains(value) && err.contains(says), "{value}: {err}");
+    }
+    // A true zero (a reading at the baseline) is still a reading.
+    let text = format!("{header}{}", rows.replace("VALUE", "0.0e5"));
+    assert!(read_file("r.csv", 0, text.as_bytes(), &ReadOptions::default()).is_ok());
+}
+
+#[test]
+fn a_fit_that_overflows_skips_its_temperature_instead_of_reporting_nan() {
+    use thetaseek::dataset::{group, Measurement};
+    let mut rows = Vec::new();
+    for (t, scale) in [(290.0, 1e300), (300.0, 1.0), (310.0, 1.0)] {
+        for c in [1.0, 2.0, 3.0, 4.0] {
+            rows.push(Measurement::simulated("s", t, c, scale * (10.0 * c + c * c)));
+        }
+    }
+    let series = group(&rows);
+    let settings = Settings {
+        theta: ThetaSettings { bootstrap_replicates: 0, ..ThetaSettings::default() },
+        ..Settings::default()
+    };
+    let result = thetaseek::analysis::analyze_series(&series[0], &settings, 0);
+    assert_eq!(result.skipped.len(), 1, "{:?}", result.skipped);
+    assert!(result.skipped[0].reason.contains("overflowed"), "{}", result.skipped[0].reason);
+    let report = Report::new(Vec::new(), ReportSettings::new("auto"), Vec::new(), &[result], &Dataset::default());
+    let json = String::from_utf8(thetaseek::report::to_json(&report)).unwrap();
+    assert!(!json.contains("NaN") && !json.contains("inf"), "{json}");
+}

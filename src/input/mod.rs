@@ -37,6 +37,9 @@ pub const PLAUSIBLE_G_PER_ML_MAX: f64 = 0.5;
 /// No polymer solution holds more than about its own density of polymer (≈ 1–1.5 g/mL);
 /// above 2 g/mL (2000 kg/m³) a concentration is a slip, and it would overflow the arithmetic.
 pub const MAX_CONCENTRATION_KG_PER_M3: f64 = 2000.0;
+/// No measured quantity of these files (pressure, head, density, SD) comes near 10¹² in SI units;
+/// below it, the squares a fit forms stay finite (a pressure of 1e308 Pa made NaN ± NaN).
+pub const MAX_MAGNITUDE_SI: f64 = 1e12;
 
 /// Settings that supply what a file's header leaves out.
 #[derive(Debug, Clone, Default, PartialEq)]
@@ -415,6 +418,12 @@ fn usable(v: f64) -> bool {
     v.is_finite() && (v == 0.0 || v.is_normal())
 }
 
+/// Whether a number's digits before any exponent hold a non-zero digit (`0.0e5` does not,
+/// `1e-5000` does).
+fn mantissa_is_nonzero(text: &str) -> bool {
+    text.split(['e', 'E']).next().is_some_and(|m| m.bytes().any(|b| (b'1'..=b'9').contains(&b)))
+}
+
 /// The stand-in refusal of a table read the fast way: it is never shown, since the block is
 /// then read again as text, whose refusal is.
 fn read_again() -> InputError {
@@ -560,13 +569,18 @@ impl<'a> Table<'a> {
     /// A finite number, or a message that says what is wrong with the value.
     fn number(&self, col: usize, row: usize) -> Result<f64, InputError> {
         if let Cells::Numbers(values) = &self.columns[col] {
-            return values.get(row).filter(|v| usable(*v)).ok_or_else(read_again);
+            // A zero may be a literal that underflowed (1e-5000): the text tells.
+            return values.get(row).filter(|v| usable(*v) && *v != 0.0).ok_or_else(read_again);
         }
         let text = self.text(col, row);
         if text.is_empty() {
             return Err(self.refuse(col, row, "the value is missing: expected a number"));
         }
         match f64::from_str(text) {
+            // A non-zero literal read as zero (1e-5000) underflowed, like a subnormal one.
+            Ok(v) if v == 0.0 && mantissa_is_nonzero(text) => {
+                Err(self.refuse(col, row, "the number is too small to compute with (below 1e-307)"))
+            }
             Ok(v) if usable(v) => Ok(v),
             Ok(v) if v.is_finite() => {
                 Err(self.refuse(col, row, "the number is too small to compute with (below 1e-307)"))
@@ -642,7 +656,8 @@ impl<'a> Table<'a> {
                     match value {
                         _ if record.blank => out.push(f64::NAN),
                         None if allow_empty => out.push(f64::NAN),
-                        Some(v) if usable(v) => out.push(convert(row, v).map_err(|e| (row, e))?),
+                        // A zero may be a literal that underflowed (1e-5000): the text tells.
+                        Some(v) if usable(v) && v != 0.0 => out.push(convert(row, v).map_err(|e| (row, e))?),
                         _ => return Err((row, read_again())),
                     }
                 }
@@ -656,7 +671,7 @@ impl<'a> Table<'a> {
                 continue;
             }
             let value = match f64::from_str(text) {
-                Ok(v) if usable(v) => v,
+                Ok(v) if usable(v) && !(v == 0.0 && mantissa_is_nonzero(text)) => v,
                 _ => return Err((row, self.number(col, row).err().unwrap_or_else(|| self.refuse(col, row, "")))),
             };
             out.push(convert(row, value).map_err(|e| (row, e))?);
@@ -677,6 +692,13 @@ impl<'a> Table<'a> {
             let v = to_si(x);
             if v < 0.0 || (!zero_ok && v == 0.0) {
                 return Err(self.refuse(col, row, what));
+            }
+            if v > MAX_MAGNITUDE_SI {
+                return Err(self.refuse(
+                    col,
+                    row,
+                    "the value is beyond any physical one for this column (above 10¹² in SI units): check the value and its unit",
+                ));
             }
             Ok(v)
         })

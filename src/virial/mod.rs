@@ -222,6 +222,13 @@ pub fn score_temperature(
             (chosen.score, chosen.reason, chosen.candidates, chosen.quadratic)
         }
     };
+    let estimates = [score.inverse_mn, score.inverse_mn_se, score.a2, score.a2_se];
+    if estimates.iter().any(|v| !v.is_finite()) {
+        let largest = set.pressure_pa.iter().copied().fold(0.0_f64, |m, p| m.max(p.abs()));
+        return Err(skip(format!(
+            "the fit could not be computed (a value overflowed; the largest pressure is {largest:.3e} Pa): check the readings and their units"
+        )));
+    }
     if score.inverse_mn <= 0.0 {
         return Err(skip(format!(
             "the intercept 1/Mn = {:.3e} mol/g is not positive: check the zero of the osmometer and the units",
