@@ -144,3 +144,24 @@ fn a_fit_that_overflows_skips_its_temperature_instead_of_reporting_nan() {
     let json = String::from_utf8(thetaseek::report::to_json(&report)).unwrap();
     assert!(!json.contains("NaN") && !json.contains("inf"), "{json}");
 }
+
+/// Issue #28, item 2: malformed quoting (`a,20,"4.00"x,46.9`) was refused with the CSV
+/// library's own text, a byte offset and advice no user can act on.
+#[test]
+fn malformed_quoting_is_refused_with_its_line_and_column() {
+    let text = "series,temperature (C),concentration (g/L),pressure (Pa)\na,20,1,10\na,20,\"4.00\"x,46.9\na,20,3,30\n";
+    let err = read_file("q.csv", 0, text.as_bytes(), &ReadOptions::default()).unwrap_err().to_string();
+    assert!(err.contains("line 3") && err.contains("concentration (g/L)") && err.contains("closing quote"), "{err}");
+    assert!(!err.contains("infer_schema_length") && !err.contains("offset"), "{err}");
+    // The same row deep in a file read in blocks.
+    let mut big = String::from("series,temperature (C),concentration (g/L),pressure (Pa)\n");
+    for i in 0..20_000 {
+        big.push_str(&format!("s{},{},{},{}\n", i / 20, 20 + i % 4, 1 + i % 5, 10 + i % 7));
+    }
+    big.push_str("z,20,\"4.00\"x,46.9\n");
+    let mut source = std::io::Cursor::new(big.into_bytes());
+    let err = thetaseek::input::read_source("q.csv", 0, &mut source, &ReadOptions::default(), 64 * 1024)
+        .unwrap_err()
+        .to_string();
+    assert!(err.contains("line 20002") && err.contains("closing quote"), "{err}");
+}

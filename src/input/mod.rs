@@ -306,6 +306,16 @@ fn check_utf8_from(name: &str, bytes: &[u8], first_line: usize) -> Result<(), In
 fn check_structure(name: &str, layout: &Layout) -> Result<(), InputError> {
     let width = layout.header.len();
     for record in &layout.records {
+        if let Some(field) = record.stray_quote {
+            let column = layout.header.get(field - 1).cloned().unwrap_or_else(|| format!("field {field}"));
+            return Err(InputError::at(
+                name,
+                record.line,
+                Some(&column),
+                None,
+                "text follows a closing quote (as in \"4.00\"x): quote the whole value, or remove the quotes",
+            ));
+        }
         if record.blank || record.n_fields == width {
             continue;
         }

@@ -10,6 +10,9 @@ pub struct RecordLine {
     pub n_fields: usize,
     /// The record holds nothing but white space.
     pub blank: bool,
+    /// The 1-based field in which text follows a closing quote (`"4.00"x`), if any: malformed
+    /// quoting, which the CSV reader would refuse with a byte offset only.
+    pub stray_quote: Option<usize>,
 }
 
 /// The structure of a CSV file: its header fields and the records after it.
@@ -106,7 +109,7 @@ pub fn scan_records(bytes: &[u8], first_line: usize, at_end: bool) -> Records {
             }
             // Data rows are only counted, not copied.
             if bytes[pos] != b'#' {
-                records.push(RecordLine { line, n_fields, blank: is_blank(&bytes[pos..i]) });
+                records.push(RecordLine { line, n_fields, blank: is_blank(&bytes[pos..i]), stray_quote: None });
             }
             (line, pos, n_fields) = (line + 1, i + 1, 1);
         }
@@ -115,8 +118,8 @@ pub fn scan_records(bytes: &[u8], first_line: usize, at_end: bool) -> Records {
         }
         // The record at `pos` holds a quote, or runs to the end of the bytes. A comment ends at
         // its line end whatever it holds: a quote in it opens nothing.
-        let (end, newlines, n_fields, blank) = if bytes[pos] == b'#' {
-            (memchr::memchr(b'\n', &bytes[pos..]).map_or(bytes.len(), |e| pos + e), 0, 1, false)
+        let (end, newlines, n_fields, blank, stray_quote) = if bytes[pos] == b'#' {
+            (memchr::memchr(b'\n', &bytes[pos..]).map_or(bytes.len(), |e| pos + e), 0, 1, false, None)
         } else {
             record_at(bytes, pos)
         };
@@ -129,7 +132,7 @@ pub fn scan_records(bytes: &[u8], first_line: usize, at_end: bool) -> Records {
         let comment = bytes[pos] == b'#';
         pos = next;
         if !comment {
-            records.push(RecordLine { line: start_line, n_fields, blank });
+            records.push(RecordLine { line: start_line, n_fields, blank, stray_quote });
         }
     }
     Records { records, consumed: pos, next_line: line }
@@ -166,14 +169,22 @@ fn is_blank(text: &[u8]) -> bool {
 
 /// The record starting at `pos`, walked byte by byte with quotes respected: its end (exclusive,
 /// before the newline, or the end of `bytes`), the line breaks inside it (quoted fields may
-/// span lines), its field count and whether it is blank.
-fn record_at(bytes: &[u8], pos: usize) -> (usize, usize, usize, bool) {
-    let (mut in_quotes, mut newlines, mut n_fields) = (false, 0, 1);
+/// span lines), its field count, whether it is blank, and the first field where text follows a
+/// closing quote.
+fn record_at(bytes: &[u8], pos: usize) -> (usize, usize, usize, bool, Option<usize>) {
+    let (mut in_quotes, mut newlines, mut n_fields, mut stray) = (false, 0, 1, None);
     let mut i = pos;
     let end = loop {
         let Some(&b) = bytes.get(i) else { break bytes.len() };
         match b {
-            b'"' => in_quotes = !in_quotes,
+            b'"' => {
+                in_quotes = !in_quotes;
+                // A closing quote ends its field: a comma, a line end or a doubled quote may follow.
+                let next = bytes.get(i + 1).copied();
+                if !in_quotes && !matches!(next, None | Some(b',' | b'\n' | b'\r' | b'"')) && stray.is_none() {
+                    stray = Some(n_fields);
+                }
+            }
             b'\n' if !in_quotes => break i,
             b'\n' => newlines += 1,
             b',' if !in_quotes => n_fields += 1,
@@ -181,7 +192,7 @@ fn record_at(bytes: &[u8], pos: usize) -> (usize, usize, usize, bool) {
         }
         i += 1;
     };
-    (end, newlines, n_fields, is_blank(&bytes[pos..end]))
+    (end, newlines, n_fields, is_blank(&bytes[pos..end]), stray)
 }
 
 /// End of the record starting at `pos` (exclusive, before the newline), the start of the next
@@ -256,9 +267,9 @@ mod tests {
     fn walk_records(bytes: &[u8], first_line: usize, at_end: bool) -> Records {
         let (mut records, mut line, mut pos) = (Vec::new(), first_line, 0);
         while pos < bytes.len() {
-            let (end, newlines, n_fields, blank) = if bytes[pos] == b'#' {
+            let (end, newlines, n_fields, blank, stray_quote) = if bytes[pos] == b'#' {
                 let end = bytes[pos..].iter().position(|&b| b == b'\n').map_or(bytes.len(), |e| pos + e);
-                (end, 0, 1, false)
+                (end, 0, 1, false, None)
             } else {
                 record_at(bytes, pos)
             };
@@ -270,7 +281,7 @@ mod tests {
             let comment = bytes[pos] == b'#';
             pos = if end < bytes.len() { end + 1 } else { end };
             if !comment {
-                records.push(RecordLine { line: start_line, n_fields, blank });
+                records.push(RecordLine { line: start_line, n_fields, blank, stray_quote });
             }
         }
         Records { records, consumed: pos, next_line: line }
