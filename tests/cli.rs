@@ -312,3 +312,28 @@ fn the_series_table_has_one_row_per_series_and_can_list_only_those_needing_atten
     let both = std::fs::read_to_string(both).unwrap();
     assert!(both.contains("thin") && !both.contains("PX-40 in mirane"), "{both}");
 }
+
+/// Issue #28, item 10: an input that is a folder exited 65 (the README promises 74 for files
+/// that cannot be read); CR-only line ends read as "the file is empty"; `--max-input-mb 0`
+/// said "0 MB, above the limit of 0 MB".
+#[test]
+fn small_input_failures_say_what_they_are() {
+    let dir = tempfile::tempdir().unwrap();
+    let folder = dir.path().join("data");
+    std::fs::create_dir(&folder).unwrap();
+    let out = thetaseek().arg("analyze").arg(&folder).assert().code(74).get_output().clone();
+    assert!(String::from_utf8_lossy(&out.stderr).contains("it is a folder, not a file"));
+
+    let cr = dir.path().join("cr.csv");
+    std::fs::write(&cr, "series,temperature (C),concentration (g/L),pressure (Pa)\ra,20,1,10\ra,20,2,20\ra,20,3,30\r")
+        .unwrap();
+    let out = thetaseek().arg("analyze").arg(&cr).assert().code(65).get_output().clone();
+    assert!(String::from_utf8_lossy(&out.stderr).contains("carriage return alone"));
+
+    let small = dir.path().join("small.csv");
+    std::fs::write(&small, "series,temperature (C),concentration (g/L),pressure (Pa)\na,20,1,10\n").unwrap();
+    let out =
+        thetaseek().arg("analyze").arg(&small).args(["--max-input-mb", "0"]).assert().code(65).get_output().clone();
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(err.contains("the file is 67 bytes, above the limit of 0 MB"), "{err}");
+}

@@ -60,11 +60,16 @@ impl<'a> PendingOutput<'a> {
 pub fn open_input(path: &Path, max_mb: u64) -> Result<std::fs::File, Error> {
     let io = |source| Error::Io { action: "cannot read", path: path.to_path_buf(), source };
     let file = std::fs::File::open(path).map_err(io)?;
-    let size = file.metadata().map_err(io)?.len();
+    let metadata = file.metadata().map_err(io)?;
+    if metadata.is_dir() {
+        return Err(io(std::io::Error::other("it is a folder, not a file")));
+    }
+    let size = metadata.len();
     if size > max_mb.saturating_mul(1 << 20) {
+        let shown = if size < 1 << 20 { format!("{size} bytes") } else { format!("{} MB", size >> 20) };
         return Err(Error::Input(thetaseek::error::InputError::file(
             &path.display().to_string(),
-            format!("the file is {} MB, above the limit of {max_mb} MB; raise it with --max-input-mb", size >> 20),
+            format!("the file is {shown}, above the limit of {max_mb} MB; raise it with --max-input-mb"),
         )));
     }
     Ok(file)

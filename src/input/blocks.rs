@@ -86,6 +86,7 @@ impl<'a> BlockReader<'a> {
         let io = |e| read_error(name, e);
         let mut buffer = Vec::new();
         let mut at_end = fill(source, &mut buffer, block_bytes).map_err(io)?;
+        super::check_line_ends(name, &buffer)?;
         // Read on until the header line is complete (a block may end inside it) or the file ends.
         let header = loop {
             match scan_header(&buffer) {

@@ -283,6 +283,21 @@ pub fn file_stem(name: &str) -> String {
     std::path::Path::new(name).file_stem().map(|s| s.to_string_lossy().into_owned()).unwrap_or_else(|| name.to_string())
 }
 
+/// Refuses text whose lines end with a carriage return alone (old Mac exports), which would
+/// otherwise read as one long header line with nothing under it.
+fn check_line_ends(name: &str, bytes: &[u8]) -> Result<(), InputError> {
+    if memchr::memchr(b'\n', bytes).is_none() && memchr::memchr(b'\r', bytes).is_some() {
+        return Err(InputError::at(
+            name,
+            1,
+            None,
+            None,
+            "the lines end with a carriage return alone (an old Mac export): save the file with LF or CRLF line ends",
+        ));
+    }
+    Ok(())
+}
+
 fn check_utf8(name: &str, bytes: &[u8]) -> Result<(), InputError> {
     check_utf8_from(name, bytes, 1)
 }
@@ -467,6 +482,7 @@ impl<'a> Table<'a> {
     /// Scans, checks and parses a CSV: header roles, ragged rows, UTF-8, at least one data row.
     fn parse(name: &'a str, file_index: usize, bytes: &[u8]) -> Result<Self, InputError> {
         check_utf8(name, bytes)?;
+        check_line_ends(name, bytes)?;
         let layout = scan(bytes)
             .ok_or_else(|| InputError::file(name, "the file is empty: expected a header line and data rows"))?;
         let cells: Vec<HeaderCell> = layout.header.iter().map(|h| parse_header_cell(h)).collect();
