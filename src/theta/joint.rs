@@ -119,8 +119,7 @@ pub fn joint_fit(
     let mut n = 0;
     let mut start_inv_mn = 0.0;
     for (set, fit) in sets.iter().zip(fits) {
-        let given: Option<Vec<f64>> = set.pressure_sd_pa.iter().copied().collect();
-        let sd = given.or_else(|| noise.shape(set));
+        let (sd, _) = noise.sds_for(set);
         let readings = Readings {
             temperature_k: set.temperature_k,
             concentration: &set.concentration_kg_per_m3,

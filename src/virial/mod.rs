@@ -199,14 +199,10 @@ pub fn score_temperature(
         )));
     }
     let mut warnings = Vec::new();
-    let given: Option<Vec<f64>> = set.pressure_sd_pa.iter().copied().collect();
-    if given.is_none() && set.pressure_sd_pa.iter().any(Option::is_some) {
+    let (all_sd, sd_kind) = noise.sds_for(set);
+    if sd_kind == Weights::Relative && set.pressure_sd_pa.iter().any(Option::is_some) {
         warnings.push(FitWarning::PartialWeights);
     }
-    let (all_sd, sd_kind) = match given {
-        Some(sd) => (Some(sd), Weights::Absolute),
-        None => (noise.shape(set), Weights::Relative),
-    };
     let readings = readings_of(set, all_sd.as_deref(), sd_kind);
     let (score, choice_reason, candidates, quadratic) = match choice {
         FormChoice::Fixed(form) => match score_form(form, &readings) {
@@ -528,11 +524,7 @@ pub fn choose_series_forms(sets: &[TemperatureSet], noise: PressureNoise) -> Ser
                 f.estimates.push(None);
                 continue;
             }
-            let given: Option<Vec<f64>> = set.pressure_sd_pa.iter().copied().collect();
-            let (sd, kind) = match given {
-                Some(sd) => (Some(sd), Weights::Absolute),
-                None => (noise.shape(set), Weights::Relative),
-            };
+            let (sd, kind) = noise.sds_for(set);
             let readings = readings_of(set, sd.as_deref(), kind);
             let n = set.len();
             let own = match family {

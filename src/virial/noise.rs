@@ -40,6 +40,15 @@ impl PressureNoise {
         }
     }
 
+    /// The SDs that weight a temperature's fits: the readings' own where every reading has one
+    /// (absolute), else this noise shape's (relative; `None`: unweighted).
+    pub fn sds_for(self, set: &TemperatureSet) -> (Option<Vec<f64>>, Weights) {
+        match set.pressure_sd_pa.iter().copied().collect::<Option<Vec<f64>>>() {
+            Some(given) => (Some(given), Weights::Absolute),
+            None => (self.shape(set), Weights::Relative),
+        }
+    }
+
     /// Relative σ_Π at each reading of `set` (`None`: unweighted), for [`Readings::pressure_sd`]
     /// with [`Weights::Relative`].
     pub fn shape(self, set: &TemperatureSet) -> Option<Vec<f64>> {
