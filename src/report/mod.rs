@@ -264,7 +264,7 @@ pub struct FitReport {
     pub virial_form: VirialForm,
     /// Why that form.
     pub virial_form_reason: String,
-    /// Forms considered by `--virial auto`, with their AICc (absent at detail `fits`).
+    /// Under `--virial auto`, each virial family with its AICc over all of the series' readings (absent at detail `fits`).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub virial_candidates: Option<Vec<Candidate>>,
     /// Whether per-point SDs weighted the fit.
