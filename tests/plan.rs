@@ -222,10 +222,17 @@ fn bad_plan_inputs_are_refused_and_nothing_is_written() {
 // ---- Solvent properties follow the solvent (issue #23) ----
 
 fn analyze_report(extra: &[&str]) -> Value {
+    analyze_file(Path::new("data/px40-osmometry.csv"), extra)
+}
+
+/// `analyze FILE EXTRA… --report -` run from the repository root, its report parsed.
+fn analyze_file(file: &Path, extra: &[&str]) -> Value {
     let root = Path::new(env!("CARGO_MANIFEST_DIR"));
     let out = thetaseek()
         .current_dir(root)
-        .args(["analyze", "data/px40-osmometry.csv", "--report", "-", "-q"])
+        .arg("analyze")
+        .arg(file)
+        .args(["--report", "-", "-q"])
         .args(extra)
         .assert()
         .success()
@@ -315,17 +322,8 @@ fn head_readings_take_each_solvents_density_from_the_table() {
     std::fs::write(&path, &heads).unwrap();
     let solvents = root.join("data/px40-solvents.csv");
     let theta_of = |file: &Path, extra: &[&str]| -> Vec<f64> {
-        let out = thetaseek()
-            .arg("analyze")
-            .arg(file)
-            .args(["--virial", "linear", "--report", "-", "-q"])
-            .args(extra)
-            .assert()
-            .success()
-            .get_output()
-            .stdout
-            .clone();
-        let v: Value = serde_json::from_slice(&out).unwrap();
+        let extra: Vec<&str> = ["--virial", "linear"].iter().chain(extra).copied().collect();
+        let v = analyze_file(file, &extra);
         v["series"].as_array().unwrap().iter().map(|s| s["theta"]["theta_k"].as_f64().unwrap()).collect()
     };
     let from_heads = theta_of(&path, &["--solvents", solvents.to_str().unwrap()]);
