@@ -12,7 +12,7 @@ static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
 
 fn main() -> ExitCode {
     let cli = cli::Cli::parse();
-    thetaseek::output::remove_partial_files_on_interrupt();
+    thetaseek::output::clean_up_on_signals();
     let result = match &cli.command {
         cli::Command::Analyze(args) => commands::analyze::run(args),
         cli::Command::Plan(args) => commands::plan::run(args),

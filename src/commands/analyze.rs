@@ -107,7 +107,9 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
     }
     super::check_one_stdout(outputs.iter().map(|o| &o.destination))?;
     check_outputs(&outputs, &input_paths(args))?;
-    // The figures folder is made only once every check has passed.
+    // The figures folder is made only once every check has passed, and removed again if it
+    // was new and the outputs could not be written.
+    let new_folder = args.figures.as_ref().filter(|dir| !dir.exists());
     if let Some(dir) = &args.figures {
         std::fs::create_dir_all(dir).map_err(|source| Error::Io {
             action: "cannot create",
@@ -116,7 +118,12 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
         })?;
     }
     let stdout_taken = outputs.iter().any(|o| o.destination == Destination::Stdout);
-    write_outputs(outputs)?;
+    if let Err(error) = write_outputs(outputs) {
+        if let Some(dir) = new_folder {
+            let _ = std::fs::remove_dir(dir);
+        }
+        return Err(error);
+    }
     if !args.quiet {
         super::print_terminal(&report, stdout_taken);
     }

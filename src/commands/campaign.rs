@@ -19,7 +19,7 @@ use thetaseek::analysis::{self, Settings};
 use thetaseek::dataset::{Dataset, Series};
 use thetaseek::error::Error;
 use thetaseek::input::{BlockReader, Opened, ReadOptions, BLOCK_BYTES};
-use thetaseek::output::{write_stream, AtomicFile, Destination};
+use thetaseek::output::{commit_all, target_of, write_in_place, write_stream, AtomicFile, Destination, Target};
 use thetaseek::report::{
     self, Detail, InputFile, Report, ReportSettings, ReportStream, SeriesFilter, SeriesReport, Tally,
 };
@@ -34,10 +34,12 @@ const CHUNK_SERIES: usize = 256;
 /// final sync took 0.10 s, now 0.03 s).
 const SYNC_BEHIND_BYTES: usize = 4 << 20;
 
-/// An output written as the run goes: a temporary file renamed at the end, or standard output
-/// (held until the end, so that a run that fails prints no partial report).
+/// An output written as the run goes: a temporary file renamed at the end, or standard output,
+/// a device or a pipe (held until the end, so that a run that fails writes no partial report).
 struct Sink {
     path: PathBuf,
+    /// Where held bytes go when the output is not a file.
+    target: Target,
     file: Option<AtomicFile>,
     held: Vec<u8>,
     written: u64,
@@ -46,14 +48,16 @@ struct Sink {
 
 impl Sink {
     fn open(destination: Destination) -> Result<Self, Error> {
-        let (path, file) = match destination {
-            Destination::Stdout => (PathBuf::from("-"), None),
-            Destination::File(path) => {
-                let file = AtomicFile::create(&path).map_err(|source| io_error(&path, source))?;
-                (path, Some(file))
-            }
+        let path = match &destination {
+            Destination::Stdout => PathBuf::from("-"),
+            Destination::File(path) => path.clone(),
         };
-        Ok(Sink { path, file, held: Vec::new(), written: 0, unsynced: 0 })
+        let target = target_of(&destination).map_err(|source| io_error(&path, source))?;
+        let file = match &target {
+            Target::Replace(real) => Some(AtomicFile::create(real, &path).map_err(|source| io_error(&path, source))?),
+            _ => None,
+        };
+        Ok(Sink { path, target, file, held: Vec::new(), written: 0, unsynced: 0 })
     }
 
     /// Moves what was written since the last call into the file, and every
@@ -91,14 +95,18 @@ impl Sink {
         Ok(())
     }
 
-    fn commit(mut self) -> Result<(), Error> {
+    /// Writes what is held: into the file (returned, to be committed with the others), or in
+    /// place (standard output, a device, a pipe).
+    fn close(mut self) -> Result<Option<AtomicFile>, Error> {
         self.flush()?;
         let path = self.path.clone();
-        match self.file.take() {
-            Some(file) => file.commit().map_err(|source| io_error(&path, source)),
-            None => write_stream(std::io::stdout().lock(), |w| w.write_all(&self.held))
-                .map_err(|source| io_error(&path, source)),
-        }
+        let written = match (&self.target, self.file.take()) {
+            (_, Some(file)) => return Ok(Some(file)),
+            (Target::InPlace(device), None) => write_in_place(device, |w| w.write_all(&self.held)),
+            _ => write_stream(std::io::stdout().lock(), |w| w.write_all(&self.held)),
+        };
+        written.map_err(|source| io_error(&path, source))?;
+        Ok(None)
     }
 }
 
@@ -277,9 +285,11 @@ impl<'a> Campaign<'a> {
             }
             None => None,
         };
+        let mut files = Vec::new();
         for sink in [json, self.table.take(), self.series_table.take()].into_iter().flatten() {
-            sink.commit()?;
+            files.extend(sink.close()?);
         }
+        commit_all(files).map_err(|(path, source)| io_error(&path, source))?;
         if !quiet {
             let text = self.tally.render(&report.routes, &report.warnings);
             if self.stdout_taken {

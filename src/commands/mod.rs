@@ -9,7 +9,9 @@ use std::path::{Path, PathBuf};
 use thetaseek::dataset::{Dataset, TabulatedRow};
 use thetaseek::error::Error;
 use thetaseek::input::{self, ReadOptions};
-use thetaseek::output::{same_file, write_atomic_with, write_stream, Destination};
+use thetaseek::output::{
+    commit_all, identity, same_file, target_of, write_in_place, write_stream, AtomicFile, Destination, Target,
+};
 use thetaseek::report::InputFile;
 use thetaseek::theta::Quantity;
 
@@ -146,22 +148,33 @@ pub fn print_terminal(report: &thetaseek::report::Report, stdout_taken: bool) {
     }
 }
 
-/// Refuses any output that would overwrite one of the inputs.
+/// Refuses any output that would overwrite one of the inputs, and two outputs to one file.
 pub fn check_outputs(outputs: &[PendingOutput], inputs: &[PathBuf]) -> Result<(), Error> {
     check_destinations(outputs.iter().map(|o| &o.destination), inputs)
 }
 
-/// [`check_outputs`] on destinations alone (a campaign checks them before writing anything).
+/// [`check_outputs`] on destinations alone (a campaign checks them before writing anything):
+/// an input reached by any name (itself, a symbolic or a hard link) is never an output, and
+/// no file receives two outputs.
 pub fn check_destinations<'d>(
     destinations: impl IntoIterator<Item = &'d Destination>,
     inputs: &[PathBuf],
 ) -> Result<(), Error> {
+    let mut seen: Vec<(PathBuf, &Path)> = Vec::new();
     for destination in destinations {
-        if let Destination::File(path) = destination {
-            if inputs.iter().any(|input| same_file(path, input)) {
-                return Err(Error::OutputIsInput(path.clone()));
-            }
+        let Destination::File(path) = destination else { continue };
+        if inputs.iter().any(|input| same_file(path, input)) {
+            return Err(Error::OutputIsInput(path.clone()));
         }
+        let Some(id) = identity(path) else { continue };
+        if let Some((_, first)) = seen.iter().find(|(other, _)| *other == id) {
+            return Err(Error::Setting(format!(
+                "two outputs would be written to one file: '{}' and '{}'; give each its own name",
+                first.display(),
+                path.display()
+            )));
+        }
+        seen.push((id, path));
     }
     Ok(())
 }
@@ -176,21 +189,43 @@ pub fn check_one_stdout<'d>(destinations: impl IntoIterator<Item = &'d Destinati
     Ok(())
 }
 
-/// Writes every pending output: files atomically, '-' to standard output.
+/// Writes every pending output, all or none: every destination is resolved and its temporary
+/// file created before anything is written; files are filled, then devices, pipes and standard
+/// output are written in place, and only then are the files renamed into place together.
 pub fn write_outputs(outputs: Vec<PendingOutput>) -> Result<(), Error> {
-    for out in outputs {
-        match &out.destination {
-            Destination::Stdout => write_stream(std::io::stdout().lock(), |w| out.write_to(w))
-                .map_err(|source| Error::Io { action: "cannot write", path: PathBuf::from("-"), source })?,
-            Destination::File(path) => write_atomic_with(path, |file| {
-                let mut buffered = std::io::BufWriter::with_capacity(1 << 20, file);
-                out.write_to(&mut buffered)?;
-                std::io::Write::flush(&mut buffered)
-            })
-            .map_err(|source| Error::Io { action: "cannot write", path: path.clone(), source })?,
+    let shown = |d: &Destination| match d {
+        Destination::Stdout => PathBuf::from("-"),
+        Destination::File(path) => path.clone(),
+    };
+    let failed = |path: PathBuf| move |source| Error::Io { action: "cannot write", path, source };
+    let mut files = Vec::new();
+    let mut in_place = Vec::new();
+    for out in &outputs {
+        let path = shown(&out.destination);
+        match target_of(&out.destination).map_err(failed(path.clone()))? {
+            Target::Replace(real) => {
+                files.push((AtomicFile::create(&real, &path).map_err(failed(path.clone()))?, out));
+            }
+            target => in_place.push((target, out)),
         }
     }
-    Ok(())
+    let mut staged = Vec::with_capacity(files.len());
+    for (mut file, out) in files {
+        let mut buffered = std::io::BufWriter::with_capacity(1 << 20, file.file());
+        out.write_to(&mut buffered)
+            .and_then(|_| std::io::Write::flush(&mut buffered))
+            .map_err(failed(shown(&out.destination)))?;
+        drop(buffered);
+        staged.push(file);
+    }
+    for (target, out) in in_place {
+        let written = match &target {
+            Target::InPlace(path) => write_in_place(path, |w| out.write_to(w)),
+            _ => write_stream(std::io::stdout().lock(), |w| out.write_to(w)),
+        };
+        written.map_err(failed(shown(&out.destination)))?;
+    }
+    commit_all(staged).map_err(|(path, source)| Error::Io { action: "cannot write", path, source })
 }
 
 /// Every input file read, hashed and grouped into one dataset.
