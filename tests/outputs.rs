@@ -193,3 +193,48 @@ fn two_outputs_to_one_file_or_an_output_hard_linked_to_an_input_are_refused() {
     thetaseek().arg("analyze").arg(&input).arg("--table").arg(&alias).assert().code(74);
     assert_eq!(std::fs::read_to_string(&input).unwrap(), std::fs::read_to_string(demo()).unwrap());
 }
+
+/// Issue #28, items 6 and 7: names that collide as file names, that a spreadsheet would run,
+/// or that hold control characters.
+#[test]
+fn every_figure_reaches_its_own_file_and_names_cannot_act_on_what_shows_them() {
+    let dir = tempfile::tempdir().unwrap();
+    let mut text = String::from("series,temperature (C),concentration (g/L),pressure (Pa)\n");
+    for name in ["x 3", "x", "X", "All series", "=1+1"] {
+        for (t, a2) in [(20.0, -1.0), (30.0, 0.5), (40.0, 2.0)] {
+            for c in [2.0, 4.0, 6.0, 8.0f64] {
+                let pressure = 8.314 * (273.15 + t) * c * (1.0 / 40.0 + a2 * 1e-4 * c) * (1.0 + 1e-3 * c.sin());
+                text.push_str(&format!("{name},{t},{c},{pressure:.4}\n"));
+            }
+        }
+    }
+    let input = write(dir.path(), "names.csv", &text);
+    let (figures, html, series) = (dir.path().join("figs"), dir.path().join("r.html"), dir.path().join("s.csv"));
+    thetaseek()
+        .arg("analyze")
+        .arg(&input)
+        .arg("-q")
+        .arg("--figures")
+        .arg(&figures)
+        .arg("--html")
+        .arg(&html)
+        .arg("--series-table")
+        .arg(&series)
+        .assert()
+        .success();
+    let shown = std::fs::read_to_string(&html).unwrap().matches("<figure").count();
+    assert_eq!(names(&figures).len(), shown, "{:?}", names(&figures));
+    assert_eq!(shown, 5 * 4 + 1);
+    // OWASP's rule for formula injection: an apostrophe in front, the cell quoted.
+    assert!(std::fs::read_to_string(&series).unwrap().contains("\n\"'=1+1\","));
+    // Control characters are refused with their line and code point.
+    for (bad, code) in
+        [("\u{1b}]0;pwned\u{7}", "U+001B"), ("a\u{b}b", "U+000B"), ("nul\0", "U+0000"), ("z\u{fffe}", "U+FFFE")]
+    {
+        let input = write(dir.path(), "bad.csv", &text.replacen("x 3,", &format!("{bad},"), 1));
+        let a = thetaseek().arg("analyze").arg(&input).assert().code(65);
+        let stderr = String::from_utf8_lossy(&a.get_output().stderr).into_owned();
+        assert!(stderr.contains("line 2") && stderr.contains(code), "{stderr}");
+        assert!(!stderr.contains('\u{1b}'), "{stderr:?}");
+    }
+}

@@ -88,6 +88,33 @@ pub fn read_input(path: &Path, max_mb: u64) -> Result<Vec<u8>, Error> {
     Ok(bytes)
 }
 
+/// Reads an earlier JSON report for `plan` or `next`: parsed, with no string holding a
+/// character that would act on the terminal or a figure (a hand-edited `\u001b`).
+pub fn read_report_json(path: &Path, max_mb: u64) -> Result<(serde_json::Value, InputFile), Error> {
+    let bytes = read_input(path, max_mb)?;
+    let name = path.display().to_string();
+    let value: serde_json::Value = serde_json::from_slice(&bytes).map_err(|e| {
+        thetaseek::error::InputError::at(&name, e.line(), None, None, format!("not a JSON report: {e}"))
+    })?;
+    fn hidden(v: &serde_json::Value) -> Option<char> {
+        match v {
+            serde_json::Value::String(s) => input::first_hidden_character(s).map(|(_, c)| c),
+            serde_json::Value::Array(items) => items.iter().find_map(hidden),
+            serde_json::Value::Object(map) => {
+                map.iter().find_map(|(k, v)| input::first_hidden_character(k).map(|(_, c)| c).or_else(|| hidden(v)))
+            }
+            _ => None,
+        }
+    }
+    if let Some(c) = hidden(&value) {
+        return Err(Error::Input(thetaseek::error::InputError::file(
+            &name,
+            format!("a text holds an invisible control character (U+{:04X}); remove it", c as u32),
+        )));
+    }
+    Ok((value, InputFile::new(&name, &bytes)))
+}
+
 /// A reader that hashes every byte it passes on, so that a file read a block at a time is
 /// still recorded with its SHA-256.
 pub(crate) struct Hashing<R> {

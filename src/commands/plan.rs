@@ -24,12 +24,10 @@ pub fn run(args: &PlanArgs) -> Result<(), Error> {
     let mut inputs: Vec<InputFile> = Vec::new();
     let mut series: Vec<PlanSeries> = Vec::new();
     for path in &reports {
-        let bytes = read_input(path, args.read.max_input_mb)?;
-        let name = path.display().to_string();
-        let value: serde_json::Value = serde_json::from_slice(&bytes)
-            .map_err(|e| InputError::at(&name, e.line(), None, None, format!("not a JSON report: {e}")))?;
+        let (value, input) = super::read_report_json(path, args.read.max_input_mb)?;
+        let name = input.path.clone();
         series.extend(PlanSeries::from_report_json(&value).map_err(|e| InputError::file(&name, e))?);
-        inputs.push(InputFile::new(&name, &bytes));
+        inputs.push(input);
     }
     if !data.is_empty() {
         let Loaded { inputs: data_inputs, dataset, .. } = load(&data, &options, args.read.max_input_mb)?;

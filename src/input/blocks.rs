@@ -105,6 +105,7 @@ impl<'a> BlockReader<'a> {
             source.read_to_end(&mut buffer).map_err(io)?;
             return read_file_owned(name, file_index, buffer, options).map(|c| Opened::Whole(Box::new(c)));
         };
+        check_utf8_from(name, &buffer[..header.data_start], 1)?;
         let roles = locate_roles(name, header.line, &cells)?;
         let header_bytes = buffer[..header.data_start].to_vec();
         buffer.drain(..header.data_start);

@@ -302,9 +302,13 @@ fn check_utf8(name: &str, bytes: &[u8]) -> Result<(), InputError> {
     check_utf8_from(name, bytes, 1)
 }
 
-/// [`check_utf8`] for bytes that start on line `first_line` of the file.
+/// [`check_utf8`] for bytes that start on line `first_line` of the file; the text must also
+/// hold no character that acts instead of being shown ([`first_hidden_character`]).
 fn check_utf8_from(name: &str, bytes: &[u8], first_line: usize) -> Result<(), InputError> {
-    let Err(e) = std::str::from_utf8(bytes) else { return Ok(()) };
+    let e = match std::str::from_utf8(bytes) {
+        Ok(text) => return check_hidden_from(name, text, first_line),
+        Err(e) => e,
+    };
     let before = &bytes[..e.valid_up_to()];
     let line = first_line + before.iter().filter(|b| **b == b'\n').count();
     let line_start = before.iter().rposition(|b| *b == b'\n').map_or(0, |p| p + 1);
@@ -315,6 +319,48 @@ fn check_utf8_from(name: &str, bytes: &[u8], first_line: usize) -> Result<(), In
         Some(&format!("field {field}")),
         None,
         "the text is not UTF-8 (perhaps Latin-1 or UTF-16 from a spreadsheet); save it as UTF-8 CSV",
+    ))
+}
+
+/// The first character of `text` that would act on a terminal, a spreadsheet or an XML reader
+/// instead of being shown (a series name that clears the screen or breaks every SVG): C0 and
+/// C1 controls other than tab and line ends, DEL, the bidirectional overrides and isolates,
+/// and the noncharacters U+FFFE and U+FFFF. Returns its byte offset.
+pub fn first_hidden_character(text: &str) -> Option<(usize, char)> {
+    let bytes = text.as_bytes();
+    let mut i = 0;
+    while i < bytes.len() {
+        let b = bytes[i];
+        if (0x20..0x7f).contains(&b) || matches!(b, b'\t' | b'\n' | b'\r') {
+            i += 1;
+            continue;
+        }
+        let ch = text[i..].chars().next()?;
+        if ch.is_control() || matches!(ch, '\u{202A}'..='\u{202E}' | '\u{2066}'..='\u{2069}' | '\u{FFFE}' | '\u{FFFF}')
+        {
+            return Some((i, ch));
+        }
+        i += ch.len_utf8();
+    }
+    None
+}
+
+/// Refuses text holding a [`first_hidden_character`], naming its line, field and code point.
+fn check_hidden_from(name: &str, text: &str, first_line: usize) -> Result<(), InputError> {
+    let Some((at, ch)) = first_hidden_character(text) else { return Ok(()) };
+    let before = &text.as_bytes()[..at];
+    let line = first_line + before.iter().filter(|b| **b == b'\n').count();
+    let line_start = before.iter().rposition(|b| *b == b'\n').map_or(0, |p| p + 1);
+    let field = 1 + before[line_start..].iter().filter(|b| **b == b',').count();
+    Err(InputError::at(
+        name,
+        line,
+        Some(&format!("field {field}")),
+        None,
+        format!(
+            "the text holds an invisible control character (U+{:04X}), which could act on a terminal or a spreadsheet; remove it",
+            ch as u32
+        ),
     ))
 }
 

@@ -26,6 +26,7 @@ use plotters::coord::types::RangedCoordf64;
 use plotters::element::{Drawable, PointCollection};
 use plotters::prelude::*;
 use plotters_backend::DrawingErrorKind;
+use std::collections::HashMap;
 
 /// A figure that could not be drawn.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
@@ -257,6 +258,45 @@ pub fn slug(name: &str) -> String {
     }
 }
 
+/// The file-name stem of the figures that show every series together.
+const ALL_SERIES: &str = "all-series";
+
+/// The longest slug kept whole in a file name, in bytes (file systems take 255).
+const MAX_SLUG_BYTES: usize = 80;
+
+/// The file-name stem of each series' figures, unique in the run and the same on every run of
+/// the same names: the [`slug`], or where the slug would be shared (`x`, `X` and `x!`), is the
+/// overlay's, or was shortened, the slug followed by the first eight hexadecimal digits of the
+/// name's SHA-256.
+pub fn file_bases<'a>(names: impl Iterator<Item = &'a str> + Clone) -> Vec<String> {
+    let slugs: Vec<String> = names.clone().map(slug).collect();
+    let mut count: HashMap<&str, usize> = HashMap::new();
+    for s in &slugs {
+        *count.entry(s.as_str()).or_default() += 1;
+    }
+    let bases: Vec<String> = names
+        .zip(&slugs)
+        .map(|(name, s)| {
+            let shared = count[s.as_str()] > 1 || s == ALL_SERIES || s.len() > MAX_SLUG_BYTES;
+            if !shared {
+                return s.clone();
+            }
+            let digest = sha2::Digest::finalize(<sha2::Sha256 as sha2::Digest>::new_with_prefix(name.as_bytes()));
+            let hex: String = digest[..4].iter().map(|b| format!("{b:02x}")).collect();
+            let cut = s.char_indices().map(|(i, _)| i).take_while(|i| *i <= MAX_SLUG_BYTES).last().unwrap_or(0);
+            let kept = if s.len() > MAX_SLUG_BYTES { s[..cut].trim_end_matches('-') } else { s.as_str() };
+            format!("{kept}-{hex}")
+        })
+        .collect();
+    // A name's digest that meets another's slug (vanishingly rare) falls back to positions.
+    let mut seen = std::collections::HashSet::new();
+    bases
+        .into_iter()
+        .enumerate()
+        .map(|(i, b)| if seen.insert(b.clone()) { b } else { format!("{b}-{}", i + 1) })
+        .collect()
+}
+
 /// One rendered figure and the file name it should have.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Figure {
@@ -270,15 +310,11 @@ pub struct Figure {
 /// (the last three for osmometry series), Zimm plots (light-scattering series), plus an overlay of all series when there are several.
 pub fn figures_for_report(report: &Report) -> Result<Vec<Figure>, FigureError> {
     let mut figures = Vec::new();
-    let mut used: Vec<String> = Vec::new();
+    let bases = file_bases(report.series.iter().map(|s| s.name.as_str()));
     let analysed: Vec<(usize, &SeriesReport)> =
         report.series.iter().enumerate().filter(|(_, s)| s.theta.is_some() || !s.fits.is_empty()).collect();
     for (i, s) in &analysed {
-        let mut base = slug(&s.name);
-        if used.contains(&base) {
-            base = format!("{base}-{}", i + 1);
-        }
-        used.push(base.clone());
+        let base = &bases[*i];
         let mut push = |kind: &str, svg: String| figures.push(Figure { file_name: format!("{base}-{kind}.svg"), svg });
         if s.theta.as_ref().is_some_and(|t| !t.points.is_empty()) {
             push("a2-temperature", render_svg(900, 600, |root| draw_a2_temperature(root, s, *i))?);
@@ -298,7 +334,7 @@ pub fn figures_for_report(report: &Report) -> Result<Vec<Figure>, FigureError> {
         analysed.into_iter().filter(|(_, s)| s.theta.as_ref().is_some_and(|t| !t.points.is_empty())).collect();
     if overlay.len() > 1 {
         figures.push(Figure {
-            file_name: "all-series-a2-temperature.svg".into(),
+            file_name: format!("{ALL_SERIES}-a2-temperature.svg"),
             svg: render_svg(900, 600, |root| draw_a2_overlay(root, &overlay))?,
         });
     }
@@ -327,6 +363,22 @@ pub fn with_cautions<'a>(
 #[cfg(test)]
 mod tests {
     use super::slug;
+
+    #[test]
+    fn figure_file_names_are_unique_and_stable() {
+        // Issue #28, item 7: `x 3`, `x` and `X` (and a series called "All series") wrote
+        // figures to the same files; the HTML showed 13 figures while 9 reached the disk.
+        let names = ["x 3", "x", "X", "All series", "y"];
+        let bases = super::file_bases(names.iter().copied());
+        let unique: std::collections::HashSet<&String> = bases.iter().collect();
+        assert_eq!(unique.len(), names.len(), "{bases:?}");
+        assert_eq!(bases[0], "x-3");
+        assert_eq!(bases[4], "y");
+        assert!(bases[1].starts_with("x-") && bases[3].starts_with("all-series-"), "{bases:?}");
+        assert_eq!(bases, super::file_bases(names.iter().copied()));
+        let long = "a".repeat(400);
+        assert!(super::file_bases([long.as_str()].into_iter())[0].len() < 100);
+    }
 
     #[test]
     fn slugs_are_safe_file_names() {

@@ -9,6 +9,10 @@
 
 use super::Report;
 
+/// The first characters that make a spreadsheet read a cell as a formula (OWASP, "CSV
+/// Injection": `=`, `+`, `-`, `@`, tab and carriage return).
+const FORMULA_STARTS: [char; 6] = ['=', '+', '-', '@', '\t', '\r'];
+
 /// One CSV line being written into `out`.
 struct Line<'a> {
     out: &'a mut Vec<u8>,
@@ -28,9 +32,19 @@ impl<'a> Line<'a> {
 
     fn text(&mut self, s: &str) {
         self.separate();
+        // A cell that a spreadsheet would run as a formula (a series named `=HYPERLINK(…)`) is
+        // set as text: a leading apostrophe, the cell quoted (OWASP, "CSV Injection").
+        let guarded;
+        let formula = s.starts_with(FORMULA_STARTS);
+        let s = if formula {
+            guarded = format!("'{s}");
+            guarded.as_str()
+        } else {
+            s
+        };
         if s.is_empty() {
             self.out.extend_from_slice(b"\"\"");
-        } else if s.bytes().any(|b| matches!(b, b',' | b'"' | b'\n' | b'\r')) {
+        } else if formula || s.bytes().any(|b| matches!(b, b',' | b'"' | b'\n' | b'\r')) {
             self.out.push(b'"');
             for piece in s.split_inclusive('"') {
                 self.out.extend_from_slice(piece.as_bytes());
@@ -201,7 +215,8 @@ mod tests {
     /// numbers from tiny to huge, non-finite included.
     #[test]
     fn fields_are_written_as_polars_writes_them() {
-        let texts = ["plain", "", "a,b", "say \"hi\"", "two\nlines", "cr\rhere", "\"", "θ-grade ≥ 2", "x\"\"y"];
+        let texts =
+            ["plain", "", "a,b", "say \"hi\"", "two\nlines", "cr\rhere", "\"", "θ-grade ≥ 2", "x\"\"y", "a=b-c"];
         let numbers = [
             Some(0.0),
             Some(-0.0),
@@ -241,5 +256,22 @@ mod tests {
             line.end();
         }
         assert_eq!(String::from_utf8(ours).unwrap(), String::from_utf8(expected).unwrap());
+    }
+
+    /// Issue #28, item 6: a series name beginning with `=`, `+`, `-` or `@` was written raw as
+    /// the first cell of a row, where a spreadsheet runs it. The rule is OWASP's ("CSV
+    /// Injection"): prefix an apostrophe and quote the cell; other texts are unchanged.
+    #[test]
+    fn a_cell_a_spreadsheet_would_run_as_a_formula_is_set_as_text() {
+        let mut out = Vec::new();
+        let mut line = Line::new(&mut out);
+        for text in ["=HYPERLINK(\"http://x\")", "+1", "-2+3", "@SUM(A1)", "\tx", "PX-40", "a=b"] {
+            line.text(text);
+        }
+        line.end();
+        assert_eq!(
+            String::from_utf8(out).unwrap(),
+            "\"'=HYPERLINK(\"\"http://x\"\")\",\"'+1\",\"'-2+3\",\"'@SUM(A1)\",\"'\tx\",PX-40,a=b\n"
+        );
     }
 }
