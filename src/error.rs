@@ -40,9 +40,21 @@ impl InputError {
             file: file.to_string(),
             line: Some(line),
             column: column.map(str::to_string),
-            value: value.map(str::to_string),
+            value: value.map(shortened),
             message: message.into(),
         }
+    }
+}
+
+/// The longest value quoted whole in a refusal, in characters.
+const MAX_QUOTED_CHARS: usize = 80;
+
+/// A value as a refusal quotes it: whole, or its start and its length when it is longer than
+/// [`MAX_QUOTED_CHARS`] (a refusal of a 32 MB line stays one line).
+fn shortened(value: &str) -> String {
+    match value.char_indices().nth(MAX_QUOTED_CHARS) {
+        None => value.to_string(),
+        Some((cut, _)) => format!("{}… ({} bytes in all)", &value[..cut], value.len()),
     }
 }
 

@@ -336,4 +336,11 @@ fn small_input_failures_say_what_they_are() {
         thetaseek().arg("analyze").arg(&small).args(["--max-input-mb", "0"]).assert().code(65).get_output().clone();
     let err = String::from_utf8_lossy(&out.stderr);
     assert!(err.contains("the file is 67 bytes, above the limit of 0 MB"), "{err}");
+
+    // UTF-16 without a byte-order mark got the decimal-comma hint.
+    let utf16 = dir.path().join("utf16.csv");
+    let text = std::fs::read_to_string(demo()).unwrap();
+    std::fs::write(&utf16, text.encode_utf16().flat_map(u16::to_le_bytes).collect::<Vec<u8>>()).unwrap();
+    let out = thetaseek().arg("analyze").arg(&utf16).assert().code(65).get_output().clone();
+    assert!(String::from_utf8_lossy(&out.stderr).contains("looks like UTF-16"));
 }

@@ -238,3 +238,58 @@ fn every_figure_reaches_its_own_file_and_names_cannot_act_on_what_shows_them() {
         assert!(!stderr.contains('\u{1b}'), "{stderr:?}");
     }
 }
+
+/// Issue #28, item 8: limits that limit. The size limit counted only what the file system
+/// reported (a pipe grew without bound); one long line cost time growing with its square
+/// and its refusal quoted it whole; refused series were each kept whole until the end.
+#[cfg(unix)]
+#[test]
+fn limits_count_bytes_read_lines_are_bounded_and_refused_series_are_not_kept() {
+    use std::io::Write;
+    // A pipe larger than the limit.
+    let mut child = std::process::Command::new(assert_cmd::cargo::cargo_bin("thetaseek"))
+        .args(["analyze", "/dev/stdin", "--max-input-mb", "1"])
+        .stdin(std::process::Stdio::piped())
+        .stderr(std::process::Stdio::piped())
+        .spawn()
+        .unwrap();
+    let mut stdin = child.stdin.take().unwrap();
+    let _ = stdin.write_all(&std::fs::read(demo()).unwrap());
+    let _ = stdin.write_all(&b"# a comment that pads the pipe\n".repeat(100_000));
+    drop(stdin);
+    let out = child.wait_with_output().unwrap();
+    let stderr = String::from_utf8_lossy(&out.stderr);
+    assert_eq!(out.status.code(), Some(65), "{stderr}");
+    assert!(stderr.contains("limit of 1 MB"), "{stderr}");
+    // A 32 MB line, in the middle of a file read in blocks: refused at once, in one short line.
+    let dir = tempfile::tempdir().unwrap();
+    let mut text = String::from("series,temperature (C),concentration (g/L),pressure (Pa)\n");
+    for i in 0..20_000 {
+        text.push_str(&format!("s{},{},{},{}\n", i / 20, 20 + i % 4, 1 + i % 5, 10 + i % 7));
+    }
+    text.push_str(&format!("z,25,4,{}\n", "9".repeat(32 << 20)));
+    let long = write(dir.path(), "long.csv", &text);
+    let a = thetaseek().arg("analyze").arg(&long).assert().code(65);
+    let stderr = String::from_utf8_lossy(&a.get_output().stderr).into_owned();
+    assert!(stderr.contains("line 20002") && stderr.contains("pressure (Pa)") && stderr.len() < 400, "{stderr}");
+}
+
+#[test]
+fn a_refused_osmometry_series_is_reported_as_osmometry_and_not_kept_as_another_route() {
+    // Found measuring item 8: a refused osmometry series had no fits and was labelled
+    // "a2_table", so a campaign kept every one of them for the route comparison (10⁶ refused
+    // one-row series held 1.4 GB; now 0.13 GB).
+    let dir = tempfile::tempdir().unwrap();
+    let mut text = String::from("series,temperature (C),concentration (g/L),pressure (Pa)\n");
+    text.push_str("one,25,2,26.9\n");
+    for (t, a2) in [(20.0, -1.0), (30.0, 0.5), (40.0, 2.0)] {
+        for c in [2.0, 4.0, 6.0, 8.0f64] {
+            let pressure = 8.314 * (273.15 + t) * c * (1.0 / 40.0 + a2 * 1e-4 * c) * (1.0 + 1e-3 * c.cos());
+            text.push_str(&format!("good,{t},{c},{pressure:.4}\n"));
+        }
+    }
+    let input = write(dir.path(), "two.csv", &text);
+    let report = common::json_stdout(thetaseek().arg("analyze").arg(&input).args(["-q", "--report", "-"]));
+    let routes: Vec<&str> = report["series"].as_array().unwrap().iter().map(|s| s["route"].as_str().unwrap()).collect();
+    assert_eq!(routes, ["osmometry", "osmometry"]);
+}

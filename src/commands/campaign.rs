@@ -388,7 +388,7 @@ pub fn stream(
     let path = &args.files[0];
     let name = path.display().to_string();
     let file = open_input(path, args.read.max_input_mb)?;
-    let file_bytes = file.metadata().map(|m| m.len()).unwrap_or(0);
+    let file_bytes = file.size();
     let mut source = hashing(file);
     let mut reader = match BlockReader::open(&name, 0, &mut source, options, BLOCK_BYTES)? {
         Opened::Blocks(reader) => reader,

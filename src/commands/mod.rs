@@ -58,32 +58,68 @@ impl<'a> PendingOutput<'a> {
 }
 
 /// Opens an input file for reading (inputs are only ever opened for reading), refusing one
-/// larger than `max_mb` megabytes before reading it.
-pub fn open_input(path: &Path, max_mb: u64) -> Result<std::fs::File, Error> {
+/// larger than `max_mb` megabytes before reading it; a pipe or device, whose size is not
+/// known beforehand, is refused as soon as that many bytes have been read ([`Limited`]).
+pub fn open_input(path: &Path, max_mb: u64) -> Result<Limited<std::fs::File>, Error> {
     let io = |source| Error::Io { action: "cannot read", path: path.to_path_buf(), source };
     let file = std::fs::File::open(path).map_err(io)?;
     let metadata = file.metadata().map_err(io)?;
     if metadata.is_dir() {
         return Err(io(std::io::Error::other("it is a folder, not a file")));
     }
+    let limit = max_mb.saturating_mul(1 << 20);
     let size = metadata.len();
-    if size > max_mb.saturating_mul(1 << 20) {
+    if size > limit {
         let shown = if size < 1 << 20 { format!("{size} bytes") } else { format!("{} MB", size >> 20) };
-        return Err(Error::Input(thetaseek::error::InputError::file(
-            &path.display().to_string(),
-            format!("the file is {shown}, above the limit of {max_mb} MB; raise it with --max-input-mb"),
-        )));
+        return Err(too_large(path, &format!("the file is {shown}, above the limit of {max_mb} MB")));
     }
-    Ok(file)
+    Ok(Limited { inner: file, left: limit, max_mb })
+}
+
+fn too_large(path: &Path, what: &str) -> Error {
+    Error::Input(thetaseek::error::InputError::file(
+        &path.display().to_string(),
+        format!("{what}; raise it with --max-input-mb"),
+    ))
+}
+
+/// A reader that fails once more than its limit has been read: the input limit counted in
+/// bytes read, for inputs whose size the file system does not tell (a pipe, `/dev/urandom`).
+pub struct Limited<R> {
+    inner: R,
+    left: u64,
+    max_mb: u64,
+}
+
+impl Limited<std::fs::File> {
+    /// The file's size as the file system gives it (0 for a pipe).
+    pub fn size(&self) -> u64 {
+        self.inner.metadata().map(|m| m.len()).unwrap_or(0)
+    }
+}
+
+impl<R: std::io::Read> std::io::Read for Limited<R> {
+    fn read(&mut self, buf: &mut [u8]) -> std::io::Result<usize> {
+        let n = self.inner.read(buf)?;
+        self.left = self.left.checked_sub(n as u64).ok_or_else(|| {
+            std::io::Error::new(
+                std::io::ErrorKind::FileTooLarge,
+                format!("more than the limit of {} MB was read; raise it with --max-input-mb", self.max_mb),
+            )
+        })?;
+        Ok(n)
+    }
 }
 
 /// Reads an input file whole (see [`open_input`]).
 pub fn read_input(path: &Path, max_mb: u64) -> Result<Vec<u8>, Error> {
     let mut bytes = Vec::new();
-    std::io::Read::read_to_end(&mut open_input(path, max_mb)?, &mut bytes).map_err(|source| Error::Io {
-        action: "cannot read",
-        path: path.to_path_buf(),
-        source,
+    std::io::Read::read_to_end(&mut open_input(path, max_mb)?, &mut bytes).map_err(|source| {
+        if source.kind() == std::io::ErrorKind::FileTooLarge {
+            too_large(path, &format!("more than {max_mb} MB were read"))
+        } else {
+            Error::Io { action: "cannot read", path: path.to_path_buf(), source }
+        }
     })?;
     Ok(bytes)
 }
@@ -283,7 +319,7 @@ pub fn load(files: &[PathBuf], options: &ReadOptions, max_mb: u64) -> Result<Loa
     Ok(loading.finish())
 }
 
-pub(crate) fn hashing(file: std::fs::File) -> Hashing<std::fs::File> {
+pub(crate) fn hashing<R: std::io::Read>(file: R) -> Hashing<R> {
     Hashing { inner: file, hasher: sha2::Sha256::default() }
 }
 

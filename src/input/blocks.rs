@@ -92,7 +92,16 @@ impl<'a> BlockReader<'a> {
             match scan_header(&buffer) {
                 Some(h) if at_end || buffer[..h.data_start].ends_with(b"\n") => break Some(h),
                 None if at_end => break None,
-                _ => at_end = fill(source, &mut buffer, block_bytes).map_err(io)?,
+                // A header line longer than a block: read on by the buffer's own length, so
+                // that rescanning from its start stays linear in the line's length.
+                _ if buffer.len() > super::scan::MAX_RECORD_BYTES => {
+                    let field = super::scan::overlong(&buffer, 0, buffer.len()).unwrap_or(1);
+                    return Err(super::too_long(name, 1, None, field));
+                }
+                _ => {
+                    let more = buffer.len().max(block_bytes);
+                    at_end = fill(source, &mut buffer, more).map_err(io)?
+                }
             }
         };
         let header = header.filter(|_| !at_end);
@@ -181,7 +190,16 @@ impl<'a> BlockReader<'a> {
         if self.at_end {
             return Ok(false);
         }
-        self.at_end = fill(self.source, &mut self.buffer, self.block_bytes).map_err(|e| read_error(name, e))?;
+        // No whole record in hand (a line longer than a block): double what is held rather than
+        // add a block, so that the rescans of the line cost twice its length, not its square.
+        if block.consumed == 0 {
+            if let Some(field) = super::scan::overlong(&self.buffer, 0, self.buffer.len()) {
+                let column = self.fields.get(field - 1).map(String::as_str);
+                return Err(super::too_long(name, self.line, column, field));
+            }
+        }
+        let more = if block.consumed == 0 { self.buffer.len().max(self.block_bytes) } else { self.block_bytes };
+        self.at_end = fill(self.source, &mut self.buffer, more).map_err(|e| read_error(name, e))?;
         Ok(true)
     }
 

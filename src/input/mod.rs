@@ -305,6 +305,18 @@ fn check_utf8(name: &str, bytes: &[u8]) -> Result<(), InputError> {
 /// [`check_utf8`] for bytes that start on line `first_line` of the file; the text must also
 /// hold no character that acts instead of being shown ([`first_hidden_character`]).
 fn check_utf8_from(name: &str, bytes: &[u8], first_line: usize) -> Result<(), InputError> {
+    // UTF-16 without a byte-order mark is valid UTF-8 when its text is ASCII: every other byte
+    // is zero. Said as such, not as a control character or a decimal comma.
+    let start = &bytes[..bytes.len().min(256)];
+    if start.len() >= 4 && start.iter().filter(|b| **b == 0).count() * 3 >= start.len() {
+        return Err(InputError::at(
+            name,
+            first_line,
+            None,
+            None,
+            "the text looks like UTF-16 (every other byte is zero), as some spreadsheets save it; save it as UTF-8 CSV",
+        ));
+    }
     let e = match std::str::from_utf8(bytes) {
         Ok(text) => return check_hidden_from(name, text, first_line),
         Err(e) => e,
@@ -364,9 +376,28 @@ fn check_hidden_from(name: &str, text: &str, first_line: usize) -> Result<(), In
     ))
 }
 
+/// The refusal of a line longer than [`scan::MAX_RECORD_BYTES`], at `field` (its header name
+/// when known).
+fn too_long(name: &str, line: usize, column: Option<&str>, field: usize) -> InputError {
+    let column = column.map_or_else(|| format!("field {field}"), str::to_string);
+    InputError::at(
+        name,
+        line,
+        Some(&column),
+        None,
+        format!(
+            "the line is longer than {} MB, far more than any reading needs: a damaged file, or not a data file",
+            scan::MAX_RECORD_BYTES >> 20
+        ),
+    )
+}
+
 fn check_structure(name: &str, layout: &Layout) -> Result<(), InputError> {
     let width = layout.header.len();
     for record in &layout.records {
+        if let Some(field) = record.too_long {
+            return Err(too_long(name, record.line, layout.header.get(field - 1).map(String::as_str), field));
+        }
         if let Some(field) = record.stray_quote {
             let column = layout.header.get(field - 1).cloned().unwrap_or_else(|| format!("field {field}"));
             return Err(InputError::at(

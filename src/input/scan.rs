@@ -13,6 +13,19 @@ pub struct RecordLine {
     /// The 1-based field in which text follows a closing quote (`"4.00"x`), if any: malformed
     /// quoting, which the CSV reader would refuse with a byte offset only.
     pub stray_quote: Option<usize>,
+    /// The 1-based field at which the record passes [`MAX_RECORD_BYTES`], if it does.
+    pub too_long: Option<usize>,
+}
+
+/// The longest data line read, in bytes: a reading takes a few dozen; a longer line is a
+/// damaged or wrong file, refused before the CSV reader (whose time grows faster than the
+/// line) sees it.
+pub const MAX_RECORD_BYTES: usize = 1 << 20;
+
+/// The 1-based field holding byte [`MAX_RECORD_BYTES`] of the record `bytes[pos..end]`, when the
+/// record is longer than that.
+pub fn overlong(bytes: &[u8], pos: usize, end: usize) -> Option<usize> {
+    (end - pos > MAX_RECORD_BYTES).then(|| 1 + memchr::memchr_iter(b',', &bytes[pos..pos + MAX_RECORD_BYTES]).count())
 }
 
 /// The structure of a CSV file: its header fields and the records after it.
@@ -109,7 +122,13 @@ pub fn scan_records(bytes: &[u8], first_line: usize, at_end: bool) -> Records {
             }
             // Data rows are only counted, not copied.
             if bytes[pos] != b'#' {
-                records.push(RecordLine { line, n_fields, blank: is_blank(&bytes[pos..i]), stray_quote: None });
+                records.push(RecordLine {
+                    line,
+                    n_fields,
+                    blank: is_blank(&bytes[pos..i]),
+                    stray_quote: None,
+                    too_long: overlong(bytes, pos, i),
+                });
             }
             (line, pos, n_fields) = (line + 1, i + 1, 1);
         }
@@ -130,9 +149,10 @@ pub fn scan_records(bytes: &[u8], first_line: usize, at_end: bool) -> Records {
         let start_line = line;
         line += newlines + usize::from(end < bytes.len());
         let comment = bytes[pos] == b'#';
+        let too_long = overlong(bytes, pos, end);
         pos = next;
         if !comment {
-            records.push(RecordLine { line: start_line, n_fields, blank, stray_quote });
+            records.push(RecordLine { line: start_line, n_fields, blank, stray_quote, too_long });
         }
     }
     Records { records, consumed: pos, next_line: line }
@@ -279,9 +299,10 @@ mod tests {
             let start_line = line;
             line += newlines + usize::from(end < bytes.len());
             let comment = bytes[pos] == b'#';
+            let too_long = overlong(bytes, pos, end);
             pos = if end < bytes.len() { end + 1 } else { end };
             if !comment {
-                records.push(RecordLine { line: start_line, n_fields, blank, stray_quote });
+                records.push(RecordLine { line: start_line, n_fields, blank, stray_quote, too_long });
             }
         }
         Records { records, consumed: pos, next_line: line }

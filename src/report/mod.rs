@@ -429,7 +429,9 @@ impl SeriesReport {
             fits,
             skipped_temperatures,
             theta,
-            route: match (result.fits.is_empty(), result.quantity) {
+            // Osmometry gives every temperature a fit or a skip (a refused series only skips);
+            // a table of A2 or χ has neither.
+            route: match (result.fits.is_empty() && result.skipped.is_empty(), result.quantity) {
                 (false, _) => "osmometry",
                 (true, crate::theta::Quantity::SecondVirial) => "a2_table",
                 (true, crate::theta::Quantity::HalfMinusChi) => "chi_table",
