@@ -9,7 +9,7 @@ use proptest::prelude::*;
 use thetaseek::analysis::{analyze, Settings};
 use thetaseek::dataset::Dataset;
 use thetaseek::input::{read_file, read_solvents, ReadOptions};
-use thetaseek::report::{render_terminal, table_csv, to_json, Report, ReportSettings};
+use thetaseek::report::{render_terminal, series_table_csv, table_csv, to_json, Report, ReportSettings, SeriesFilter};
 use thetaseek::theta::{Quantity, ThetaSettings};
 
 mod common;
@@ -21,17 +21,12 @@ fn pipeline(bytes: &[u8]) {
     let options = ReadOptions { solvent_density_kg_per_m3: Some(870.0), ..ReadOptions::default() };
     let in_blocks = thetaseek::input::read_source("fuzz.csv", 0, &mut &bytes[..], &options, 48);
     let whole = read_file("fuzz.csv", 0, bytes, &options);
-    if let (Ok(a), Ok(b)) = (&in_blocks, &whole) {
-        assert_eq!(a, b, "a read in blocks differs from the whole read");
+    match (&in_blocks, &whole) {
+        (Ok(a), Ok(b)) => assert_eq!(a, b, "a read in blocks differs from the whole read"),
+        (Err(_), Err(_)) => {}
+        (a, b) => panic!("read in blocks: {:?}\nread whole: {:?}", a.as_ref().err(), b.as_ref().err()),
     }
-    let Ok(contents) = read_file(
-        "fuzz.csv",
-        0,
-        bytes,
-        &ReadOptions { solvent_density_kg_per_m3: Some(870.0), ..ReadOptions::default() },
-    ) else {
-        return;
-    };
+    let Ok(contents) = whole else { return };
     let (a2, chi): (Vec<_>, Vec<_>) = match contents.quantity {
         Some(Quantity::SecondVirial) => (contents.tabulated.clone(), Vec::new()),
         Some(Quantity::HalfMinusChi) => (Vec::new(), contents.tabulated.clone()),
@@ -44,10 +39,23 @@ fn pipeline(bytes: &[u8]) {
     };
     let results = analyze(&dataset.series, &dataset.tabulated, &settings);
     let report = Report::new(Vec::new(), ReportSettings::new("auto"), Vec::new(), &results, &dataset);
-    let _ = to_json(&report);
+    // Every output, as the command writes them: no NaN or infinity in the JSON, nothing in
+    // the terminal text that acts instead of being shown, every SVG and the HTML well-formed.
+    let mut json = String::from_utf8(to_json(&report)).unwrap();
+    for s in &report.series {
+        json = json.replace(&s.name, "(name)"); // a series may be called "NaN"
+    }
+    assert!(!json.contains("NaN") && !json.contains("inf"), "a non-finite number reached the report: {json}");
     let _ = table_csv(&report);
-    let _ = render_terminal(&report);
-    let _ = thetaseek::plot::figures_for_report(&report);
+    let _ = series_table_csv(&report, SeriesFilter::All);
+    let terminal = render_terminal(&report);
+    assert!(thetaseek::input::first_hidden_character(&terminal).is_none(), "{terminal:?}");
+    let figures = thetaseek::plot::figures_for_report(&report).unwrap_or_default();
+    for figure in &figures {
+        assert!(roxmltree::Document::parse(&figure.svg).is_ok(), "{} is not well-formed", figure.file_name);
+    }
+    let html = thetaseek::report::html::analyze_html(&report, &figures, "2026-01-01");
+    common::parse_html(&html);
 }
 
 const VALID: &str = "# a comment\n\
@@ -60,7 +68,8 @@ b,35,2,26.9,0.4\nb,35,4,55.1,0.4\nb,35,6,84.6,0.5\nb,35,8,115.0,0.6\n";
 
 const TOKENS: &[&str] = &[
     "1e-320", "1,5", "NaN", "inf", "-0", "", "   ", "1e308", "\"2\"", "0x1A", "1_000", "٣", "-1", "0", "1e-300", "\"",
-    "#", "\u{feff}", "2.5e", "+3", ".5", "5.", "K", "(C)", "[g/L]",
+    "#", "\u{feff}", "2.5e", "+3", ".5", "5.", "K", "(C)", "[g/L]", "=1+1", "@x", "\u{1b}[2J", "\u{b}", "\0", "\u{fffe}",
+    "\u{202e}", "All series", "A", "a ",
 ];
 
 #[derive(Debug, Clone)]

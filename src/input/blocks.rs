@@ -86,7 +86,6 @@ impl<'a> BlockReader<'a> {
         let io = |e| read_error(name, e);
         let mut buffer = Vec::new();
         let mut at_end = fill(source, &mut buffer, block_bytes).map_err(io)?;
-        super::check_line_ends(name, &buffer)?;
         // Read on until the header line is complete (a block may end inside it) or the file ends.
         let header = loop {
             match scan_header(&buffer) {
@@ -95,6 +94,7 @@ impl<'a> BlockReader<'a> {
                 // A header line longer than a block: read on by the buffer's own length, so
                 // that rescanning from its start stays linear in the line's length.
                 _ if buffer.len() > super::scan::MAX_RECORD_BYTES => {
+                    super::check_line_ends(name, &buffer)?;
                     let field = super::scan::overlong(&buffer, 0, buffer.len()).unwrap_or(1);
                     return Err(super::too_long(name, 1, None, field));
                 }
@@ -104,6 +104,8 @@ impl<'a> BlockReader<'a> {
                 }
             }
         };
+        // Judged on the header's whole line (a first block may end before its line end).
+        super::check_line_ends(name, &buffer)?;
         let header = header.filter(|_| !at_end);
         let cells: Vec<super::HeaderCell> =
             header.as_ref().map(|h| h.fields.iter().map(|f| parse_header_cell(f)).collect()).unwrap_or_default();

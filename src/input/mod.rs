@@ -41,6 +41,10 @@ pub const MAX_CONCENTRATION_KG_PER_M3: f64 = 2000.0;
 /// below it, the squares a fit forms stay finite (a pressure of 1e308 Pa made NaN ± NaN).
 pub const MAX_MAGNITUDE_SI: f64 = 1e12;
 
+/// Above 1000 K every polymer has decomposed and every solvent boiled off: a temperature there
+/// is a slip (1e308 °C summed to an infinite temperature).
+pub const MAX_TEMPERATURE_K: f64 = 1000.0;
+
 /// Settings that supply what a file's header leaves out.
 #[derive(Debug, Clone, Default, PartialEq)]
 pub struct ReadOptions {
@@ -915,6 +919,13 @@ impl<'a> Table<'a> {
             let t = unit.to_kelvin(*x);
             if t <= 0.0 {
                 return Err(self.refuse(col, row, "a temperature must lie above absolute zero (0 K)"));
+            }
+            if t > MAX_TEMPERATURE_K {
+                return Err(self.refuse(
+                    col,
+                    row,
+                    "a temperature above 1000 K (727 °C), where no polymer solution exists: check the value and its unit",
+                ));
             }
             out.push(t);
         }
