@@ -70,15 +70,15 @@ fn in_target(s: &Summary) -> bool {
 
 fn header(first: &str) {
     println!(
-        "| {first} | θ reported | coverage | by fifth of line χ²/ν (lowest first) | median width K | unbounded | flagged | Mn SE cov | A2 SE cov | Mn alarm |"
+        "| {first} | θ reported | coverage | by fifth of line χ²/ν (lowest first) | median width K | unbounded | flagged | Mn SE cov | A2 SE cov | Mn alarm | Π-falls alarm |"
     );
-    println!("| --- | --- | --- | --- | --- | --- | --- | --- | --- | --- |");
+    println!("| --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- |");
 }
 
 fn row(label: &str, s: &Summary) {
     let fifths: Vec<String> = s.by_fifth.iter().map(|(c, _)| format!("{:.0}", 100.0 * c)).collect();
     println!(
-        "| {label} | {:.0} % | {:.1} % | {} | {} | {:.1} % | {:.1} % | {:.1} % | {:.1} % | {:.1} % |",
+        "| {label} | {:.0} % | {:.1} % | {} | {} | {:.1} % | {:.1} % | {:.1} % | {:.1} % | {:.1} % | {:.2} % |",
         100.0 * s.reported as f64 / s.series as f64,
         100.0 * s.coverage,
         fifths.join(" / "),
@@ -87,6 +87,7 @@ fn row(label: &str, s: &Summary) {
         100.0 * s.design_warned,
         100.0 * s.mn_coverage,
         100.0 * s.a2_coverage,
-        100.0 * s.mn_alarm_rate
+        100.0 * s.mn_alarm_rate,
+        100.0 * s.stability_alarm_rate
     );
 }

@@ -17,8 +17,6 @@ const CATALOGUE: &[Case] = &[
     ("zero_concentration.csv", Some(4), Some("concentration (g/mL)"), Some("0")),
     ("negative_concentration.csv", Some(2), Some("concentration (g/mL)"), Some("-0.002")),
     ("below_absolute_zero.csv", Some(3), Some("temperature (K)"), Some("-4")),
-    ("negative_pressure.csv", Some(4), Some("pressure (Pa)"), Some("-75.3")),
-    ("negative_head.csv", Some(3), Some("head (cm)"), Some("-0.59")),
     ("short_row.csv", Some(4), Some("pressure (Pa) (missing)"), None),
     ("long_row.csv", Some(4), Some("field 5 (beyond the header)"), None),
     ("decimal_comma.csv", Some(3), Some("field 5 (beyond the header)"), None),

@@ -165,3 +165,19 @@ fn malformed_quoting_is_refused_with_its_line_and_column() {
         .to_string();
     assert!(err.contains("line 20002") && err.contains("closing quote"), "{err}");
 }
+
+/// Found by the long fuzz run of issue #28: a quote that opens in the last row and never
+/// closes was accepted by the read in blocks and refused by the whole read with the CSV
+/// reader's byte offset. Both now refuse it with its line and column.
+#[test]
+fn a_quote_that_never_closes_is_refused_with_its_line_whole_and_in_blocks() {
+    let text = "series,temperature (C),concentration (g/L),pressure (Pa),pressure sd (Pa)\n\
+        a,20,2,24.8,0.4\na,20,4,46.9,0.4\na,20,6,66.9,\"0.6\n";
+    let whole = read_file("q.csv", 0, text.as_bytes(), &ReadOptions::default()).unwrap_err().to_string();
+    let mut source = text.as_bytes();
+    let blocks =
+        thetaseek::input::read_source("q.csv", 0, &mut source, &ReadOptions::default(), 48).unwrap_err().to_string();
+    for err in [whole, blocks] {
+        assert!(err.contains("line 4") && err.contains("pressure sd (Pa)") && err.contains("never closed"), "{err}");
+    }
+}

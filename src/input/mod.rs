@@ -402,6 +402,16 @@ fn check_structure(name: &str, layout: &Layout) -> Result<(), InputError> {
         if let Some(field) = record.too_long {
             return Err(too_long(name, record.line, layout.header.get(field - 1).map(String::as_str), field));
         }
+        if let Some(field) = record.unclosed_quote {
+            let column = layout.header.get(field - 1).cloned().unwrap_or_else(|| format!("field {field}"));
+            return Err(InputError::at(
+                name,
+                record.line,
+                Some(&column),
+                None,
+                "a double quote opens here and is never closed: remove it, or close it after the value",
+            ));
+        }
         if let Some(field) = record.stray_quote {
             let column = layout.header.get(field - 1).cloned().unwrap_or_else(|| format!("field {field}"));
             return Err(InputError::at(
@@ -811,6 +821,23 @@ impl<'a> Table<'a> {
         })
     }
 
+    /// A measured column whose readings may fall below zero by baseline noise (an osmotic
+    /// pressure or head near zero): only magnitudes beyond [`MAX_MAGNITUDE_SI`] are refused here;
+    /// the fit judges negative readings against the others at their temperature.
+    fn signed_column(&self, col: usize, to_si: impl Fn(f64) -> f64) -> Result<Vec<f64>, (usize, InputError)> {
+        self.parse_column(col, false, |row, x| {
+            let v = to_si(x);
+            if v.abs() > MAX_MAGNITUDE_SI {
+                return Err(self.refuse(
+                    col,
+                    row,
+                    "the value is beyond any physical one for this column (above 10¹² in SI units): check the value and its unit",
+                ));
+            }
+            Ok(v)
+        })
+    }
+
     /// The unit written in the header, or the one given by `flag` when the header has none.
     /// A header unit that disagrees with the flag is refused rather than silently preferred.
     fn unit<U>(&self, col: usize, fallback: Option<U>, flag: &str) -> Result<U, InputError>
@@ -1091,11 +1118,9 @@ fn read_osmometry(table: &Table, options: &ReadOptions) -> Result<OsmometryColum
     // pressure (or head, density), sd, series, concentration.
     let pressure = || -> Result<Vec<f64>, (usize, InputError)> {
         match &source {
-            Source::Pressure(col, unit) => {
-                table.checked_column(*col, false, |x| unit.to_si(x), true, "an osmotic pressure cannot be negative")
-            }
+            Source::Pressure(col, unit) => table.signed_column(*col, |x| unit.to_si(x)),
             Source::Head(col, unit, density) => {
-                let h = table.checked_column(*col, false, |x| unit.to_si(x), true, "a head cannot be negative");
+                let h = table.signed_column(*col, |x| unit.to_si(x));
                 if density.is_none() && !options.solvent_densities.is_empty() {
                     // Each row's solvent density is looked up once the names are read (below).
                     return h;

@@ -15,6 +15,9 @@ pub struct RecordLine {
     pub stray_quote: Option<usize>,
     /// The 1-based field at which the record passes [`MAX_RECORD_BYTES`], if it does.
     pub too_long: Option<usize>,
+    /// The 1-based field whose opening quote is never closed (the record runs to the end of
+    /// the file), if any.
+    pub unclosed_quote: Option<usize>,
 }
 
 /// The longest data line read, in bytes: a reading takes a few dozen; a longer line is a
@@ -128,6 +131,7 @@ pub fn scan_records(bytes: &[u8], first_line: usize, at_end: bool) -> Records {
                     blank: is_blank(&bytes[pos..i]),
                     stray_quote: None,
                     too_long: overlong(bytes, pos, i),
+                    unclosed_quote: None,
                 });
             }
             (line, pos, n_fields) = (line + 1, i + 1, 1);
@@ -137,8 +141,8 @@ pub fn scan_records(bytes: &[u8], first_line: usize, at_end: bool) -> Records {
         }
         // The record at `pos` holds a quote, or runs to the end of the bytes. A comment ends at
         // its line end whatever it holds: a quote in it opens nothing.
-        let (end, newlines, n_fields, blank, stray_quote) = if bytes[pos] == b'#' {
-            (memchr::memchr(b'\n', &bytes[pos..]).map_or(bytes.len(), |e| pos + e), 0, 1, false, None)
+        let (end, newlines, n_fields, blank, stray_quote, unclosed_quote) = if bytes[pos] == b'#' {
+            (memchr::memchr(b'\n', &bytes[pos..]).map_or(bytes.len(), |e| pos + e), 0, 1, false, None, None)
         } else {
             record_at(bytes, pos)
         };
@@ -152,7 +156,7 @@ pub fn scan_records(bytes: &[u8], first_line: usize, at_end: bool) -> Records {
         let too_long = overlong(bytes, pos, end);
         pos = next;
         if !comment {
-            records.push(RecordLine { line: start_line, n_fields, blank, stray_quote, too_long });
+            records.push(RecordLine { line: start_line, n_fields, blank, stray_quote, too_long, unclosed_quote });
         }
     }
     Records { records, consumed: pos, next_line: line }
@@ -191,14 +195,18 @@ fn is_blank(text: &[u8]) -> bool {
 /// before the newline, or the end of `bytes`), the line breaks inside it (quoted fields may
 /// span lines), its field count, whether it is blank, and the first field where text follows a
 /// closing quote.
-fn record_at(bytes: &[u8], pos: usize) -> (usize, usize, usize, bool, Option<usize>) {
+fn record_at(bytes: &[u8], pos: usize) -> (usize, usize, usize, bool, Option<usize>, Option<usize>) {
     let (mut in_quotes, mut newlines, mut n_fields, mut stray) = (false, 0, 1, None);
+    let mut opened_in = 0;
     let mut i = pos;
     let end = loop {
         let Some(&b) = bytes.get(i) else { break bytes.len() };
         match b {
             b'"' => {
                 in_quotes = !in_quotes;
+                if in_quotes {
+                    opened_in = n_fields;
+                }
                 // A closing quote ends its field: a comma, a line end or a doubled quote may follow.
                 let next = bytes.get(i + 1).copied();
                 if !in_quotes && !matches!(next, None | Some(b',' | b'\n' | b'\r' | b'"')) && stray.is_none() {
@@ -212,7 +220,7 @@ fn record_at(bytes: &[u8], pos: usize) -> (usize, usize, usize, bool, Option<usi
         }
         i += 1;
     };
-    (end, newlines, n_fields, is_blank(&bytes[pos..end]), stray)
+    (end, newlines, n_fields, is_blank(&bytes[pos..end]), stray, in_quotes.then_some(opened_in))
 }
 
 /// End of the record starting at `pos` (exclusive, before the newline), the start of the next
@@ -287,9 +295,9 @@ mod tests {
     fn walk_records(bytes: &[u8], first_line: usize, at_end: bool) -> Records {
         let (mut records, mut line, mut pos) = (Vec::new(), first_line, 0);
         while pos < bytes.len() {
-            let (end, newlines, n_fields, blank, stray_quote) = if bytes[pos] == b'#' {
+            let (end, newlines, n_fields, blank, stray_quote, unclosed_quote) = if bytes[pos] == b'#' {
                 let end = bytes[pos..].iter().position(|&b| b == b'\n').map_or(bytes.len(), |e| pos + e);
-                (end, 0, 1, false, None)
+                (end, 0, 1, false, None, None)
             } else {
                 record_at(bytes, pos)
             };
@@ -302,7 +310,7 @@ mod tests {
             let too_long = overlong(bytes, pos, end);
             pos = if end < bytes.len() { end + 1 } else { end };
             if !comment {
-                records.push(RecordLine { line: start_line, n_fields, blank, stray_quote, too_long });
+                records.push(RecordLine { line: start_line, n_fields, blank, stray_quote, too_long, unclosed_quote });
             }
         }
         Records { records, consumed: pos, next_line: line }

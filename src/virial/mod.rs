@@ -76,6 +76,24 @@ pub enum FitWarning {
         /// Why it did not apply.
         reason: String,
     },
+    /// Readings below zero, small beside the others: baseline noise around a small pressure,
+    /// kept in the fit (the square-root form cannot take them).
+    BelowZero {
+        /// How many readings are below zero.
+        n: usize,
+        /// The lowest, Pa.
+        lowest_pa: f64,
+        /// Its line in the input file.
+        line: usize,
+    },
+    /// The fitted Π falls with c at the highest concentration (∂Π/∂c < 0, one-sided p below
+    /// [`FALLING_PRESSURE_P`]): the solution is past its stability limit there.
+    FallingPressure {
+        /// Where the fitted ∂Π/∂c crosses zero, g/mL.
+        from_concentration_g_per_ml: f64,
+        /// Lines of the readings at or above it.
+        lines: Vec<usize>,
+    },
     /// Standard deviations were given for some readings only, so none were used.
     PartialWeights,
 }
@@ -102,6 +120,19 @@ impl fmt::Display for FitWarning {
                 write!(f, "{} form not used: {reason}; linear used instead", requested.name())
             }
             FitWarning::PartialWeights => write!(f, "pressure sd given for some readings only: fitted unweighted"),
+            FitWarning::FallingPressure { from_concentration_g_per_ml, lines } => {
+                let shown: Vec<String> = lines.iter().take(5).map(usize::to_string).collect();
+                let more = if lines.len() > 5 { format!(" and {} more", lines.len() - 5) } else { String::new() };
+                write!(
+                    f,
+                    "Π stops rising with concentration above about {from_concentration_g_per_ml:.4} g/mL (lines {}{more}): the solution is past its stability limit there and may phase-separate or turn turbid; check those solutions for cloudiness, and dilute or exclude them",
+                    shown.join(", ")
+                )
+            }
+            FitWarning::BelowZero { n, lowest_pa, line } => write!(
+                f,
+                "{n} reading(s) below zero (lowest {lowest_pa:.3} Pa, line {line}): baseline noise around a small pressure, kept in the fit; the square-root form cannot take them"
+            ),
         }
     }
 }
@@ -199,6 +230,9 @@ pub fn score_temperature(
         )));
     }
     let mut warnings = Vec::new();
+    if let Some(warning) = below_zero(set).map_err(skip)? {
+        warnings.push(warning);
+    }
     let (all_sd, sd_kind) = noise.sds_for(set);
     if sd_kind == Weights::Relative && set.pressure_sd_pa.iter().any(Option::is_some) {
         warnings.push(FitWarning::PartialWeights);
@@ -243,6 +277,65 @@ pub fn score_temperature(
         warnings,
     })
 }
+
+/// One-sided level of the falling-pressure test (a warning that claims p < 0.01).
+pub const FALLING_PRESSURE_P: f64 = 0.01;
+
+/// The stability test at the highest concentration: ∂Π/∂c ∝ 1/Mn + 2 A2 c (+ 3 A3 c²) must be
+/// positive in a stable solution; a fitted value below zero by more than the one-sided normal
+/// quantile at [`FALLING_PRESSURE_P`] times its SE names the readings past the point where it
+/// crosses zero.
+fn falling_pressure(score: &FormScore, set: &TemperatureSet, c_max: f64) -> Option<FitWarning> {
+    let a3 = score.a3.map_or((0.0, 0.0), |a| a);
+    let slope = score.inverse_mn + 2.0 * score.a2 * c_max + 3.0 * a3.0 * c_max * c_max;
+    let variance = score.inverse_mn_se.powi(2)
+        + 4.0 * c_max * c_max * score.a2_se.powi(2)
+        + 4.0 * c_max * score.cov_inverse_mn_a2
+        + 9.0 * c_max.powi(4) * a3.1.powi(2);
+    let z = 2.326_347_874_040_841; // Φ⁻¹(0.99)
+    // NaN (an unusable SE) fails the test and warns of nothing.
+    let falling = slope < -z * variance.max(0.0).sqrt();
+    if !falling {
+        return None;
+    }
+    // Where the fitted slope crosses zero (the linear terms; the quadratic's A3 moves it little).
+    let from = if score.a2 < 0.0 { (-score.inverse_mn / (2.0 * score.a2)).min(c_max) } else { c_max };
+    let lines = set
+        .concentration_kg_per_m3
+        .iter()
+        .zip(&set.origins)
+        .filter(|(c, _)| **c >= from)
+        .map(|(_, o)| o.line)
+        .collect();
+    Some(FitWarning::FallingPressure {
+        from_concentration_g_per_ml: from * crate::units::G_PER_ML_PER_KG_PER_M3,
+        lines,
+    })
+}
+
+/// A reading below zero may be baseline noise around a small pressure; one whose magnitude is
+/// more than [`BELOW_ZERO_LIMIT`] of the largest reading at its temperature is not noise but a
+/// slip (a sign, a zero offset), and the temperature is skipped with the reading named.
+pub fn below_zero(set: &TemperatureSet) -> Result<Option<FitWarning>, String> {
+    let Some((i, lowest)) =
+        set.pressure_pa.iter().copied().enumerate().filter(|(_, p)| *p < 0.0).min_by(|a, b| a.1.total_cmp(&b.1))
+    else {
+        return Ok(None);
+    };
+    let largest = set.pressure_pa.iter().copied().fold(0.0_f64, f64::max);
+    let line = set.origins[i].line;
+    if -lowest > BELOW_ZERO_LIMIT * largest {
+        return Err(format!(
+            "the reading at line {line} is {lowest:.4} Pa, far below zero beside readings up to {largest:.4} Pa: a sign slip or a zero offset? correct it"
+        ));
+    }
+    let n = set.pressure_pa.iter().filter(|p| **p < 0.0).count();
+    Ok(Some(FitWarning::BelowZero { n, lowest_pa: lowest, line }))
+}
+
+/// A reading below zero by more than this fraction of the largest at its temperature is not
+/// taken for baseline noise.
+pub const BELOW_ZERO_LIMIT: f64 = 0.5;
 
 fn readings_of<'a>(set: &'a TemperatureSet, sd: Option<&'a [f64]>, sd_kind: Weights) -> Readings<'a> {
     Readings {
@@ -301,6 +394,7 @@ impl ScoredTemperature {
             }
         }
         let c_max = set.concentration_kg_per_m3.iter().copied().fold(0.0, f64::max);
+        warnings.extend(falling_pressure(&fit.score, set, c_max));
         let gamma2_c_max = fit.score.a2 * fit.mn() * c_max;
         if gamma2_c_max > 1.0 {
             warnings.push(FitWarning::SeriesTruncation { gamma2_c_max });

@@ -1,0 +1,75 @@
+//! Issue #24: lab data as it comes. Readings a little below zero are measurements (baseline
+//! noise around a small pressure), a reading far below zero is a slip, and a solution past its
+//! stability limit is named as such.
+
+mod common;
+use common::{json_stdout, thetaseek, write};
+
+/// Π = RT c (1/Mn + A2 c), Mn = 400 kg/mol, with a little deterministic scatter; concentrations
+/// in g/L, pressures in Pa.
+fn series(name: &str, temperatures: &[(f64, f64)], concentrations: &[f64]) -> String {
+    let mut text = String::new();
+    for (k, &(t, a2)) in temperatures.iter().enumerate() {
+        for (j, &c) in concentrations.iter().enumerate() {
+            let p = 8.314 * (273.15 + t) * c * (1.0 / 400.0 + a2 * 1e-4 * c) + 0.15 * ((3 * k + 7 * j) as f64).sin();
+            text.push_str(&format!("{name},{t},{c},{p:.4}\n"));
+        }
+    }
+    text
+}
+
+const HEADER: &str = "series,temperature (C),concentration (g/L),pressure (Pa)\n";
+const TEMPERATURES: [(f64, f64); 4] = [(20.0, -1.2), (30.0, -0.4), (40.0, 0.5), (50.0, 1.3)];
+
+#[test]
+fn a_reading_a_little_below_zero_is_kept_with_a_warning_naming_it() {
+    let dir = tempfile::tempdir().unwrap();
+    // The issue's case: a series with small pressures (4–13 Pa) and one reading at −4.7 Pa.
+    let mut text = String::from(HEADER);
+    text.push_str(&series("good", &TEMPERATURES, &[2.0, 4.0, 6.0, 8.0]));
+    let small = series("small", &TEMPERATURES, &[0.5, 1.0, 1.5, 2.0, 2.5]).replacen(",0.5,", ",0.5,-4.7\n#", 1);
+    text.push_str(&small);
+    let input = write(dir.path(), "noisy.csv", &text);
+    let report = json_stdout(thetaseek().arg("analyze").arg(&input).args(["-q", "--report", "-"]));
+    let series = report["series"].as_array().unwrap();
+    assert!(series.iter().all(|s| s["status"] != "refused"), "{series:?}");
+    let fit = &series[1]["fits"][0];
+    let warning = fit["warnings"].as_array().unwrap().iter().find(|w| w["code"] == "below_zero").expect("a warning");
+    let message = warning["message"].as_str().unwrap();
+    assert!(message.contains("line 18") && message.contains("-4.700 Pa"), "{message}");
+    assert_ne!(fit["virial_form"], "sqrt");
+}
+
+#[test]
+fn a_reading_far_below_zero_skips_its_temperature_with_the_reading_named() {
+    let dir = tempfile::tempdir().unwrap();
+    let mut text = String::from(HEADER);
+    text.push_str(&series("a", &TEMPERATURES, &[2.0, 4.0, 6.0, 8.0]));
+    let text = text.replacen("a,20,6,", "a,20,6,-75.3\n#", 1);
+    let input = write(dir.path(), "slip.csv", &text);
+    let report = json_stdout(thetaseek().arg("analyze").arg(&input).args(["-q", "--report", "-"]));
+    let s = &report["series"][0];
+    assert_eq!(s["status"], "partial");
+    let reason = s["skipped_temperatures"][0]["reason"].as_str().unwrap();
+    assert!(reason.contains("line 4") && reason.contains("-75.3"), "{reason}");
+}
+
+#[test]
+fn a_pressure_that_stops_rising_with_concentration_is_named_as_past_the_stability_limit() {
+    let dir = tempfile::tempdir().unwrap();
+    let mut text = String::from(HEADER);
+    // At 10 °C A2 = −4e-4 mol mL/g²: ∂Π/∂c changes sign at 3.1 g/L, inside 1–6 g/L.
+    let temperatures = [(10.0, -4.0), (20.0, -1.2), (30.0, -0.4), (40.0, 0.5), (50.0, 1.3)];
+    text.push_str(&series("cloudy", &temperatures, &[1.0, 2.0, 3.0, 4.0, 5.0, 6.0]));
+    let input = write(dir.path(), "cloudy.csv", &text);
+    let report = json_stdout(thetaseek().arg("analyze").arg(&input).args(["-q", "--report", "-"]));
+    let fits = report["series"][0]["fits"].as_array().unwrap();
+    let falling: Vec<&serde_json::Value> = fits
+        .iter()
+        .flat_map(|f| f["warnings"].as_array().unwrap())
+        .filter(|w| w["code"] == "falling_pressure")
+        .collect();
+    assert_eq!(falling.len(), 1, "only at 10 °C: {fits:?}");
+    let message = falling[0]["message"].as_str().unwrap();
+    assert!(message.contains("(lines 5, 6, 7)") && message.contains("phase-separate"), "{message}");
+}
