@@ -55,7 +55,7 @@ const CATALOGUE: &[Case] = &[
     ("solvent_changes_within_series.csv", Some(3), Some("solvent"), Some("ostrol")),
     ("negative_sd.csv", Some(3), Some("pressure sd (Pa)"), Some("-0.3")),
     ("whitespace_only_value.csv", Some(4), Some("concentration (g/mL)"), None),
-    ("utf16_file.csv", Some(1), Some("field 1"), None),
+    ("utf16_file.csv", Some(1), None, None),
     ("concentration_above_two_g_per_ml.csv", Some(3), Some("concentration (g/L)"), Some("5000")),
 ];
 
