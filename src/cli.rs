@@ -208,6 +208,11 @@ pub struct ReadArgs {
     /// Refuse an input file larger than this, in MB (memory use is a few times the file size).
     #[arg(long, default_value_t = 2048, value_name = "MB")]
     pub max_input_mb: u64,
+
+    /// Refuse the whole run at the first value that cannot be used (by default only that
+    /// value's series is refused, the others are analysed, and the exit status is 3).
+    #[arg(long)]
+    pub strict: bool,
 }
 
 /// Virial form used at each temperature.

@@ -333,6 +333,16 @@ impl GroupedReadings {
         }
     }
 
+    /// Removes series `name` and its readings (refused for a value in a later block); a series
+    /// already taken is not here to remove, and is named by [`Self::reopened`] if it comes back.
+    pub fn remove(&mut self, name: &str) {
+        let Some(i) = self.order.iter().position(|(n, _)| **n == *name) else { return };
+        let (_, sets) = self.order.remove(i);
+        self.readings -= sets.sets.iter().map(|(_, s)| s.len()).sum::<usize>();
+        self.by_name = self.order.iter().enumerate().map(|(i, (name, _))| (name.clone(), i)).collect();
+        self.current = None;
+    }
+
     /// Number of readings added.
     pub fn len(&self) -> usize {
         self.readings

@@ -12,12 +12,15 @@ pub const EXIT_USAGE: i32 = 2;
 pub const EXIT_DATA: i32 = 65;
 /// Exit code for a file that could not be read or written.
 pub const EXIT_IO: i32 = 74;
+/// Exit code for a run in which some series were refused for values that cannot be used while
+/// the others were analysed and written (`--strict` refuses the whole run instead).
+pub const EXIT_SOME_REFUSED: i32 = 3;
 
 /// Where in an input file a problem was found, and what was expected there.
 #[derive(Debug, Clone, PartialEq)]
 pub struct InputError {
-    /// The file as the user named it.
-    pub file: String,
+    /// The file as the user named it (boxed: the error travels in many `Result`s).
+    pub file: Box<str>,
     /// 1-based line number in the file (the header is line 1 unless comments precede it).
     pub line: Option<usize>,
     /// The column as written in the header.
@@ -26,22 +29,33 @@ pub struct InputError {
     pub value: Option<String>,
     /// What is wrong and what is expected.
     pub message: String,
+    /// The refusal is of one reading's value (not of the header, a unit or a column as a
+    /// whole): in a run of several series it costs that reading's series only.
+    pub of_reading: bool,
 }
 
 impl InputError {
     /// A problem with the file as a whole (empty, no header, ...).
     pub fn file(file: &str, message: impl Into<String>) -> Self {
-        InputError { file: file.to_string(), line: None, column: None, value: None, message: message.into() }
+        InputError {
+            file: file.into(),
+            line: None,
+            column: None,
+            value: None,
+            message: message.into(),
+            of_reading: false,
+        }
     }
 
     /// A problem on one line, optionally in one column with one value.
     pub fn at(file: &str, line: usize, column: Option<&str>, value: Option<&str>, message: impl Into<String>) -> Self {
         InputError {
-            file: file.to_string(),
+            file: file.into(),
             line: Some(line),
             column: column.map(str::to_string),
             value: value.map(shortened),
             message: message.into(),
+            of_reading: false,
         }
     }
 }
@@ -102,6 +116,9 @@ pub enum Error {
     /// An output would overwrite an input file.
     #[error("refusing to write '{0}': it is one of the input files")]
     OutputIsInput(PathBuf),
+    /// Some series were refused for their values; the others were analysed and written.
+    #[error("{0} series refused for values that cannot be used (each named above and in the report, with its line); the others were analysed and written")]
+    SomeSeriesRefused(usize),
 }
 
 impl Error {
@@ -111,6 +128,7 @@ impl Error {
             Error::Input(_) | Error::NothingAnalysed(_) => EXIT_DATA,
             Error::Setting(_) => EXIT_USAGE,
             Error::Io { .. } | Error::OutputIsInput(_) => EXIT_IO,
+            Error::SomeSeriesRefused(_) => EXIT_SOME_REFUSED,
         }
     }
 }

@@ -73,3 +73,82 @@ fn a_pressure_that_stops_rising_with_concentration_is_named_as_past_the_stabilit
     let message = falling[0]["message"].as_str().unwrap();
     assert!(message.contains("(lines 5, 6, 7)") && message.contains("phase-separate"), "{message}");
 }
+
+/// A campaign file (read in blocks, streamed) of `n` series; every `bad`-th series has a value
+/// that cannot be used, or is commented out when `keep_bad` is false (so that lines match).
+fn campaign(n: usize, bad: usize, keep_bad: bool) -> String {
+    let mut text = String::from(HEADER);
+    for s in 0..n {
+        let is_bad = s % bad == bad / 2;
+        if is_bad && !keep_bad {
+            let rows = series(&format!("s{s}"), &TEMPERATURES, &[2.0, 4.0, 6.0, 8.0]);
+            text.push_str(&rows.lines().map(|l| format!("# {l}\n")).collect::<String>());
+            continue;
+        }
+        let mut rows = series(&format!("s{s}"), &TEMPERATURES, &[2.0, 4.0, 6.0, 8.0]);
+        if is_bad {
+            // A typing slip in the series' ninth row (its third temperature, in a later block
+            // for some series than its first rows).
+            let line = rows.lines().nth(8).unwrap().to_string();
+            let slip = format!("{},4x.5", line.rsplit_once(',').unwrap().0);
+            rows = rows.replacen(&line, &slip, 1);
+        }
+        text.push_str(&rows);
+    }
+    text
+}
+
+#[test]
+fn a_bad_value_costs_its_series_only_and_the_others_are_as_without_it() {
+    let dir = tempfile::tempdir().unwrap();
+    let with_bad = write(dir.path(), "with.csv", &campaign(1200, 200, true));
+    let without = write(dir.path(), "without.csv", &campaign(1200, 200, false));
+    assert!(std::fs::metadata(&with_bad).unwrap().len() > 256 << 10, "read in blocks");
+    let run = |input: &std::path::Path, code: i32| {
+        let out = thetaseek()
+            .arg("analyze")
+            .arg(input)
+            .args(["-q", "--report", "-", "--report-detail", "full"])
+            .assert()
+            .code(code)
+            .get_output()
+            .stdout
+            .clone();
+        serde_json::from_slice::<serde_json::Value>(&out).unwrap()
+    };
+    let a = run(&with_bad, 3);
+    let b = run(&without, 0);
+    let series = |r: &serde_json::Value| r["series"].as_array().unwrap().clone();
+    let (a, b) = (series(&a), series(&b));
+    assert_eq!(a.len(), 1200, "every series accounted for");
+    let refused: Vec<&serde_json::Value> = a.iter().filter(|s| s["status"] == "refused").collect();
+    assert_eq!(refused.len(), 6);
+    for s in &refused {
+        let reason = s["reason"].as_str().unwrap();
+        assert!(
+            reason.contains("with.csv, line") && reason.contains("pressure (Pa)") && reason.contains("4x.5"),
+            "{reason}"
+        );
+    }
+    let analysed: Vec<&serde_json::Value> = a.iter().filter(|s| s["status"] != "refused").collect();
+    assert_eq!(analysed.len(), b.len());
+    for (x, y) in analysed.iter().zip(&b) {
+        assert!(*x == y, "{}: a good series' results do not depend on the bad ones", x["name"]);
+    }
+    // --strict refuses the run at the first bad value, as before.
+    thetaseek().arg("analyze").arg(&with_bad).args(["-q", "--strict"]).assert().code(65);
+}
+
+#[test]
+fn in_a_small_file_read_whole_a_bad_value_costs_its_series_too_and_the_series_table_says_why() {
+    let dir = tempfile::tempdir().unwrap();
+    let text = campaign(3, 2, true);
+    let input = write(dir.path(), "three.csv", &text);
+    let table = dir.path().join("s.csv");
+    let a = thetaseek().arg("analyze").arg(&input).arg("--series-table").arg(&table).assert().code(3);
+    let stderr = String::from_utf8_lossy(&a.get_output().stderr).into_owned();
+    assert!(stderr.contains("1 series refused for values that cannot be used"), "{stderr}");
+    let rows = std::fs::read_to_string(&table).unwrap();
+    assert_eq!(rows.lines().count(), 4, "{rows}");
+    assert!(rows.contains("s1,refused") && rows.contains("line 26"), "{rows}");
+}

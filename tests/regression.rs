@@ -181,3 +181,15 @@ fn a_quote_that_never_closes_is_refused_with_its_line_whole_and_in_blocks() {
         assert!(err.contains("line 4") && err.contains("pressure sd (Pa)") && err.contains("never closed"), "{err}");
     }
 }
+
+/// Found by the long fuzz run of issue #28: a concentration of 1e-300 g/mL was accepted and made
+/// every form's AICc infinite, which reached the report as "AICc (inf)". Below 1 µg/L it is
+/// refused; an AICc that still overflows does not compete.
+#[test]
+fn a_concentration_too_small_to_measure_is_refused_with_its_line() {
+    let text = "series,temperature (C),concentration (g/mL),pressure (Pa)\na,20,0.002,24.8\na,20,1e-300,46.9\n";
+    let err = read_file("c.csv", 0, text.as_bytes(), &ReadOptions { strict: true, ..ReadOptions::default() })
+        .unwrap_err()
+        .to_string();
+    assert!(err.contains("line 3") && err.contains("1 µg/L"), "{err}");
+}

@@ -47,7 +47,7 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
     let mut loaded = if args.files.len() == 1 && !figures_wanted {
         match super::campaign::stream(args, &options, &settings, report_settings, table.as_ref())? {
             Streamed::Done => return Ok(()),
-            Streamed::Loaded(loaded) => loaded,
+            Streamed::Loaded(loaded) => *loaded,
             Streamed::Reread => load(&args.files, &options, args.read.max_input_mb)?,
         }
     } else {
@@ -63,13 +63,14 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
     if series_count > report::CAMPAIGN_SERIES && !figures_wanted {
         return super::campaign::run(args, loaded, &settings, report_settings);
     }
-    let Loaded { inputs, dataset, warnings: run_warnings, critical, volumes, scattering } = loaded;
+    let Loaded { inputs, dataset, warnings: run_warnings, critical, volumes, scattering, refused } = loaded;
     let bar = Bar::new(analysis::work_units(&dataset.series, &dataset.tabulated, &settings), args.quiet);
     let results = analysis::analyze_with_progress(&dataset.series, &dataset.tabulated, &settings, &bar);
     bar.finish();
     let mut report = Report::new(inputs, report_settings, run_warnings, &results, &dataset);
     add_critical_series(&mut report, &critical, &volumes, &settings);
     add_scattering_series(&mut report, &scattering, &volumes, &settings);
+    report.add_refused_series(&refused);
     report.compare_routes();
 
     if report.series.iter().all(|s| s.status == Status::Refused) {
@@ -127,7 +128,10 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
     if !args.quiet {
         super::print_terminal(&report, stdout_taken);
     }
-    Ok(())
+    match refused.len() {
+        0 => Ok(()),
+        n => Err(Error::SomeSeriesRefused(n)),
+    }
 }
 
 /// Every file the run reads (none may be an output).
@@ -253,6 +257,7 @@ pub(crate) fn read_options(args: &ReadArgs) -> Result<ReadOptions, Error> {
         refractive_index: args.refractive_index,
         dn_dc: args.dn_dc.map(|d| d * 1e-3),
         wavelength_m: args.wavelength.map(|l| l * 1e-9),
+        strict: args.strict,
     })
 }
 

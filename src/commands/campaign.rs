@@ -317,7 +317,7 @@ pub fn run(
     settings: &Settings,
     report_settings: ReportSettings,
 ) -> Result<(), Error> {
-    let Loaded { inputs, mut dataset, warnings: run_warnings, critical, volumes, scattering } = loaded;
+    let Loaded { inputs, mut dataset, warnings: run_warnings, critical, volumes, scattering, refused } = loaded;
     check_outputs(args)?;
     let series = std::mem::take(&mut dataset.series);
     // Only a series that shares its name with another route is compared, so only those are kept.
@@ -360,9 +360,19 @@ pub fn run(
     add_critical_series(&mut report, &critical, &volumes, settings);
     add_scattering_series(&mut report, &scattering, &volumes, settings);
     campaign.add(std::mem::take(&mut report.series), solvent_of)?;
+    campaign.add(refused.iter().map(SeriesReport::refused_input).collect(), solvent_of)?;
     let finished = campaign.finish(report, None, args.quiet);
     let _ = freeing.join();
-    finished
+    finished?;
+    some_refused(refused.len())
+}
+
+/// The run's end when some series were refused for their values (the others written).
+fn some_refused(n: usize) -> Result<(), Error> {
+    match n {
+        0 => Ok(()),
+        n => Err(Error::SomeSeriesRefused(n)),
+    }
 }
 
 /// How a streamed run ended.
@@ -371,7 +381,7 @@ pub enum Streamed {
     Done,
     /// The file holds too few series for a campaign, or is not an osmometry file read in
     /// blocks: here it is, read, for the usual path.
-    Loaded(Loaded),
+    Loaded(Box<Loaded>),
     /// A series came back after the file had moved past it: read the file again the usual way.
     Reread,
 }
@@ -395,7 +405,7 @@ pub fn stream(
         Opened::Whole(contents) => {
             let mut loading = super::Loading::default();
             loading.add(&name, &sha2::Digest::finalize(source.hasher), *contents);
-            return Ok(Streamed::Loaded(loading.finish()));
+            return Ok(Streamed::Loaded(Box::new(loading.finish())));
         }
     };
     let run_warnings = unused_columns(&name, &reader.ignored_columns());
@@ -461,14 +471,15 @@ pub fn stream(
         // Too few series for a campaign: the usual path, with what was read.
         let series = ready.into_iter().map(|(s, _)| s).collect();
         let dataset = Dataset { series, tabulated: Vec::new(), solvents: contents.solvents };
-        return Ok(Streamed::Loaded(Loaded {
+        return Ok(Streamed::Loaded(Box::new(Loaded {
             inputs: vec![input],
             dataset,
             warnings: run_warnings,
             critical: Vec::new(),
             volumes: contents.volumes,
             scattering: Vec::new(),
-        }));
+            refused: contents.refused,
+        })));
     };
     bar.set_total((campaign.analysed + ready.len() as u64) * units_per_series);
     campaign.analyse(&ready, &bar)?;
@@ -477,8 +488,9 @@ pub fn stream(
     let digest = digest_at.map(|at| (at, input.sha256.clone()));
     let report =
         Report::new(vec![input], report_settings(campaign.analysed as usize), run_warnings, &[], &Dataset::default());
+    campaign.add(contents.refused.iter().map(SeriesReport::refused_input).collect(), |_| None)?;
     campaign.finish(report, digest, args.quiet)?;
-    Ok(Streamed::Done)
+    some_refused(contents.refused.len()).map(|_| Streamed::Done)
 }
 
 /// Opens a streamed campaign's outputs; also gives where the file's SHA-256 placeholder sits

@@ -305,6 +305,8 @@ pub struct Loaded {
     pub volumes: Vec<(String, thetaseek::theta::Volumes)>,
     /// Static light-scattering readings.
     pub scattering: Vec<input::ScatteringRow>,
+    /// Series refused for a value that cannot be used (the others were read).
+    pub refused: Vec<input::RefusedSeries>,
 }
 
 /// Reads every data file (osmometry, A2 or χ tables) into one dataset.
@@ -334,6 +336,7 @@ pub(crate) struct Loading {
     solvents: Vec<(String, String)>,
     critical: Vec<input::CriticalRow>,
     scattering: Vec<input::ScatteringRow>,
+    refused: Vec<input::RefusedSeries>,
     warnings: Vec<String>,
 }
 
@@ -351,6 +354,7 @@ impl Loading {
         self.solvents.extend(contents.solvents);
         self.critical.extend(contents.critical);
         self.scattering.extend(contents.scattering);
+        self.refused.extend(contents.refused);
     }
 
     pub(crate) fn finish(self) -> Loaded {
@@ -362,6 +366,7 @@ impl Loading {
             critical: self.critical,
             volumes: self.volumes,
             scattering: self.scattering,
+            refused: self.refused,
         }
     }
 }

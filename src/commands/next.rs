@@ -7,6 +7,7 @@ use thetaseek::analysis::{self, Settings};
 use thetaseek::design::{next_runs, DesignSettings, MeasuredTemperature, SeriesDesign};
 use thetaseek::error::{Error, InputError};
 use thetaseek::input;
+use thetaseek::input::ReadOptions;
 use thetaseek::output::Destination;
 use thetaseek::report::{self, InputFile};
 use thetaseek::safety::{critical_of, SafeWindow};
@@ -43,7 +44,8 @@ struct Planned {
 
 /// Runs the subcommand.
 pub fn run(args: &NextArgs) -> Result<(), Error> {
-    let options = super::analyze::read_options(&args.read)?;
+    // Advice rests on every series given: a value that cannot be used refuses the run here.
+    let options = ReadOptions { strict: true, ..super::analyze::read_options(&args.read)? };
     // JSON reports written by analyze carry what is needed (A2 with its SEs, concentrations);
     // data files are analysed here.
     let (reports, data): (Vec<_>, Vec<_>) =

@@ -6,6 +6,7 @@ use crate::cli::{GoalArg, PlanArgs};
 use thetaseek::analysis::{self, Settings};
 use thetaseek::error::{Error, InputError};
 use thetaseek::input;
+use thetaseek::input::ReadOptions;
 use thetaseek::output::Destination;
 use thetaseek::plan::{self, Goal, PlanSeries, PlanSettings};
 use thetaseek::plot;
@@ -15,7 +16,8 @@ use thetaseek::theta::ThetaSettings;
 /// Runs the subcommand.
 pub fn run(args: &PlanArgs) -> Result<(), Error> {
     let settings = plan_settings(args)?;
-    let options = super::analyze::read_options(&args.read)?;
+    // Advice rests on every series given: a value that cannot be used refuses the run here.
+    let options = ReadOptions { strict: true, ..super::analyze::read_options(&args.read)? };
 
     // JSON reports are read as they are; data files are analysed here (no bootstrap: the plan
     // uses θ, its Fieller interval and the fitted line).

@@ -8,7 +8,7 @@
 use super::scan::{scan_header, scan_records, Layout};
 use super::{
     check_structure, check_utf8_from, ignored_columns, locate_roles, parse_header_cell, parse_with_polars,
-    read_file_owned, read_osmometry, FileContents, OsmometryColumns, ReadOptions, Role, Table,
+    read_file_owned, read_osmometry_sparing, FileContents, OsmometryColumns, ReadOptions, RefusedSeries, Role, Table,
 };
 use crate::dataset::GroupedReadings;
 use crate::error::InputError;
@@ -71,6 +71,8 @@ pub struct BlockReader<'a> {
     any_row: bool,
     /// The readings grouped so far.
     pub readings: GroupedReadings,
+    /// Series refused for a value so far (their rows set aside).
+    pub refused: Vec<RefusedSeries>,
 }
 
 impl<'a> BlockReader<'a> {
@@ -147,6 +149,7 @@ impl<'a> BlockReader<'a> {
             merged: Merged::default(),
             any_row: false,
             readings: GroupedReadings::default(),
+            refused: Vec::new(),
         })))
     }
 
@@ -177,10 +180,10 @@ impl<'a> BlockReader<'a> {
             };
             let mut table =
                 Table::from_frame(name, self.file_index, self.cells.clone(), layout, self.roles.clone(), frame, true)?;
-            let columns = match self.read_table(&table) {
+            let columns = match self.read_table(&mut table) {
                 Err(_) if table.numbers => {
                     table.read_as_text(parse_with_polars(name, &bytes, Some(1), None)?)?;
-                    self.read_table(&table)?
+                    self.read_table(&mut table)?
                 }
                 read => read?,
             };
@@ -206,9 +209,24 @@ impl<'a> BlockReader<'a> {
     }
 
     /// One block's readings, and what spans the file added to [`Merged`] (adding again after
-    /// a refusal changes nothing: the same rows are seen again in the same order).
-    fn read_table(&mut self, table: &Table) -> Result<OsmometryColumns, InputError> {
-        let columns = read_osmometry(table, self.options)?;
+    /// a refusal changes nothing: the same rows are seen again in the same order). Rows of a
+    /// series refused in an earlier block are set aside; a series refused here loses the
+    /// readings earlier blocks gave it.
+    fn read_table(&mut self, table: &mut Table) -> Result<OsmometryColumns, InputError> {
+        if !self.refused.is_empty() {
+            let names: std::collections::HashSet<&str> = self.refused.iter().map(|r| r.series.as_str()).collect();
+            let aside: Vec<usize> =
+                table.rows().filter(|&r| table.series(r).is_ok_and(|n| names.contains(&*n))).collect();
+            for r in aside {
+                table.layout.records[r].blank = true;
+            }
+        }
+        let mut refused = Vec::new();
+        let columns = read_osmometry_sparing(table, self.options, &mut refused)?;
+        for r in &refused {
+            self.readings.remove(&r.series);
+        }
+        self.refused.extend(refused);
         self.merged.add(table)?;
         Ok(columns)
     }
@@ -241,6 +259,7 @@ impl<'a> BlockReader<'a> {
             volumes: self.merged.volumes.into_iter().map(|(s, v, _)| (s, v)).collect(),
             solvents: self.merged.solvents.into_iter().map(|(s, v, _)| (s, v)).collect(),
             ignored_columns,
+            refused: self.refused,
             ..FileContents::default()
         })
     }

@@ -37,6 +37,9 @@ pub const PLAUSIBLE_G_PER_ML_MAX: f64 = 0.5;
 /// No polymer solution holds more than about its own density of polymer (≈ 1–1.5 g/mL);
 /// above 2 g/mL (2000 kg/m³) a concentration is a slip, and it would overflow the arithmetic.
 pub const MAX_CONCENTRATION_KG_PER_M3: f64 = 2000.0;
+/// Below 1 µg/L (10⁻⁶ kg/m³) a solution's osmotic pressure is far below any osmometer's
+/// resolution; a smaller concentration is a slip (1e-300 made every AICc infinite).
+pub const MIN_CONCENTRATION_KG_PER_M3: f64 = 1e-6;
 /// No measured quantity of these files (pressure, head, density, SD) comes near 10¹² in SI units;
 /// below it, the squares a fit forms stay finite (a pressure of 1e308 Pa made NaN ± NaN).
 pub const MAX_MAGNITUDE_SI: f64 = 1e12;
@@ -67,6 +70,19 @@ pub struct ReadOptions {
     pub dn_dc: Option<f64>,
     /// Vacuum wavelength λ0, m.
     pub wavelength_m: Option<f64>,
+    /// Refuse the whole file at the first value that cannot be used, instead of only that
+    /// value's series (`--strict`).
+    pub strict: bool,
+}
+
+/// A series refused for a value that cannot be used (osmometry files of several series): its
+/// readings are left out, the other series are read.
+#[derive(Debug, Clone, PartialEq)]
+pub struct RefusedSeries {
+    /// The series' name (or `line N` where the name itself is missing).
+    pub series: String,
+    /// The first refusal among its readings, with file, line, column and value.
+    pub error: InputError,
 }
 
 /// One static light-scattering reading, SI.
@@ -105,6 +121,8 @@ pub struct FileContents {
     pub scattering: Vec<ScatteringRow>,
     /// Header cells that were not recognised and so were not used.
     pub ignored_columns: Vec<String>,
+    /// Series refused for a value, in the order they were met.
+    pub refused: Vec<RefusedSeries>,
 }
 
 /// One fraction's critical (phase-separation) temperature.
@@ -144,11 +162,13 @@ fn read_file_owned(
     read_table(table, options)
 }
 
-fn read_table(table: Table, options: &ReadOptions) -> Result<FileContents, InputError> {
+fn read_table(mut table: Table, options: &ReadOptions) -> Result<FileContents, InputError> {
     let name = table.name;
     if table.has(Role::Pressure) || table.has(Role::Head) {
-        let columns = read_osmometry(&table, options)?;
+        let mut refused = Vec::new();
+        let columns = read_osmometry_sparing(&mut table, options, &mut refused)?;
         let contents = FileContents {
+            refused,
             volumes: without_rows(table.volumes()?),
             solvents: without_rows(table.solvents()?),
             ignored_columns: table.ignored_columns(),
@@ -669,18 +689,30 @@ impl<'a> Table<'a> {
         self.layout.records.iter().enumerate().filter(|(_, r)| !r.blank).map(|(i, _)| i)
     }
 
+    /// Sets aside every row of `series` (and `row` itself, whose name may be missing) as if
+    /// blank, so that reading again leaves them out.
+    fn set_aside(&mut self, series: &str, row: usize) {
+        let rows: Vec<usize> = self.rows().filter(|&r| self.series(r).is_ok_and(|name| name == series)).collect();
+        for r in rows.into_iter().chain([row]) {
+            self.layout.records[r].blank = true;
+        }
+    }
+
     fn refuse(&self, col: usize, row: usize, message: &str) -> InputError {
         if self.numbers {
             return read_again();
         }
         let value = self.text(col, row);
-        InputError::at(
-            self.name,
-            self.line(row),
-            Some(&self.cells[col].raw),
-            (!value.is_empty()).then_some(value),
-            message,
-        )
+        InputError {
+            of_reading: true,
+            ..InputError::at(
+                self.name,
+                self.line(row),
+                Some(&self.cells[col].raw),
+                (!value.is_empty()).then_some(value),
+                message,
+            )
+        }
     }
 
     /// A finite number, or a message that says what is wrong with the value.
@@ -728,14 +760,19 @@ impl<'a> Table<'a> {
         if let Some(deferred) = &self.deferred {
             // Read the fast way, this block does not exceed (else it was read again above):
             // the column cannot be refused, and there is no text to word a refusal with.
-            let refusal = if self.numbers { None } else { rows.first().map(|&r| self.refuse(col, r, message)) };
+            let refusal = if self.numbers { None } else { rows.first().map(|&r| self.refuse_column(col, r, message)) };
             deferred.lock().unwrap_or_else(|p| p.into_inner()).push(DeferredCheck { column: col, all_exceed, refusal });
             return Ok(());
         }
         if !rows.is_empty() && all_exceed {
-            return Err(self.refuse(col, rows[0], message));
+            return Err(self.refuse_column(col, rows[0], message));
         }
         Ok(())
+    }
+
+    /// A refusal of a column as a whole, quoting its value at `row`: it refuses the file.
+    fn refuse_column(&self, col: usize, row: usize, message: &str) -> InputError {
+        InputError { of_reading: false, ..self.refuse(col, row, message) }
     }
 
     /// A number that must be > 0 (or ≥ 0 when `zero_ok`), after conversion by `to_si`.
@@ -1157,6 +1194,13 @@ fn read_osmometry(table: &Table, options: &ReadOptions) -> Result<OsmometryColum
             if c <= 0.0 {
                 return Err(table.refuse(c_col, row, "a concentration must be greater than zero"));
             }
+            if c < MIN_CONCENTRATION_KG_PER_M3 {
+                return Err(table.refuse(
+                    c_col,
+                    row,
+                    "below 1 µg/L no osmotic pressure can be measured: check the value and its unit",
+                ));
+            }
             if c > c_max {
                 return Err(table.refuse(
                     c_col,
@@ -1207,6 +1251,34 @@ fn read_osmometry(table: &Table, options: &ReadOptions) -> Result<OsmometryColum
         pressure,
         sd: sd_values,
     })
+}
+
+/// [`read_osmometry`] where a value that cannot be used refuses only its series (unless
+/// `options.strict`): the series is added to `refused`, its rows are set aside as blank, and
+/// the table is read again. A refusal of the header, a unit or a column as a whole still
+/// refuses the file; so does any refusal while polars' numbers are read (the caller then reads
+/// the text, whose refusals quote the value).
+fn read_osmometry_sparing(
+    table: &mut Table,
+    options: &ReadOptions,
+    refused: &mut Vec<RefusedSeries>,
+) -> Result<OsmometryColumns, InputError> {
+    loop {
+        match read_osmometry(table, options) {
+            Ok(columns) => return Ok(columns),
+            Err(error) if error.of_reading && !options.strict && !table.numbers => {
+                let row = error.line.and_then(|line| table.layout.records.iter().position(|r| r.line == line));
+                let Some(row) = row.filter(|r| !table.layout.records[*r].blank) else { return Err(error) };
+                let series = match table.series(row) {
+                    Ok(name) => name.into_owned(),
+                    Err(_) => format!("line {}", table.line(row)),
+                };
+                table.set_aside(&series, row);
+                refused.push(RefusedSeries { series, error });
+            }
+            Err(error) => return Err(error),
+        }
+    }
 }
 
 /// An osmometry file's values, one vector per column (SI), kept apart from the text they came

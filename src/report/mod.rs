@@ -389,6 +389,25 @@ impl FitReport {
 }
 
 impl SeriesReport {
+    /// A series refused for a value that cannot be used (see [`Report::add_refused_series`]).
+    pub fn refused_input(refused: &crate::input::RefusedSeries) -> Self {
+        SeriesReport {
+            reading_noise: None,
+            name: refused.series.clone(),
+            solvent: None,
+            status: Status::Refused,
+            reason: Some(format!("refused input: {}", refused.error)),
+            warnings: Vec::new(),
+            fits: Vec::new(),
+            skipped_temperatures: Vec::new(),
+            theta: None,
+            route: "osmometry",
+            critical: None,
+            light_scattering: Vec::new(),
+            fit_warnings: 0,
+        }
+    }
+
     /// Converts one series' results; `series` supplies the readings behind each fit.
     pub fn new(result: &SeriesResult, series: Option<&crate::dataset::Series>, detail: Detail) -> Self {
         let sets = series.map_or(&[][..], |s| &s.temperatures[..]);
@@ -510,6 +529,12 @@ impl Report {
                 .collect(),
             routes: Vec::new(),
         }
+    }
+
+    /// Adds the series refused for a value that cannot be used: their readings were left out
+    /// at reading, and the reason names the file, line, column and value.
+    pub fn add_refused_series(&mut self, refused: &[crate::input::RefusedSeries]) {
+        self.series.extend(refused.iter().map(SeriesReport::refused_input));
     }
 
     /// Adds a series of critical temperatures (the Shultz–Flory route) and its result.

@@ -181,6 +181,9 @@ pub fn render_summary(report: &Report) -> String {
     tally.summary()
 }
 
+/// Refusal reasons told apart in the summary; the rest are counted together.
+const MAX_REASON_GROUPS: usize = 1000;
+
 /// What the summary and a campaign's digest say, gathered one series at a time, so that a
 /// campaign need not keep its series to print them.
 #[derive(Debug, Clone, Default)]
@@ -216,6 +219,13 @@ impl Tally {
         if s.status == Status::Refused {
             self.refused += 1;
             let reason = s.reason.clone().unwrap_or_default();
+            // Bounded: refusals of input name their line, so each may be a reason of its own.
+            let reason =
+                if self.reasons.len() >= MAX_REASON_GROUPS && !self.reasons.iter().any(|(r, _, _)| *r == reason) {
+                    "further reasons (not listed: see the report)".to_string()
+                } else {
+                    reason
+                };
             match self.reasons.iter_mut().find(|(r, _, _)| *r == reason) {
                 Some(g) => g.1 += 1,
                 None => self.reasons.push((reason, 1, s.name.clone())),

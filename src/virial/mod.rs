@@ -293,7 +293,7 @@ fn falling_pressure(score: &FormScore, set: &TemperatureSet, c_max: f64) -> Opti
         + 4.0 * c_max * score.cov_inverse_mn_a2
         + 9.0 * c_max.powi(4) * a3.1.powi(2);
     let z = 2.326_347_874_040_841; // Φ⁻¹(0.99)
-    // NaN (an unusable SE) fails the test and warns of nothing.
+                                   // NaN (an unusable SE) fails the test and warns of nothing.
     let falling = slope < -z * variance.max(0.0).sqrt();
     if !falling {
         return None;
@@ -642,14 +642,20 @@ pub fn choose_series_forms(sets: &[TemperatureSet], noise: PressureNoise) -> Ser
         }
         f
     });
+    let raw: Vec<Option<f64>> = families.iter().map(|f| aicc(f.rss, f.points, f.parameters)).collect();
+    // An AICc that overflowed (absurd but accepted values) does not compete.
     let scored: Vec<(Option<f64>, &Family)> =
-        families.iter().map(|f| (aicc(f.rss, f.points, f.parameters), f)).collect();
+        raw.iter().zip(&families).map(|(a, f)| (a.filter(|a| a.is_finite()), f)).collect();
     let candidates = scored
         .iter()
-        .map(|(a, f)| Candidate {
+        .zip(&raw)
+        .map(|((a, f), r)| Candidate {
             form: f.form,
             aicc: *a,
-            excluded: a.is_none().then(|| "too few readings in the series for AICc".to_string()),
+            excluded: a.is_none().then(|| match r {
+                None => "too few readings in the series for AICc".to_string(),
+                Some(_) => "its AICc could not be computed (a value overflowed)".to_string(),
+            }),
         })
         .collect();
     let value = |form: VirialForm| scored.iter().find(|(_, f)| f.form == form).and_then(|(a, _)| *a);
