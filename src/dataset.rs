@@ -256,7 +256,7 @@ const MAX_CAPACITY_HINT: usize = 64;
 
 /// Readings being grouped, one at a time, into series and temperatures, without holding them
 /// as rows first; several files are merged by [`Self::absorb`].
-#[derive(Debug, Clone, PartialEq, Default)]
+#[derive(Debug, Clone, Default)]
 pub struct GroupedReadings {
     order: Vec<(std::sync::Arc<str>, Sets)>,
     by_name: HashMap<std::sync::Arc<str>, usize>,
@@ -268,6 +268,18 @@ pub struct GroupedReadings {
     /// Readings per temperature of the last series the rows moved past: a new temperature
     /// reserves that much, so that a campaign's vectors neither grow nor shrink.
     capacity_hint: usize,
+}
+
+/// Equal when they hold the same readings in the same series and order: which series was read
+/// last and the capacity hint are bookkeeping of the reading, not content (a series refused in
+/// a later block leaves them as its removal found them).
+impl PartialEq for GroupedReadings {
+    fn eq(&self, other: &Self) -> bool {
+        self.order == other.order
+            && self.readings == other.readings
+            && self.taken == other.taken
+            && self.reopened == other.reopened
+    }
 }
 
 impl GroupedReadings {

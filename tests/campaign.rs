@@ -275,17 +275,20 @@ fn a_large_file_of_few_series_is_reported_in_full() {
 }
 
 #[test]
-fn a_bad_row_late_in_a_large_file_fails_the_run_and_writes_nothing() {
+fn with_strict_a_bad_row_late_in_a_large_file_fails_the_run_and_writes_nothing() {
     let dir = tempfile::tempdir().unwrap();
     let mut text = campaign(2500);
     text.push_str("s9999,300,1,twelve\n");
     let line = text.lines().count();
     std::fs::write(dir.path().join("big.csv"), &text).unwrap();
-    let out = thetaseek()
-        .current_dir(dir.path())
-        .args(["analyze", "big.csv", "--bootstrap", "0", "--report", "r.json", "--table", "t.csv", "-q"])
-        .output()
-        .unwrap();
+    // Without --strict the bad row costs its series only (tests/lab_data.rs): exit 3.
+    let args = ["analyze", "big.csv", "--bootstrap", "0", "--report", "r.json", "--table", "t.csv", "-q"];
+    let out = thetaseek().current_dir(dir.path()).args(args).output().unwrap();
+    assert_eq!(out.status.code(), Some(3), "{}", String::from_utf8_lossy(&out.stderr));
+    for name in ["r.json", "t.csv"] {
+        std::fs::remove_file(dir.path().join(name)).unwrap();
+    }
+    let out = thetaseek().current_dir(dir.path()).args(args).arg("--strict").output().unwrap();
     assert_eq!(out.status.code(), Some(65), "{}", String::from_utf8_lossy(&out.stderr));
     let message = String::from_utf8_lossy(&out.stderr);
     assert!(message.contains(&format!("line {line}")) && message.contains("twelve"), "{message}");

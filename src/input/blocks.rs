@@ -223,6 +223,7 @@ impl<'a> BlockReader<'a> {
         }
         let mut refused = Vec::new();
         let columns = read_osmometry_sparing(table, self.options, &mut refused)?;
+        refused.sort_by_key(|r| r.error.line);
         for r in &refused {
             self.readings.remove(&r.series);
         }

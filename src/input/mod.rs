@@ -167,6 +167,8 @@ fn read_table(mut table: Table, options: &ReadOptions) -> Result<FileContents, I
     if table.has(Role::Pressure) || table.has(Role::Head) {
         let mut refused = Vec::new();
         let columns = read_osmometry_sparing(&mut table, options, &mut refused)?;
+        // In file order, as a read in blocks meets them.
+        refused.sort_by_key(|r| r.error.line);
         let contents = FileContents {
             refused,
             volumes: without_rows(table.volumes()?),
@@ -975,12 +977,28 @@ impl<'a> Table<'a> {
     }
 
     fn temperatures(&self, options: &ReadOptions) -> Result<Vec<f64>, InputError> {
+        self.temperatures_by_row(options)?.map_err(|(_, e)| e)
+    }
+
+    /// The temperature column in kelvin. The header and its unit, and a column that is wholly
+    /// implausible, refuse the file (the outer error); a bad row is given with its row (the
+    /// inner one), as the other columns give theirs, so that the first in row order is named.
+    fn temperatures_by_row(&self, options: &ReadOptions) -> Result<Result<Vec<f64>, (usize, InputError)>, InputError> {
         let col = self.require(Role::Temperature)?;
         let unit: TemperatureUnit = self.unit(col, options.temperature_unit, "--temperature-unit")?;
-        let raw = self.parse_column(col, false, |_, x| Ok(x)).map_err(|(_, e)| e)?;
-        let mut out = Vec::with_capacity(raw.len());
-        for (row, x) in raw.iter().enumerate() {
-            let t = unit.to_kelvin(*x);
+        if unit == TemperatureUnit::Celsius {
+            let raw: Vec<f64> = (0..self.layout.records.len())
+                .map(|r| if self.layout.records[r].blank { f64::NAN } else { self.number(col, r).unwrap_or(f64::NAN) })
+                .collect();
+            self.refuse_if_all_exceed(
+                col,
+                &raw,
+                PLAUSIBLE_CELSIUS_MAX,
+                "every temperature is above 200 °C: these look like kelvin; write 'temperature (K)'",
+            )?;
+        }
+        Ok(self.parse_column(col, false, |row, x| {
+            let t = unit.to_kelvin(x);
             if t <= 0.0 {
                 return Err(self.refuse(col, row, "a temperature must lie above absolute zero (0 K)"));
             }
@@ -991,17 +1009,8 @@ impl<'a> Table<'a> {
                     "a temperature above 1000 K (727 °C), where no polymer solution exists: check the value and its unit",
                 ));
             }
-            out.push(t);
-        }
-        if unit == TemperatureUnit::Celsius {
-            self.refuse_if_all_exceed(
-                col,
-                &raw,
-                PLAUSIBLE_CELSIUS_MAX,
-                "every temperature is above 200 °C: these look like kelvin; write 'temperature (K)'",
-            )?;
-        }
-        Ok(out)
+            Ok(t)
+        }))
     }
 
     /// The solvent of each series from a `solvent` column (one solvent per series).
@@ -1104,7 +1113,7 @@ fn first_in_row_order<const N: usize>(errors: [Option<(usize, InputError)>; N]) 
 }
 
 fn read_osmometry(table: &Table, options: &ReadOptions) -> Result<OsmometryColumns, InputError> {
-    let temperatures = table.temperatures(options)?;
+    let temperatures = table.temperatures_by_row(options)?;
     let c_col = table.require(Role::Concentration)?;
     let c_unit: ConcentrationUnit = table.unit(c_col, options.concentration_unit, "--concentration-unit")?;
     if c_unit == ConcentrationUnit::GramPerMillilitre {
@@ -1152,7 +1161,7 @@ fn read_osmometry(table: &Table, options: &ReadOptions) -> Result<OsmometryColum
     };
     // Column by column (in parallel), then row by row; where several values are wrong the
     // first in row order is reported, and within a row the first column in the order
-    // pressure (or head, density), sd, series, concentration.
+    // temperature, pressure (or head, density), sd, series, concentration.
     let pressure = || -> Result<Vec<f64>, (usize, InputError)> {
         match &source {
             Source::Pressure(col, unit) => table.signed_column(*col, |x| unit.to_si(x)),
@@ -1213,10 +1222,11 @@ fn read_osmometry(table: &Table, options: &ReadOptions) -> Result<OsmometryColum
     };
     let (pressure, (sd_values, (names, concentration))) =
         rayon::join(pressure, || rayon::join(sd_values, || rayon::join(|| table.series_column(), concentration)));
-    let (mut pressure, sd_values, names, concentration) = match (pressure, sd_values, names, concentration) {
-        (Ok(p), Ok(s), Ok(n), Ok(c)) => (p, s, n, c),
-        (p, s, n, c) => return Err(first_in_row_order([p.err(), s.err(), n.err(), c.err()]).1),
-    };
+    let (temperatures, mut pressure, sd_values, names, concentration) =
+        match (temperatures, pressure, sd_values, names, concentration) {
+            (Ok(t), Ok(p), Ok(s), Ok(n), Ok(c)) => (t, p, s, n, c),
+            (t, p, s, n, c) => return Err(first_in_row_order([t.err(), p.err(), s.err(), n.err(), c.err()]).1),
+        };
     if let Source::Head(h, _, None) = source {
         if !options.solvent_densities.is_empty() {
             let solvent_col = table.column(Role::Solvent);
