@@ -4,7 +4,7 @@
 use crate::dataset::{Series, TabulatedSeries};
 use crate::theta::{theta_for_series, theta_from_points, Quantity, SeBasis, ThetaResult, ThetaSettings, Volumes};
 use crate::virial::{
-    choose_noise, choose_series_forms, fit_temperature, pool_standard_errors, FormChoice, PressureNoise,
+    choose_noise, choose_series_forms, fit_temperature, flag_outliers, pool_standard_errors, FormChoice, PressureNoise,
     SkippedTemperature, TemperatureFit,
 };
 use rayon::prelude::*;
@@ -99,6 +99,7 @@ pub fn analyze_series_with_progress(
     progress: &dyn Progress,
 ) -> SeriesResult {
     let mut fits = Vec::new();
+    let mut fitted_sets = Vec::new();
     let mut skipped = Vec::new();
     let noise = choose_noise(&series.temperatures);
     let series_choice = (settings.virial == FormChoice::Auto && series.temperatures.len() > 1)
@@ -113,11 +114,14 @@ pub fn analyze_series_with_progress(
                     fit.candidates = c.candidates.clone();
                     fit.choice_variance = c.choice_variance[i];
                 }
-                fits.push(fit)
+                fits.push(fit);
+                fitted_sets.push(set);
             }
             Err(skip) => skipped.push(skip),
         }
     }
+    let noise_sds: Vec<_> = fitted_sets.iter().map(|set| noise.sds_for(set)).collect();
+    flag_outliers(&mut fits, &fitted_sets, &noise_sds);
     pool_standard_errors(&mut fits);
     let status = match (fits.is_empty(), skipped.is_empty()) {
         (true, _) => Status::Refused,

@@ -3,9 +3,11 @@
 
 mod forms;
 mod noise;
+mod outliers;
 
 pub use forms::{fit_form, score_form, FormError, FormFit, FormScore, Readings, VirialForm};
 pub use noise::{choose_noise, PressureNoise};
+pub use outliers::{flag_outliers, OUTLIER_P};
 
 use crate::regression::Weights;
 
@@ -30,8 +32,6 @@ pub const FEW_CONCENTRATIONS: usize = 4;
 pub const MIN_AUTO_DOF: usize = 2;
 /// AICc lead the three-parameter form needs over the best two-parameter one.
 pub const QUADRATIC_AICC_MARGIN: f64 = 2.0;
-/// |studentised residual| above this is flagged.
-pub const STUDENTIZED_LIMIT: f64 = 3.0;
 /// Mn below this (kg/mol; 2×10⁴ g/mol) is flagged: low-mass species may cross the membrane
 /// (common practice).
 pub const LOW_MN_KG_PER_MOL: f64 = 20.0;
@@ -45,11 +45,12 @@ pub enum FitWarning {
         /// Distinct concentrations.
         n: usize,
     },
-    /// A point with |studentised residual| above 3.
+    /// A reading off its temperature's line by more than the series' pooled noise allows
+    /// (see [`flag_outliers`]).
     Outlier {
         /// The point's concentration, g/mL.
         concentration_g_per_ml: f64,
-        /// Its studentised residual.
+        /// Its residual studentised by the other temperatures' pooled scatter.
         studentized: f64,
         /// Its line in the input file.
         line: usize,
@@ -105,7 +106,7 @@ impl fmt::Display for FitWarning {
                 write!(f, "only {n} concentrations: A2 rests on few points; measure at least 4")
             }
             FitWarning::Outlier { concentration_g_per_ml, studentized, line } => {
-                write!(f, "point at c = {concentration_g_per_ml:.4} g/mL (line {line}) has studentised residual {studentized:.1}: check it")
+                write!(f, "the reading at line {line} (c = {concentration_g_per_ml:.4} g/mL) is {studentized:.1} times the series' noise off the line, more than chance allows among this many readings (about 1 clean series in 200 is flagged): check it (a leak, a bubble, a slip) and correct or remove it if it is bad")
             }
             FitWarning::SeriesTruncation { gamma2_c_max } => {
                 write!(f, "Γ2·c_max = {gamma2_c_max:.2} > 1: too concentrated for a truncated virial series; dilute or use --virial sqrt")
@@ -383,15 +384,6 @@ impl ScoredTemperature {
         let fit_dof = fit.score.core.dof;
         if distinct < FEW_CONCENTRATIONS {
             warnings.push(FitWarning::FewConcentrations { n: distinct });
-        }
-        for (i, &t) in fit.lsq.studentized.iter().enumerate() {
-            if t.abs() > STUDENTIZED_LIMIT {
-                warnings.push(FitWarning::Outlier {
-                    concentration_g_per_ml: set.concentration_kg_per_m3[i] * crate::units::G_PER_ML_PER_KG_PER_M3,
-                    studentized: t,
-                    line: set.origins[i].line,
-                });
-            }
         }
         let c_max = set.concentration_kg_per_m3.iter().copied().fold(0.0, f64::max);
         warnings.extend(falling_pressure(&fit.score, set, c_max));
