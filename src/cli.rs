@@ -213,6 +213,10 @@ pub struct ReadArgs {
     /// value's series is refused, the others are analysed, and the exit status is 3).
     #[arg(long)]
     pub strict: bool,
+
+    /// The sheet to read from workbooks (.xlsx, .xls, .ods); the first sheet by default.
+    #[arg(long, value_name = "NAME")]
+    pub sheet: Option<String>,
 }
 
 /// Virial form used at each temperature.

@@ -229,3 +229,42 @@ fn the_outlier_flag_is_rare_on_clean_series_and_names_a_reading_raised_by_a_quar
     assert!(clean_flagged <= 6, "{clean_flagged} of {n} clean series flagged");
     assert!(named >= 297, "{named} of {n} raised readings named");
 }
+
+/// The JSON report of `analyze` on `input` with `extra` flags, without its `inputs` (which
+/// name the file and its hash).
+fn report_without_inputs(input: &std::path::Path, extra: &[&str], code: i32) -> serde_json::Value {
+    let out = thetaseek().arg("analyze").arg(input).args(["-q", "--report", "-"]).args(extra).assert().code(code);
+    let mut report: serde_json::Value = serde_json::from_slice(&out.get_output().stdout).unwrap();
+    report.as_object_mut().unwrap().remove("inputs");
+    report
+}
+
+/// Issue #24, item 1: workbooks read directly (tests/fixtures/make_workbooks.py writes them
+/// from the demo CSV): the same report as the CSV, and the awkward cells named by sheet and cell.
+#[test]
+fn workbooks_give_the_csv_s_report_and_name_the_sheet_and_cell_of_a_refusal() {
+    let books = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/workbooks");
+    let csv = report_without_inputs(&common::demo(), &[], 0);
+    for book in ["px40.xlsx", "px40.ods", "px40-text-numbers.xlsx", "px40-trailing.xlsx"] {
+        assert!(report_without_inputs(&books.join(book), &[], 0) == csv, "{book} differs from the CSV");
+    }
+    let second = books.join("px40-second-sheet.xlsx");
+    assert!(report_without_inputs(&second, &["--sheet", "Readings"], 0) == csv);
+    let a = thetaseek().arg("analyze").arg(&second).args(["--sheet", "Nope"]).assert().code(65);
+    assert!(String::from_utf8_lossy(&a.get_output().stderr)
+        .contains("there is no sheet 'Nope'; the workbook has 'Notes', 'Readings'"));
+    for (book, says) in [("px40-date.xlsx", "value 'date:"), ("px40-error.xlsx", "value '#DIV/0!'")] {
+        let report = report_without_inputs(&books.join(book), &[], 3);
+        let refused: Vec<&str> = report["series"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .filter_map(|s| s["reason"].as_str().filter(|r| r.starts_with("refused input")))
+            .collect();
+        assert_eq!(refused.len(), 1, "{book}");
+        assert!(refused[0].contains("sheet 'Readings', cell E8") && refused[0].contains(says), "{}", refused[0]);
+    }
+    let a = thetaseek().arg("analyze").arg(books.join("px40-merged.xlsx")).assert().code(65);
+    let stderr = String::from_utf8_lossy(&a.get_output().stderr).into_owned();
+    assert!(stderr.contains("cell D5") && stderr.contains("header field is empty"), "{stderr}");
+}

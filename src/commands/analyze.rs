@@ -44,7 +44,8 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
     };
     let figures_wanted = args.figures.is_some() || args.html.is_some();
     // One large osmometry file is analysed as it is read (see `campaign::stream`).
-    let mut loaded = if args.files.len() == 1 && !figures_wanted {
+    let streamable = !thetaseek::input::is_workbook(&args.files[0].display().to_string());
+    let mut loaded = if args.files.len() == 1 && !figures_wanted && streamable {
         match super::campaign::stream(args, &options, &settings, report_settings, table.as_ref())? {
             Streamed::Done => return Ok(()),
             Streamed::Loaded(loaded) => *loaded,
@@ -258,6 +259,7 @@ pub(crate) fn read_options(args: &ReadArgs) -> Result<ReadOptions, Error> {
         dn_dc: args.dn_dc.map(|d| d * 1e-3),
         wavelength_m: args.wavelength.map(|l| l * 1e-9),
         strict: args.strict,
+        sheet: args.sheet.clone(),
     })
 }
 

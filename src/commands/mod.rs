@@ -314,6 +314,12 @@ pub fn load(files: &[PathBuf], options: &ReadOptions, max_mb: u64) -> Result<Loa
     let mut loading = Loading::default();
     for (index, path) in files.iter().enumerate() {
         let name = path.display().to_string();
+        if input::is_workbook(&name) {
+            let bytes = read_input(path, max_mb)?;
+            let digest = sha2::Digest::finalize(<sha2::Sha256 as sha2::Digest>::new_with_prefix(&bytes));
+            loading.add(&name, &digest, input::read_workbook(&name, index, bytes, options)?);
+            continue;
+        }
         let mut source = hashing(open_input(path, max_mb)?);
         let contents = input::read_source(&name, index, &mut source, options, input::BLOCK_BYTES)?;
         loading.add(&name, &sha2::Digest::finalize(source.hasher), contents);

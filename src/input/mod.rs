@@ -10,10 +10,12 @@
 mod blocks;
 mod columns;
 mod scan;
+mod workbook;
 
 pub use blocks::{read_source, BlockReader, Opened, BLOCK_BYTES};
 pub use columns::{parse_header_cell, HeaderCell, Role};
 pub use scan::{scan, Layout, RecordLine};
+pub use workbook::{column_letters, is_workbook};
 
 use crate::dataset::{GroupedReadings, Measurement, Origin, TabulatedRow};
 use crate::error::InputError;
@@ -73,6 +75,8 @@ pub struct ReadOptions {
     /// Refuse the whole file at the first value that cannot be used, instead of only that
     /// value's series (`--strict`).
     pub strict: bool,
+    /// The sheet of a workbook to read (the first when `None`).
+    pub sheet: Option<String>,
 }
 
 /// A series refused for a value that cannot be used (osmometry files of several series): its
@@ -147,6 +151,24 @@ pub fn read_file(
     options: &ReadOptions,
 ) -> Result<FileContents, InputError> {
     read_table(Table::parse(name, file_index, bytes)?, options)
+}
+
+/// Reads one sheet of a workbook (`options.sheet`, else the first) as [`read_file`] reads its
+/// CSV export; every refusal names the sheet and the cell.
+pub fn read_workbook(
+    name: &str,
+    file_index: usize,
+    bytes: Vec<u8>,
+    options: &ReadOptions,
+) -> Result<FileContents, InputError> {
+    let sheet = workbook::sheet_as_csv(name, bytes, options.sheet.as_deref())?;
+    let header: Vec<String> = scan(&sheet.csv).map(|l| l.header).unwrap_or_default();
+    let locate = |e: InputError| workbook::in_sheet(e, name, &sheet, &header);
+    let mut contents = read_file(name, file_index, &sheet.csv, options).map_err(locate)?;
+    for refused in &mut contents.refused {
+        refused.error = locate(refused.error.clone());
+    }
+    Ok(contents)
 }
 
 /// [`read_file`] that frees the file's bytes as soon as the CSV reader has its text (a
