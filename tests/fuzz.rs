@@ -116,6 +116,8 @@ enum Mutation {
     Crlf,
     HeaderUnit(usize, usize),
     FlipByte(usize, u8),
+    /// Every comma becomes this separator (a semicolon or tab export).
+    Separator(bool),
 }
 
 fn mutation() -> impl Strategy<Value = Mutation> {
@@ -130,6 +132,7 @@ fn mutation() -> impl Strategy<Value = Mutation> {
         Just(Mutation::Crlf),
         (0usize..5, 0usize..TOKENS.len()).prop_map(|(f, t)| Mutation::HeaderUnit(f, t)),
         (0usize..2000, any::<u8>()).prop_map(|(i, b)| Mutation::FlipByte(i, b)),
+        any::<bool>().prop_map(Mutation::Separator),
     ]
 }
 
@@ -197,6 +200,10 @@ fn apply(text: &mut Vec<u8>, m: &Mutation) {
                 lines[1] = fields.join(",");
             }
             *text = lines.join("\n").into_bytes();
+        }
+        Mutation::Separator(tab) => {
+            let to = if tab { b'\t' } else { b';' };
+            text.iter_mut().filter(|b| **b == b',').for_each(|b| *b = to);
         }
         Mutation::FlipByte(i, b) => {
             if !text.is_empty() {

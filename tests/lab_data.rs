@@ -268,3 +268,44 @@ fn workbooks_give_the_csv_s_report_and_name_the_sheet_and_cell_of_a_refusal() {
     let stderr = String::from_utf8_lossy(&a.get_output().stderr).into_owned();
     assert!(stderr.contains("cell D5") && stderr.contains("header field is empty"), "{stderr}");
 }
+
+/// `text` (comma-separated, decimal points) as a locale's spreadsheet export writes it:
+/// `separator` between fields and a decimal comma in every number.
+fn exported(text: &str, separator: char) -> String {
+    text.lines()
+        .map(|l| {
+            if l.starts_with('#') {
+                return format!("{l}\r\n");
+            }
+            let fields: Vec<String> = l
+                .split(',')
+                .map(|f| if f.parse::<f64>().is_ok() { f.replace('.', ",") } else { f.to_string() })
+                .collect();
+            format!("{}\r\n", fields.join(&separator.to_string()))
+        })
+        .collect()
+}
+
+/// Issue #24, item 2: semicolon- and tab-separated exports with decimal commas were refused.
+/// The separator is judged from the header; the reports equal the comma file's, whole and in
+/// blocks; in a comma-separated file a decimal comma stays refused.
+#[test]
+fn semicolon_and_tab_exports_with_decimal_commas_give_the_comma_file_s_report() {
+    let dir = tempfile::tempdir().unwrap();
+    let demo = std::fs::read_to_string(common::demo()).unwrap();
+    let csv = report_without_inputs(&common::demo(), &[], 0);
+    for separator in [';', '\t'] {
+        let input = write(dir.path(), "export.csv", &exported(&demo, separator));
+        assert!(report_without_inputs(&input, &[], 0) == csv, "separator {separator:?}");
+    }
+    // A campaign read in blocks and streamed.
+    let big = campaign(1200, 1_000_000, true);
+    let comma = write(dir.path(), "comma.csv", &big.replace('\n', "\r\n"));
+    let semicolon = write(dir.path(), "semicolon.csv", &exported(&big, ';'));
+    assert!(std::fs::metadata(&semicolon).unwrap().len() > 256 << 10);
+    assert!(report_without_inputs(&semicolon, &[], 0) == report_without_inputs(&comma, &[], 0));
+    // Decimal commas in a comma-separated file are still refused, not guessed at.
+    let bad = write(dir.path(), "bad.csv", "temperature (C),concentration (g/L),pressure (Pa)\n20,\"1,5\",10\n");
+    let a = thetaseek().arg("analyze").arg(&bad).assert().code(65);
+    assert!(String::from_utf8_lossy(&a.get_output().stderr).contains("comma"));
+}

@@ -6,6 +6,7 @@
 //! block's row error can be reported before such a column-wide refusal.
 
 use super::scan::{scan_header, scan_records, Layout};
+use super::separators::Separators;
 use super::{
     check_structure, check_utf8_from, ignored_columns, locate_roles, parse_header_cell, parse_with_polars,
     read_file_owned, read_osmometry_sparing, FileContents, OsmometryColumns, ReadOptions, RefusedSeries, Role, Table,
@@ -53,7 +54,8 @@ pub enum Opened<'a> {
 pub struct BlockReader<'a> {
     name: &'a str,
     file_index: usize,
-    source: &'a mut (dyn Read + Send),
+    /// The file, semicolon- or tab-separated text rewritten to commas.
+    source: Separators<'a>,
     options: &'a ReadOptions,
     block_bytes: usize,
     buffer: Vec<u8>,
@@ -86,8 +88,9 @@ impl<'a> BlockReader<'a> {
         block_bytes: usize,
     ) -> Result<Opened<'a>, InputError> {
         let io = |e| read_error(name, e);
+        let mut source = Separators::new(source);
         let mut buffer = Vec::new();
-        let mut at_end = fill(source, &mut buffer, block_bytes).map_err(io)?;
+        let mut at_end = fill(&mut source, &mut buffer, block_bytes).map_err(io)?;
         // Read on until the header line is complete (a block may end inside it) or the file ends.
         let header = loop {
             match scan_header(&buffer) {
@@ -102,7 +105,7 @@ impl<'a> BlockReader<'a> {
                 }
                 _ => {
                     let more = buffer.len().max(block_bytes);
-                    at_end = fill(source, &mut buffer, more).map_err(io)?
+                    at_end = fill(&mut source, &mut buffer, more).map_err(io)?
                 }
             }
         };
@@ -204,7 +207,7 @@ impl<'a> BlockReader<'a> {
             }
         }
         let more = if block.consumed == 0 { self.buffer.len().max(self.block_bytes) } else { self.block_bytes };
-        self.at_end = fill(self.source, &mut self.buffer, more).map_err(|e| read_error(name, e))?;
+        self.at_end = fill(&mut self.source, &mut self.buffer, more).map_err(|e| read_error(name, e))?;
         Ok(true)
     }
 

@@ -10,6 +10,7 @@
 mod blocks;
 mod columns;
 mod scan;
+mod separators;
 mod workbook;
 
 pub use blocks::{read_source, BlockReader, Opened, BLOCK_BYTES};
@@ -27,6 +28,7 @@ use crate::units::{
 use polars::prelude::*;
 use std::collections::HashMap;
 use std::io::Cursor;
+use std::io::Read;
 use std::str::FromStr;
 
 /// Above this every temperature of a `(C)` column looks like kelvin: polymer solutions are not
@@ -150,7 +152,26 @@ pub fn read_file(
     bytes: &[u8],
     options: &ReadOptions,
 ) -> Result<FileContents, InputError> {
-    read_table(Table::parse(name, file_index, bytes)?, options)
+    let text = with_commas(bytes);
+    read_table(Table::parse(name, file_index, &text)?, options)
+}
+
+/// `bytes` as comma-separated text: borrowed when they are, rewritten when the header is
+/// separated by semicolons or tabs ([`separators`]).
+fn with_commas(bytes: &[u8]) -> std::borrow::Cow<'_, [u8]> {
+    let header = bytes
+        .split(|&b| b == b'\n')
+        .map(|l| l.strip_prefix(scan::BOM).unwrap_or(l))
+        .find(|l| !l.trim_ascii().is_empty() && l.first() != Some(&b'#'));
+    if header.is_none_or(|h| separators::separator_of(h) == b',') {
+        return std::borrow::Cow::Borrowed(bytes);
+    }
+    let mut source = bytes;
+    let mut rewritten = separators::Separators::new(&mut source);
+    let mut out = Vec::new();
+    // Reading from memory cannot fail.
+    let _ = rewritten.read_to_end(&mut out);
+    std::borrow::Cow::Owned(out)
 }
 
 /// Reads one sheet of a workbook (`options.sheet`, else the first) as [`read_file`] reads its
@@ -179,7 +200,7 @@ fn read_file_owned(
     bytes: Vec<u8>,
     options: &ReadOptions,
 ) -> Result<FileContents, InputError> {
-    let table = Table::parse(name, file_index, &bytes)?;
+    let table = Table::parse(name, file_index, &with_commas(&bytes))?;
     drop(bytes);
     read_table(table, options)
 }
