@@ -217,6 +217,11 @@ pub struct ReadArgs {
     /// The sheet to read from workbooks (.xlsx, .xls, .ods); the first sheet by default.
     #[arg(long, value_name = "NAME")]
     pub sheet: Option<String>,
+
+    /// Read a column under another name as one of ours, for files that cannot be edited:
+    /// `--column temperature="Temp (°C)"` (repeatable; the unit in brackets is still read).
+    #[arg(long = "column", value_name = "NAME=HEADER")]
+    pub columns: Vec<String>,
 }
 
 /// Virial form used at each temperature.

@@ -120,7 +120,7 @@ unit_enum!(
     /// Temperature scale of a column.
     TemperatureUnit, "temperature", "K", {
         /// Degree Celsius: T/K = t/°C + 273.15.
-        Celsius => "C", ["degc", "celsius"], CELSIUS_OFFSET_K;
+        Celsius => "C", ["degc", "celsius", "°C", "ºC", "deg C"], CELSIUS_OFFSET_K;
         /// Kelvin.
         Kelvin => "K", ["kelvin"], 0.0;
     }
@@ -183,6 +183,12 @@ unit_enum!(
         Pascal => "Pa", ["n/m2"], 1.0;
         /// Kilopascal.
         Kilopascal => "kPa", [], 1.0e3;
+        /// Millibar = hectopascal = 100 Pa (exact, SI brochure table 8).
+        Millibar => "mbar", ["hPa"], 1.0e2;
+        /// Conventional millimetre of water = 9.806 65 Pa (NIST SP 811).
+        MillimetreOfWater => "mmH2O", ["mm H2O", "mmwg"], 9.806_65;
+        /// Conventional centimetre of water = 98.0665 Pa (NIST SP 811).
+        CentimetreOfWater => "cmH2O", ["cm H2O"], 98.066_5;
         /// Bar = 10⁵ Pa (exact, SI brochure table 8).
         Bar => "bar", [], 1.0e5;
         /// Standard atmosphere = 101 325 Pa (exact, NIST SP 811).
@@ -208,10 +214,10 @@ impl PressureUnit {
 unit_enum!(
     /// Height of the solvent column in a membrane osmometer (hydrostatic head).
     LengthUnit, "head", "m", {
-        /// Centimetre.
-        Centimetre => "cm", [], 1.0e-2;
-        /// Millimetre.
-        Millimetre => "mm", [], 1.0e-3;
+        /// Centimetre (of the solvent column).
+        Centimetre => "cm", ["cm of solvent"], 1.0e-2;
+        /// Millimetre (of the solvent column).
+        Millimetre => "mm", ["mm of solvent"], 1.0e-3;
         /// Metre.
         Metre => "m", [], 1.0;
     }

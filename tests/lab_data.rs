@@ -309,3 +309,50 @@ fn semicolon_and_tab_exports_with_decimal_commas_give_the_comma_file_s_report() 
     let a = thetaseek().arg("analyze").arg(&bad).assert().code(65);
     assert!(String::from_utf8_lossy(&a.get_output().stderr).contains("comma"));
 }
+
+/// Issue #24, item 6: headers and units as labs write them.
+#[test]
+fn headers_and_units_as_labs_write_them() {
+    let dir = tempfile::tempdir().unwrap();
+    // Lab names, a unit written with a degree sign, g/dL, cm of water, two empty trailing
+    // columns (a spreadsheet export's habit), and a temperature typed as 300 for 30.
+    let text = "Sample,Temp (°C),Conc (g/dL),Osmotic pressure (cmH2O),,\n\
+        a,20,0.2,0.25,,\na,20,0.4,0.48,,\na,20,0.6,0.70,,\na,300,0.2,0.25,,\n\
+        a,30,0.2,0.26,,\na,30,0.4,0.50,,\na,30,0.6,0.74,,\n";
+    let input = write(dir.path(), "lab.csv", text);
+    let a = thetaseek().arg("analyze").arg(&input).assert().code(65);
+    let stderr = String::from_utf8_lossy(&a.get_output().stderr).into_owned();
+    assert!(
+        stderr.contains("the header has 'Sample', 'Temp (°C)'")
+            && stderr.contains("'Temp (°C)' looks like it")
+            && stderr.contains("--column temperature=\"Temp (°C)\""),
+        "{stderr}"
+    );
+    let report = json_stdout(thetaseek().arg("analyze").arg(&input).args([
+        "-q",
+        "--report",
+        "-",
+        "--column",
+        "temperature=Temp (°C)",
+        "--column",
+        "concentration=Conc (g/dL)",
+    ]));
+    let series = &report["series"][0];
+    // 0.25 cmH2O = 24.516625 Pa (NIST SP 811's conventional centimetre of water).
+    let first = &series["fits"][0]["points"][0];
+    assert!((first["pressure_pa"].as_f64().unwrap() - 24.516_625).abs() < 1e-9, "{first}");
+    assert!((first["concentration_g_per_ml"].as_f64().unwrap() - 0.002).abs() < 1e-15);
+    let skipped = series["skipped_temperatures"][0]["reason"].as_str().unwrap();
+    assert!(skipped.contains("(line 5)"), "{skipped}");
+    // An unnamed trailing column that holds a value is refused, named by its position.
+    let input = write(dir.path(), "lab2.csv", &text.replace("a,20,0.4,0.48,,", "a,20,0.4,0.48,,x"));
+    let a = thetaseek().arg("analyze").arg(&input).args(["--column", "temperature=Temp (°C)"]).assert().code(65);
+    assert!(String::from_utf8_lossy(&a.get_output().stderr).contains("field 6 (no name in the header)"));
+    // `osmotic pressure (cm)` is the solvent head, read with its density.
+    let head = "series,temperature (C),concentration (g/L),osmotic pressure (cm),solvent density (g/mL)\n\
+        a,20,2,0.3,0.87\na,20,4,0.6,0.87\na,20,6,0.9,0.87\n";
+    let input = write(dir.path(), "head.csv", head);
+    let report = json_stdout(thetaseek().arg("analyze").arg(&input).args(["-q", "--report", "-"]));
+    let p = report["series"][0]["fits"][0]["points"][0]["pressure_pa"].as_f64().unwrap();
+    assert!((p - 870.0 * 9.806_65 * 0.003).abs() < 1e-9, "{p}");
+}

@@ -23,6 +23,12 @@ fn pressure_units_follow_their_exact_definitions() {
     assert_eq!(pa("bar", 1.0), 1.0e5);
     assert_relative_eq!(pa("dyn/cm2", 10.0), 1.0, max_relative = 1e-15);
     assert_eq!(pa("kPa", 1.0), 1.0e3);
+    // SI brochure table 8: 1 mbar = 1 hPa = 100 Pa.
+    assert_eq!(pa("mbar", 1.0), 100.0);
+    assert_eq!(pa("hPa", 1.0), 100.0);
+    // NIST SP 811: conventional mm of water = 9.806 65 Pa (1 g/cm³ × g_n × 1 mm); cm of water ×10.
+    assert_relative_eq!(pa("mmH2O", 1.0), 1_000.0 * 9.806_65 * 1e-3, max_relative = 1e-15);
+    assert_relative_eq!(pa("cmH2O", 1.0), 1_000.0 * 9.806_65 * 1e-2, max_relative = 1e-15);
 }
 
 #[test]

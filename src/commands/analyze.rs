@@ -260,7 +260,23 @@ pub(crate) fn read_options(args: &ReadArgs) -> Result<ReadOptions, Error> {
         wavelength_m: args.wavelength.map(|l| l * 1e-9),
         strict: args.strict,
         sheet: args.sheet.clone(),
+        columns: args.columns.iter().map(|c| column_mapping(c)).collect::<Result<_, _>>()?,
     })
+}
+
+/// One `--column NAME=HEADER`: a column name we read, and the header cell to read as it.
+fn column_mapping(text: &str) -> Result<(thetaseek::input::Role, String), Error> {
+    let refuse = |why: &str| {
+        Error::Setting(format!("--column {text}: {why}; write it as NAME=HEADER, e.g. temperature=\"Temp (°C)\""))
+    };
+    let (name, header) = text.split_once('=').ok_or_else(|| refuse("no '='"))?;
+    let name = name.split_whitespace().collect::<Vec<_>>().join(" ").to_lowercase();
+    let role = thetaseek::input::Role::from_name(&name)
+        .ok_or_else(|| refuse(&format!("'{name}' is not a column name we read")))?;
+    if header.trim().is_empty() {
+        return Err(refuse("the header is empty"));
+    }
+    Ok((role, header.trim().to_string()))
 }
 
 /// Why series were refused, grouped by reason with counts (a campaign may refuse thousands).

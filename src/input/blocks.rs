@@ -114,6 +114,8 @@ impl<'a> BlockReader<'a> {
         let header = header.filter(|_| !at_end);
         let cells: Vec<super::HeaderCell> =
             header.as_ref().map(|h| h.fields.iter().map(|f| parse_header_cell(f)).collect()).unwrap_or_default();
+        let mut cells = cells;
+        super::map_columns(&mut cells, &options.columns);
         let osmometry = header.is_some()
             && cells.iter().any(|c| matches!(c.role, Some(Role::Pressure) | Some(Role::Head)))
             && std::str::from_utf8(&buffer[..header.as_ref().map_or(0, |h| h.data_start)]).is_ok();

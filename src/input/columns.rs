@@ -81,34 +81,80 @@ impl Role {
         }
     }
 
-    fn from_name(name: &str) -> Option<Role> {
-        Some(match name {
-            "series" | "sample" => Role::Series,
-            "temperature" => Role::Temperature,
-            "concentration" => Role::Concentration,
-            "pressure" | "osmotic pressure" => Role::Pressure,
-            "pressure sd" | "osmotic pressure sd" => Role::PressureSd,
-            "head" => Role::Head,
-            "solvent density" | "density" => Role::SolventDensity,
-            "solvent" => Role::Solvent,
-            "boiling point" | "bp" => Role::BoilingPoint,
-            "melting point" | "mp" => Role::MeltingPoint,
-            "refractive index" | "n" => Role::RefractiveIndex,
-            "notes" | "note" => Role::Notes,
-            "molar mass" | "mw" | "molecular weight" => Role::MolarMass,
-            "critical temperature" | "tc" => Role::CriticalTemperature,
-            "kc/r" | "k c / r" | "kc/r0" => Role::KcOverR,
-            "rayleigh ratio" | "excess rayleigh ratio" => Role::RayleighRatio,
-            "angle" | "scattering angle" => Role::Angle,
-            "a2" | "second virial coefficient" => Role::A2,
-            "a2 sd" | "second virial coefficient sd" => Role::A2Sd,
-            "chi" | "χ" => Role::Chi,
-            "chi sd" | "χ sd" => Role::ChiSd,
-            "polymer specific volume" | "specific volume" => Role::SpecificVolume,
-            "solvent molar volume" | "molar volume" => Role::MolarVolume,
-            _ => return None,
-        })
+    /// The role a header name (lower case, white space folded) stands for.
+    pub fn from_name(name: &str) -> Option<Role> {
+        NAMES.iter().find(|(n, _)| *n == name).map(|(_, r)| *r)
     }
+
+    /// The header names accepted for this role, quoted and comma separated.
+    pub fn accepted_names(self) -> String {
+        NAMES.iter().filter(|(_, r)| *r == self).map(|(n, _)| format!("'{n}'")).collect::<Vec<_>>().join(", ")
+    }
+}
+
+/// Every header name understood, and its role.
+const NAMES: &[(&str, Role)] = &[
+    ("series", Role::Series),
+    ("sample", Role::Series),
+    ("temperature", Role::Temperature),
+    ("concentration", Role::Concentration),
+    ("pressure", Role::Pressure),
+    ("osmotic pressure", Role::Pressure),
+    ("pressure sd", Role::PressureSd),
+    ("osmotic pressure sd", Role::PressureSd),
+    ("head", Role::Head),
+    ("solvent density", Role::SolventDensity),
+    ("density", Role::SolventDensity),
+    ("solvent", Role::Solvent),
+    ("boiling point", Role::BoilingPoint),
+    ("bp", Role::BoilingPoint),
+    ("melting point", Role::MeltingPoint),
+    ("mp", Role::MeltingPoint),
+    ("refractive index", Role::RefractiveIndex),
+    ("n", Role::RefractiveIndex),
+    ("notes", Role::Notes),
+    ("note", Role::Notes),
+    ("molar mass", Role::MolarMass),
+    ("mw", Role::MolarMass),
+    ("molecular weight", Role::MolarMass),
+    ("critical temperature", Role::CriticalTemperature),
+    ("tc", Role::CriticalTemperature),
+    ("kc/r", Role::KcOverR),
+    ("k c / r", Role::KcOverR),
+    ("kc/r0", Role::KcOverR),
+    ("rayleigh ratio", Role::RayleighRatio),
+    ("excess rayleigh ratio", Role::RayleighRatio),
+    ("angle", Role::Angle),
+    ("scattering angle", Role::Angle),
+    ("a2", Role::A2),
+    ("second virial coefficient", Role::A2),
+    ("a2 sd", Role::A2Sd),
+    ("second virial coefficient sd", Role::A2Sd),
+    ("chi", Role::Chi),
+    ("χ", Role::Chi),
+    ("chi sd", Role::ChiSd),
+    ("χ sd", Role::ChiSd),
+    ("polymer specific volume", Role::SpecificVolume),
+    ("specific volume", Role::SpecificVolume),
+    ("solvent molar volume", Role::MolarVolume),
+    ("molar volume", Role::MolarVolume),
+];
+
+/// A header cell that looks like `role` under another name (`Temp (°C)`, `Conc (g/dL)`,
+/// `Π (cmH2O)`): its name starts as one of the role's names does, or is a usual short form.
+pub fn likely_match(role: Role, cells: &[HeaderCell]) -> Option<&HeaderCell> {
+    let shorts: &[&str] = match role {
+        Role::Temperature => &["temp", "t"],
+        Role::Concentration => &["conc", "c"],
+        Role::Pressure => &["pres", "osm", "π", "pi"],
+        Role::Series => &["name", "polymer", "id"],
+        _ => &[],
+    };
+    cells.iter().filter(|c| c.role.is_none()).find(|c| {
+        let name = c.name.trim_end_matches('.');
+        shorts.iter().any(|s| name == *s || (s.len() > 2 && name.starts_with(s)))
+            || NAMES.iter().any(|(n, r)| *r == role && n.len() > 3 && name.starts_with(&n[..4]))
+    })
 }
 
 /// One header cell, split into its name and unit.
@@ -129,7 +175,12 @@ pub fn parse_header_cell(raw: &str) -> HeaderCell {
     let raw = raw.trim().to_string();
     let (name, unit) = split_unit(&raw);
     let name = name.split_whitespace().collect::<Vec<_>>().join(" ").to_lowercase();
-    let role = Role::from_name(&name);
+    let mut role = Role::from_name(&name);
+    // An osmotic pressure written as a height (`osmotic pressure (cm)`) is the solvent head.
+    let as_length = unit.as_deref().is_some_and(|u| u.parse::<crate::units::LengthUnit>().is_ok());
+    if role == Some(Role::Pressure) && as_length {
+        role = Some(Role::Head);
+    }
     HeaderCell { raw, name, unit, role }
 }
 

@@ -79,6 +79,8 @@ pub struct ReadOptions {
     pub strict: bool,
     /// The sheet of a workbook to read (the first when `None`).
     pub sheet: Option<String>,
+    /// Header cells to read as a role whatever their name (`--column temperature="Temp (°C)"`).
+    pub columns: Vec<(Role, String)>,
 }
 
 /// A series refused for a value that cannot be used (osmometry files of several series): its
@@ -153,7 +155,7 @@ pub fn read_file(
     options: &ReadOptions,
 ) -> Result<FileContents, InputError> {
     let text = with_commas(bytes);
-    read_table(Table::parse(name, file_index, &text)?, options)
+    read_table(Table::parse(name, file_index, &text, &options.columns)?, options)
 }
 
 /// `bytes` as comma-separated text: borrowed when they are, rewritten when the header is
@@ -200,7 +202,7 @@ fn read_file_owned(
     bytes: Vec<u8>,
     options: &ReadOptions,
 ) -> Result<FileContents, InputError> {
-    let table = Table::parse(name, file_index, &with_commas(&bytes))?;
+    let table = Table::parse(name, file_index, &with_commas(&bytes), &options.columns)?;
     drop(bytes);
     read_table(table, options)
 }
@@ -269,7 +271,7 @@ pub struct SolventProperties {
 /// `molar volume` (mL/mol), `density` (g/mL), `refractive index`, `notes`; empty cells are
 /// missing properties.
 pub fn read_solvents(name: &str, bytes: &[u8]) -> Result<Vec<SolventProperties>, InputError> {
-    let table = Table::parse(name, 0, bytes)?;
+    let table = Table::parse(name, 0, bytes, &[])?;
     let solvent = table.require(Role::Solvent)?;
     let temperature = |role: Role| -> Result<Option<(usize, TemperatureUnit)>, InputError> {
         table.column(role).map(|c| table.unit(c, None, "").map(|u| (c, u))).transpose()
@@ -530,12 +532,40 @@ fn parse_with_polars(
 
 /// Header cells that were not recognised and so are not used.
 fn ignored_columns(cells: &[HeaderCell]) -> Vec<String> {
-    cells.iter().filter(|c| c.role.is_none()).map(|c| c.raw.clone()).collect()
+    cells.iter().filter(|c| c.role.is_none() && !c.raw.is_empty()).map(|c| c.raw.clone()).collect()
+}
+
+/// The index after the last header cell with a name: the unnamed columns from there on are
+/// trailing.
+fn unnamed_from(cells: &[HeaderCell]) -> usize {
+    cells.iter().rposition(|c| !c.raw.is_empty()).map_or(0, |i| i + 1)
+}
+
+/// Gives the header cells named in `--column ROLE=HEADER` their role (matched on the cell as
+/// written, case and surrounding spaces aside); a column that had the role by its own name
+/// loses it.
+pub fn map_columns(cells: &mut [HeaderCell], columns: &[(Role, String)]) {
+    for (role, header) in columns {
+        let wanted = header.trim().to_lowercase();
+        if !cells.iter().any(|c| c.raw.to_lowercase() == wanted) {
+            continue;
+        }
+        for cell in cells.iter_mut() {
+            if cell.raw.to_lowercase() == wanted {
+                cell.role = Some(*role);
+            } else if cell.role == Some(*role) {
+                cell.role = None;
+            }
+        }
+    }
 }
 
 fn locate_roles(file: &str, header_line: usize, cells: &[HeaderCell]) -> Result<HashMap<Role, usize>, InputError> {
     let mut found: HashMap<Role, usize> = HashMap::new();
-    for (i, cell) in cells.iter().enumerate() {
+    // Unnamed columns after the last named one are a spreadsheet export's habit: ignored (they
+    // must hold no values, which `Table::from_frame` checks).
+    let named = unnamed_from(cells);
+    for (i, cell) in cells.iter().enumerate().take(named) {
         if cell.raw.is_empty() {
             return Err(InputError::at(
                 file,
@@ -636,12 +666,13 @@ struct DeferredCheck {
 
 impl<'a> Table<'a> {
     /// Scans, checks and parses a CSV: header roles, ragged rows, UTF-8, at least one data row.
-    fn parse(name: &'a str, file_index: usize, bytes: &[u8]) -> Result<Self, InputError> {
+    fn parse(name: &'a str, file_index: usize, bytes: &[u8], columns: &[(Role, String)]) -> Result<Self, InputError> {
         check_utf8(name, bytes)?;
         check_line_ends(name, bytes)?;
         let layout = scan(bytes)
             .ok_or_else(|| InputError::file(name, "the file is empty: expected a header line and data rows"))?;
-        let cells: Vec<HeaderCell> = layout.header.iter().map(|h| parse_header_cell(h)).collect();
+        let mut cells: Vec<HeaderCell> = layout.header.iter().map(|h| parse_header_cell(h)).collect();
+        map_columns(&mut cells, columns);
         let roles = locate_roles(name, layout.header_line, &cells)?;
         check_structure(name, &layout)?;
         if layout.records.iter().all(|r| r.blank) {
@@ -673,6 +704,20 @@ impl<'a> Table<'a> {
             ));
         }
         let columns = cells_of(name, &frame)?;
+        for (i, column) in columns.iter().enumerate().skip(unnamed_from(&cells)) {
+            let Cells::Text(text) = column else { continue };
+            let held =
+                text.iter().zip(&layout.records).position(|(t, r)| !r.blank && t.is_some_and(|t| !t.trim().is_empty()));
+            if let Some(row) = held {
+                return Err(InputError::at(
+                    name,
+                    layout.records[row].line,
+                    Some(&format!("field {} (no name in the header)", i + 1)),
+                    text.get(row).map(str::trim),
+                    "a column without a name holds a value: name the column in the header, or delete the value",
+                ));
+            }
+        }
         let numbers = columns.iter().any(|c| matches!(c, Cells::Numbers(_)));
         let deferred = deferred.then(|| std::sync::Mutex::new(Vec::new()));
         Ok(Table { name, file_index, cells, layout, columns, numbers, roles, deferred })
@@ -709,12 +754,27 @@ impl<'a> Table<'a> {
 
     fn require(&self, role: Role) -> Result<usize, InputError> {
         self.column(role).ok_or_else(|| {
+            let found = self.cells.iter().map(|c| format!("'{}'", c.raw)).collect::<Vec<_>>().join(", ");
+            let hint = match columns::likely_match(role, &self.cells) {
+                Some(cell) => format!(
+                    "; '{}' looks like it: rename it '{}' with its unit, or give --column {}=\"{}\"",
+                    cell.raw,
+                    role.name(),
+                    role.name(),
+                    cell.raw
+                ),
+                None => String::new(),
+            };
             InputError::at(
                 self.name,
                 self.layout.header_line,
                 Some(role.name()),
                 None,
-                format!("there is no such column; this kind of file needs a '{}' column with its unit", role.name()),
+                format!(
+                    "there is no such column; this kind of file needs a '{}' column with its unit (names accepted: {}; the header has {found}){hint}",
+                    role.name(),
+                    role.accepted_names()
+                ),
             )
         })
     }
