@@ -117,7 +117,15 @@ pub fn analyze_series_with_progress(
                 fits.push(fit);
                 fitted_sets.push(set);
             }
-            Err(skip) => skipped.push(skip),
+            Err(mut skip) => {
+                // A temperature of one or two readings beside others is often a typing slip
+                // (300 for 30.0): its lines are named.
+                if series.temperatures.len() > 1 && set.len() <= 2 && set.origins.iter().all(|o| o.line > 0) {
+                    let lines: Vec<String> = set.origins.iter().map(|o| o.line.to_string()).collect();
+                    skip.reason = format!("{} (line {})", skip.reason, lines.join(", "));
+                }
+                skipped.push(skip)
+            }
         }
     }
     let noise_sds: Vec<_> = fitted_sets.iter().map(|set| noise.sds_for(set)).collect();

@@ -5,7 +5,7 @@ use crate::theta::{Quantity, TemperaturePoint, Volumes};
 use std::collections::HashMap;
 
 /// Where a measurement came from, for messages.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 pub struct Origin {
     /// Index into the list of input files.
     pub file: usize,
@@ -90,6 +90,25 @@ pub struct Series {
     pub temperatures: Vec<TemperatureSet>,
     /// v̄ and V1 given in the file for this series.
     pub volumes: Option<Volumes>,
+    /// Readings marked in the `exclude` column: not fitted, kept with their reasons.
+    pub excluded: Vec<ExcludedReading>,
+}
+
+/// A reading the scientist marked as bad (a leak, a bubble) in the `exclude` column: kept as
+/// it was measured, with the reason, and never fitted. SI units; `None` where the cell does not
+/// hold a usable number.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct ExcludedReading {
+    /// T, K.
+    pub temperature_k: Option<f64>,
+    /// c, kg/m³.
+    pub concentration_kg_per_m3: Option<f64>,
+    /// Π, Pa.
+    pub pressure_pa: Option<f64>,
+    /// Where it was read.
+    pub origin: Origin,
+    /// Why it was excluded, as written.
+    pub reason: String,
 }
 
 /// One row of a table that already holds A2 (or χ) at a temperature.
@@ -198,6 +217,8 @@ impl From<&[Measurement]> for GroupedReadings {
 struct Sets {
     /// Key and readings (`temperature_k` holds the running sum until the end).
     sets: Vec<(i64, TemperatureSet)>,
+    /// Readings excluded by the scientist, in file order.
+    excluded: Vec<ExcludedReading>,
     index: Option<HashMap<i64, usize>>,
     last: usize,
 }
@@ -321,6 +342,17 @@ impl GroupedReadings {
         self.order.len() - 1
     }
 
+    /// Adds a reading excluded by the scientist to series `series` (which it creates if new,
+    /// so that a series whose every reading is excluded is still reported).
+    pub fn push_excluded(&mut self, series: &std::sync::Arc<str>, reading: ExcludedReading) {
+        let i = match self.current {
+            Some(i) if *self.order[i].0 == **series => i,
+            _ => self.index_of(series),
+        };
+        self.current = Some(i);
+        self.order[i].1.excluded.push(reading);
+    }
+
     /// Appends the readings of `other` (a later file) as if they had been pushed here (the
     /// mean temperature of a temperature given in both may differ in the last bit, since its
     /// sum is formed in two parts).
@@ -334,6 +366,7 @@ impl GroupedReadings {
         self.current = None;
         for (name, sets) in other.order {
             let i = self.index_of(&name);
+            self.order[i].1.excluded.extend(sets.excluded);
             for (key, set) in sets.sets {
                 let into = self.order[i].1.get(key, 0);
                 into.temperature_k += set.temperature_k;
@@ -407,7 +440,7 @@ fn finished_series(name: &str, sets: Sets) -> Series {
             set
         })
         .collect();
-    Series { name: name.to_string(), temperatures, volumes: None }
+    Series { name: name.to_string(), temperatures, volumes: None, excluded: sets.excluded }
 }
 
 #[cfg(test)]

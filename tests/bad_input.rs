@@ -56,6 +56,8 @@ const CATALOGUE: &[Case] = &[
     ("negative_sd.csv", Some(3), Some("pressure sd (Pa)"), Some("-0.3")),
     ("whitespace_only_value.csv", Some(4), Some("concentration (g/mL)"), None),
     ("utf16_file.csv", Some(1), None, None),
+    // A workbook whose header cells C5:D5 are merged: the merged-away cell is an empty name.
+    ("merged_header_cells.xlsx", Some(5), Some("field 4"), None),
     ("concentration_above_two_g_per_ml.csv", Some(3), Some("concentration (g/L)"), Some("5000")),
 ];
 

@@ -223,6 +223,22 @@ proptest! {
         let _ = read_solvents("fuzz.csv", &bytes);
     }
 
+    /// Workbooks (issue #24): arbitrary bytes, and the committed demo workbook with bytes
+    /// changed, read as a workbook end in a result or a refusal.
+    #[test]
+    fn damaged_workbooks_never_panic(flips in proptest::collection::vec((0usize..8000, any::<u8>()), 0..6), raw in proptest::collection::vec(any::<u8>(), 0..512)) {
+        let options = ReadOptions::default();
+        let _ = thetaseek::input::read_workbook("fuzz.xlsx", 0, raw, &options);
+        let mut book = std::fs::read(std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/workbooks/px40.xlsx")).unwrap();
+        for (i, b) in flips {
+            let k = i % book.len();
+            book[k] = b;
+        }
+        if let Ok(contents) = thetaseek::input::read_workbook("fuzz.xlsx", 0, book, &options) {
+            let _ = Dataset::new(contents.readings, &[], &[], &contents.volumes, &contents.solvents);
+        }
+    }
+
     #[test]
     fn mutated_valid_files_never_panic(mutations in proptest::collection::vec(mutation(), 1..5)) {
         let mut text = VALID.as_bytes().to_vec();

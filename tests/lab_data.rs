@@ -356,3 +356,78 @@ fn headers_and_units_as_labs_write_them() {
     let p = report["series"][0]["fits"][0]["points"][0]["pressure_pa"].as_f64().unwrap();
     assert!((p - 870.0 * 9.806_65 * 0.003).abs() < 1e-9, "{p}");
 }
+
+/// Issue #24, item 3: an `exclude` column. A reading judged bad is kept as measured with its
+/// reason, not fitted, counted in both tables, drawn hollow in the reduced-pressure figure and
+/// listed in the HTML; a temperature or a whole series is excluded the same way.
+#[test]
+fn excluded_readings_are_kept_with_their_reasons_and_not_fitted() {
+    let dir = tempfile::tempdir().unwrap();
+    let demo = std::fs::read_to_string(common::demo()).unwrap();
+    let mut text = String::new();
+    for line in demo.lines() {
+        let reason = if line.starts_with("PX-40 in mirane,mirane,40.0,6.00,") {
+            "membrane leak"
+        } else if line.starts_with("PX-40 in ostrol,ostrol,5.0,") {
+            "bath not settled"
+        } else {
+            ""
+        };
+        let line = line.replace("PX-40 in mirane,mirane,40.0,6.00,89.58,", "PX-40 in mirane,mirane,40.0,6.00,111.97,");
+        match line {
+            l if l.starts_with('#') => text.push_str(&format!("{l}\n")),
+            l if l.starts_with("series,") => text.push_str(&format!("{l},exclude\n")),
+            l => text.push_str(&format!("{l},{reason}\n")),
+        }
+    }
+    text.push_str("PX-40 in nolan,nolan,20.0,2.00,24.80,0.37,spilled\n");
+    let input = write(dir.path(), "excluded.csv", &text);
+    let (table, series_table, html, figures) =
+        (dir.path().join("t.csv"), dir.path().join("s.csv"), dir.path().join("r.html"), dir.path().join("figs"));
+    let out = thetaseek()
+        .arg("analyze")
+        .arg(&input)
+        .args(["--report", "-", "--table"])
+        .arg(&table)
+        .arg("--series-table")
+        .arg(&series_table)
+        .arg("--html")
+        .arg(&html)
+        .arg("--figures")
+        .arg(&figures)
+        .assert()
+        .success()
+        .get_output()
+        .clone();
+    let report: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let series = report["series"].as_array().unwrap();
+    let mirane = &series[0];
+    assert_eq!(mirane["excluded_readings"][0]["line"], 28);
+    assert_eq!(mirane["excluded_readings"][0]["reason"], "membrane leak");
+    assert_eq!(mirane["excluded_readings"][0]["pressure_pa"], 111.97);
+    let at_40 = mirane["fits"].as_array().unwrap().iter().find(|f| f["temperature_c"] == 40.0).unwrap();
+    assert_eq!(at_40["n_points"], 4, "the excluded reading is not fitted");
+    // The raised reading, had it been fitted, would be named as an outlier: excluded, nothing is.
+    assert!(at_40["warnings"].as_array().unwrap().iter().all(|w| w["code"] != "outlier"));
+    let ostrol = &series[1];
+    assert_eq!(ostrol["excluded_readings"].as_array().unwrap().len(), 5);
+    assert!(ostrol["fits"].as_array().unwrap().iter().all(|f| f["temperature_c"] != 5.0), "the whole 5 °C excluded");
+    let nolan = &series[2];
+    assert_eq!(nolan["status"], "refused");
+    assert!(nolan["reason"].as_str().unwrap().contains("every reading is excluded"));
+    // Counted in both tables.
+    let table = std::fs::read_to_string(&table).unwrap();
+    assert!(table.lines().next().unwrap().ends_with(",excluded readings"));
+    assert!(table.lines().any(|l| l.starts_with("PX-40 in mirane,ok,313.15,") && l.ends_with(",1")), "{table}");
+    let series_table = std::fs::read_to_string(&series_table).unwrap();
+    assert!(series_table.lines().any(|l| l.starts_with("PX-40 in ostrol,") && l.ends_with(",5")), "{series_table}");
+    // Drawn hollow (a circle with no fill) in the 40 °C panel, and listed in the HTML.
+    let svg = std::fs::read_to_string(figures.join("px-40-in-mirane-reduced-pressure.svg")).unwrap();
+    assert!(svg.contains("excluded, not fitted") && svg.contains("fill=\"none\""));
+    let html = std::fs::read_to_string(&html).unwrap();
+    common::parse_html(&html);
+    assert!(html.contains("<h2>Excluded readings</h2>") && html.contains("membrane leak") && html.contains("spilled"));
+    // The terminal names them.
+    let terminal = String::from_utf8_lossy(&out.stderr);
+    assert!(terminal.contains("excluded, not fitted: 1 reading(s): line 28 (membrane leak)"), "{terminal}");
+}

@@ -350,6 +350,12 @@ impl Loading {
     pub(crate) fn add(&mut self, name: &str, digest: &[u8], contents: input::FileContents) {
         self.inputs.push(InputFile::from_digest(name, digest));
         self.warnings.extend(unused_columns(name, &contents.ignored_columns));
+        self.warnings.extend(
+            contents
+                .excluded_rows
+                .iter()
+                .map(|(series, line, reason)| format!("{name}: line {line} ({series}) excluded, not used: {reason}")),
+        );
         self.readings.absorb(contents.readings);
         match contents.quantity {
             Some(Quantity::SecondVirial) => self.a2_rows.extend(contents.tabulated),

@@ -49,6 +49,8 @@ pub enum Role {
     RayleighRatio,
     /// Scattering angle.
     Angle,
+    /// Why a reading is excluded (empty: it is used).
+    Exclude,
 }
 
 impl Role {
@@ -78,6 +80,7 @@ impl Role {
             Role::KcOverR => "kc/r",
             Role::RayleighRatio => "rayleigh ratio",
             Role::Angle => "angle",
+            Role::Exclude => "exclude",
         }
     }
 
@@ -138,6 +141,9 @@ const NAMES: &[(&str, Role)] = &[
     ("specific volume", Role::SpecificVolume),
     ("solvent molar volume", Role::MolarVolume),
     ("molar volume", Role::MolarVolume),
+    ("exclude", Role::Exclude),
+    ("excluded", Role::Exclude),
+    ("exclusion", Role::Exclude),
 ];
 
 /// A header cell that looks like `role` under another name (`Temp (°C)`, `Conc (g/dL)`,

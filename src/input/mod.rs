@@ -18,7 +18,7 @@ pub use columns::{parse_header_cell, HeaderCell, Role};
 pub use scan::{scan, Layout, RecordLine};
 pub use workbook::{column_letters, is_workbook};
 
-use crate::dataset::{GroupedReadings, Measurement, Origin, TabulatedRow};
+use crate::dataset::{ExcludedReading, GroupedReadings, Measurement, Origin, TabulatedRow};
 use crate::error::InputError;
 use crate::theta::{Quantity, TemperaturePoint, Volumes};
 use crate::units::{
@@ -131,6 +131,9 @@ pub struct FileContents {
     pub ignored_columns: Vec<String>,
     /// Series refused for a value, in the order they were met.
     pub refused: Vec<RefusedSeries>,
+    /// Rows of tables, critical temperatures or light scattering set aside by the `exclude`
+    /// column: (series, line, reason). Osmometry readings travel with their series instead.
+    pub excluded_rows: Vec<(String, usize, String)>,
 }
 
 /// One fraction's critical (phase-separation) temperature.
@@ -225,6 +228,9 @@ fn read_table(mut table: Table, options: &ReadOptions) -> Result<FileContents, I
         drop(table);
         return Ok(FileContents { readings: columns.group(), ..contents });
     }
+    // Other routes' rows marked in the `exclude` column are set aside, and named in the
+    // run's warnings.
+    let excluded_rows = set_aside_rows(&mut table);
     let mut contents = if table.has(Role::A2) || table.has(Role::Chi) {
         read_tabulated(&table, options)?
     } else if table.has(Role::CriticalTemperature) {
@@ -243,7 +249,25 @@ fn read_table(mut table: Table, options: &ReadOptions) -> Result<FileContents, I
     contents.volumes = without_rows(table.volumes()?);
     contents.solvents = without_rows(table.solvents()?);
     contents.ignored_columns = table.ignored_columns();
+    contents.excluded_rows = excluded_rows;
     Ok(contents)
+}
+
+/// Sets aside the rows whose `exclude` cell holds text: (series, line, reason) of each.
+fn set_aside_rows(table: &mut Table) -> Vec<(String, usize, String)> {
+    let Some(col) = table.column(Role::Exclude) else { return Vec::new() };
+    let rows: Vec<usize> = table.rows().filter(|&r| !table.text(col, r).is_empty()).collect();
+    let found: Vec<(String, usize, String)> = rows
+        .iter()
+        .map(|&r| {
+            let series = table.series(r).map_or_else(|_| String::new(), |s| s.into_owned());
+            (series, table.line(r), table.text(col, r).to_string())
+        })
+        .collect();
+    for r in rows {
+        table.layout.records[r].blank = true;
+    }
+    found
 }
 
 /// Properties of one solvent, from a solvents table (SI: K, m³/mol, kg/m³).
@@ -655,6 +679,8 @@ struct Table<'a> {
     /// every value of this block exceed the limit, and the refusal at its first row) and
     /// decided once every block is read. `None` for a file read whole.
     deferred: Option<std::sync::Mutex<Vec<DeferredCheck>>>,
+    /// Rows the `exclude` column set aside: (row, series, the reading as measured).
+    excluded: Vec<(usize, std::sync::Arc<str>, ExcludedReading)>,
 }
 
 /// One column-wide check of one block (see [`Table::refuse_if_all_exceed`]).
@@ -720,7 +746,7 @@ impl<'a> Table<'a> {
         }
         let numbers = columns.iter().any(|c| matches!(c, Cells::Numbers(_)));
         let deferred = deferred.then(|| std::sync::Mutex::new(Vec::new()));
-        Ok(Table { name, file_index, cells, layout, columns, numbers, roles, deferred })
+        Ok(Table { name, file_index, cells, layout, columns, numbers, roles, deferred, excluded: Vec::new() })
     }
 
     /// Takes the text of `frame` (the same records read with every column as text) in place of
@@ -1363,6 +1389,7 @@ fn read_osmometry(table: &Table, options: &ReadOptions) -> Result<OsmometryColum
         concentration,
         pressure,
         sd: sd_values,
+        excluded: Vec::new(),
     })
 }
 
@@ -1376,9 +1403,16 @@ fn read_osmometry_sparing(
     options: &ReadOptions,
     refused: &mut Vec<RefusedSeries>,
 ) -> Result<OsmometryColumns, InputError> {
+    set_aside_excluded(table, options);
     loop {
         match read_osmometry(table, options) {
-            Ok(columns) => return Ok(columns),
+            Ok(mut columns) => {
+                // A refused series' excluded readings go with it.
+                let mut excluded = std::mem::take(&mut table.excluded);
+                excluded.retain(|(_, series, _)| !refused.iter().any(|r| *r.series == **series));
+                columns.excluded = excluded;
+                return Ok(columns);
+            }
             Err(error) if error.of_reading && !options.strict && !table.numbers => {
                 let row = error.line.and_then(|line| table.layout.records.iter().position(|r| r.line == line));
                 let Some(row) = row.filter(|r| !table.layout.records[*r].blank) else { return Err(error) };
@@ -1394,6 +1428,49 @@ fn read_osmometry_sparing(
     }
 }
 
+/// Sets aside the rows whose `exclude` cell holds text (the reason), keeping each as an
+/// [`ExcludedReading`] with the values that parse (none is refused: a reading judged bad may
+/// hold anything). Rows already set aside are not seen again.
+fn set_aside_excluded(table: &mut Table, options: &ReadOptions) {
+    let Some(col) = table.column(Role::Exclude) else { return };
+    let rows: Vec<usize> = table.rows().filter(|&r| !table.text(col, r).is_empty()).collect();
+    if rows.is_empty() {
+        return;
+    }
+    let t_unit = table
+        .column(Role::Temperature)
+        .and_then(|c| table.unit::<TemperatureUnit>(c, options.temperature_unit, "").ok().map(|u| (c, u)));
+    let c_unit = table
+        .column(Role::Concentration)
+        .and_then(|c| table.unit::<ConcentrationUnit>(c, options.concentration_unit, "").ok().map(|u| (c, u)));
+    let p_unit = table
+        .column(Role::Pressure)
+        .and_then(|c| table.unit::<PressureUnit>(c, options.pressure_unit, "").ok().map(|u| (c, u)));
+    let number = |c: usize, row: usize| table.number(c, row).ok().filter(|v| v.is_finite());
+    let mut found = Vec::with_capacity(rows.len());
+    for row in rows {
+        let series: std::sync::Arc<str> = match table.series(row) {
+            Ok(name) => name.as_ref().into(),
+            Err(_) => format!("line {}", table.line(row)).into(),
+        };
+        found.push((
+            row,
+            series,
+            ExcludedReading {
+                temperature_k: t_unit.and_then(|(c, u)| number(c, row).map(|x| u.to_kelvin(x))),
+                concentration_kg_per_m3: c_unit.and_then(|(c, u)| number(c, row).map(|x| u.to_si(x))),
+                pressure_pa: p_unit.and_then(|(c, u)| number(c, row).map(|x| u.to_si(x))),
+                origin: Origin { file: table.file_index, line: table.line(row) },
+                reason: table.text(col, row).to_string(),
+            },
+        ));
+    }
+    for (row, _, _) in &found {
+        table.layout.records[*row].blank = true;
+    }
+    table.excluded.extend(found);
+}
+
 /// An osmometry file's values, one vector per column (SI), kept apart from the text they came
 /// from so that the text can be freed before the readings are grouped.
 struct OsmometryColumns {
@@ -1405,6 +1482,8 @@ struct OsmometryColumns {
     concentration: Vec<f64>,
     pressure: Vec<f64>,
     sd: Option<Vec<f64>>,
+    /// Readings the `exclude` column set aside, in row order.
+    excluded: Vec<(usize, std::sync::Arc<str>, ExcludedReading)>,
 }
 
 impl OsmometryColumns {
@@ -1415,7 +1494,12 @@ impl OsmometryColumns {
     }
 
     fn group_into(self, readings: &mut GroupedReadings) {
+        // Excluded readings join their series in file order, so that series keep their order.
+        let mut excluded = self.excluded.into_iter().peekable();
         for &(row, line) in &self.rows {
+            while let Some((_, series, reading)) = excluded.next_if(|(r, _, _)| *r < row) {
+                readings.push_excluded(&series, reading);
+            }
             readings.push(&Measurement {
                 series: self.names[row].clone(),
                 temperature_k: self.temperatures[row],
@@ -1424,6 +1508,9 @@ impl OsmometryColumns {
                 pressure_sd_pa: self.sd.as_ref().map(|s| s[row]).filter(|v| !v.is_nan()),
                 origin: Origin { file: self.file_index, line },
             });
+        }
+        for (_, series, reading) in excluded {
+            readings.push_excluded(&series, reading);
         }
     }
 }

@@ -22,8 +22,14 @@ pub struct Sheet {
     pub first_column: usize,
 }
 
-/// Reads sheet `wanted` (the first when `None`) of the workbook `bytes` named `file`.
+/// Reads sheet `wanted` (the first when `None`) of the workbook `bytes` named `file`. A
+/// damaged workbook is refused, even where the reader would panic on it.
 pub fn sheet_as_csv(file: &str, bytes: Vec<u8>, wanted: Option<&str>) -> Result<Sheet, InputError> {
+    let read = std::panic::catch_unwind(|| read_sheet(file, bytes, wanted));
+    read.unwrap_or_else(|_| Err(InputError::file(file, "the workbook is damaged and could not be read")))
+}
+
+fn read_sheet(file: &str, bytes: Vec<u8>, wanted: Option<&str>) -> Result<Sheet, InputError> {
     let refuse = |message: String| InputError::file(file, message);
     let mut book = calamine::open_workbook_auto_from_rs(std::io::Cursor::new(bytes))
         .map_err(|e| refuse(format!("the workbook could not be read: {e}")))?;

@@ -111,7 +111,19 @@ pub fn draw_reduced_pressure(root: &DrawingArea<SVGBackend, Shift>, s: &SeriesRe
     let last = s.fits.len().saturating_sub(1);
     for (k, (f, area)) in s.fits.iter().zip(panels.iter()).enumerate() {
         let (label, colour) = quality(f);
+        // Readings excluded at this temperature, drawn hollow where they were measured.
+        let excluded: Vec<(f64, f64)> = s
+            .excluded_readings
+            .iter()
+            .filter(|e| e.temperature_k.is_some_and(|t| (t - f.temperature_k).abs() < 0.05))
+            .filter_map(|e| {
+                let c = e.concentration_g_per_ml? * 1.0e3; // kg/m³
+                let y = e.pressure_pa? / (c * crate::units::GAS_CONSTANT_J_PER_MOL_K * f.temperature_k) * 1.0e-3;
+                (c > 0.0 && y.is_finite()).then_some((c * 1.0e-3, y))
+            })
+            .collect();
         let mut ys: Vec<f64> = f.points.iter().flatten().map(|p| p.reduced_pressure_mol_per_g * scale).collect();
+        ys.extend(excluded.iter().map(|(_, y)| y * scale));
         ys.push(f.inverse_mn_mol_per_g * scale);
         ys.extend((0..=20).map(|i| fitted(f, c_hi * i as f64 / 20.0) * scale));
         let (lo, hi) = ys.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), v| (a.min(*v), b.max(*v)));
@@ -139,16 +151,22 @@ pub fn draw_reduced_pressure(root: &DrawingArea<SVGBackend, Shift>, s: &SeriesRe
                 colour,
             )
         }))?;
+        chart.draw_series(
+            excluded
+                .iter()
+                .map(|(c, y)| Circle::new((c * c_scale, y * scale), 5, ShapeStyle::from(&colour).stroke_width(2))),
+        )?;
         // The intercept 1/Mn as an open diamond on the axis.
         let at = (0.0, f.inverse_mn_mol_per_g * scale);
         let diamond = vec![(0, -7), (7, 0), (0, 7), (-7, 0), (0, -7)];
         chart.draw_series(std::iter::once(EmptyElement::at(at) + PathElement::new(diamond, INK.stroke_width(2))))?;
         let text = format!(
-            "{:.1} °C ({:.2} K) · {} · A2 = {} mol mL/g² · {label} · ◇ 1/Mn",
+            "{:.1} °C ({:.2} K) · {} · A2 = {} mol mL/g² · {label} · ◇ 1/Mn{}",
             f.temperature_c,
             f.temperature_k,
             f.virial_form.name(),
-            plus_minus(f.a2_mol_ml_per_g2, f.a2_se_mol_ml_per_g2)
+            plus_minus(f.a2_mol_ml_per_g2, f.a2_se_mol_ml_per_g2),
+            if excluded.is_empty() { "" } else { " · ○ excluded, not fitted" }
         );
         chart.draw_series(std::iter::once(Text::new(
             text,

@@ -183,6 +183,28 @@ pub fn analyze_html(report: &Report, figures: &[Figure], date: &str) -> String {
     }
     let _ = writeln!(b, "</section>");
 
+    if report.series.iter().any(|s| !s.excluded_readings.is_empty()) {
+        let _ = writeln!(
+            b,
+            "<section id=\"excluded\">\n<h2>Excluded readings</h2>\n<p>Marked in the <code>exclude</code> column: kept as measured, not fitted (hollow circles in the figures).</p>\n<div class=\"scroll\"><table>\n<tr><th>series</th><th>line</th><th>T (°C)</th><th>c (g/mL)</th><th>Π (Pa)</th><th>reason</th></tr>"
+        );
+        for s in &report.series {
+            for e in &s.excluded_readings {
+                let _ = writeln!(
+                    b,
+                    "<tr><td>{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td>{}</td></tr>",
+                    escape(&s.name),
+                    e.line,
+                    opt(e.temperature_c, 2),
+                    opt(e.concentration_g_per_ml, 5),
+                    opt(e.pressure_pa, 3),
+                    escape(&e.reason)
+                );
+            }
+        }
+        let _ = writeln!(b, "</table></div>\n</section>");
+    }
+
     let _ = writeln!(b, "<section id=\"fits\">\n<h2>Per-temperature fits</h2>");
     for s in report.series.iter().filter(|s| !s.fits.is_empty()) {
         let _ = writeln!(b, "<h3>{}</h3>\n<div class=\"scroll\"><table>", escape(&s.name));

@@ -219,6 +219,39 @@ pub struct SeriesReport {
     /// fits themselves).
     #[serde(skip)]
     pub fit_warnings: usize,
+    /// Readings excluded in the `exclude` column, with their reasons (absent when none).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub excluded_readings: Vec<ExcludedReport>,
+}
+
+/// A reading the scientist excluded, in report units (null where the cell held no number).
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ExcludedReport {
+    /// Line (or sheet row) in its file.
+    pub line: usize,
+    /// Temperature, K.
+    pub temperature_k: Option<f64>,
+    /// Temperature, °C.
+    pub temperature_c: Option<f64>,
+    /// Concentration, g/mL.
+    pub concentration_g_per_ml: Option<f64>,
+    /// Osmotic pressure, Pa.
+    pub pressure_pa: Option<f64>,
+    /// Why, as written in the `exclude` column.
+    pub reason: String,
+}
+
+impl From<&crate::dataset::ExcludedReading> for ExcludedReport {
+    fn from(e: &crate::dataset::ExcludedReading) -> Self {
+        ExcludedReport {
+            line: e.origin.line,
+            temperature_k: e.temperature_k,
+            temperature_c: e.temperature_k.map(crate::units::kelvin_to_celsius),
+            concentration_g_per_ml: e.concentration_kg_per_m3.map(|c| c * crate::units::G_PER_ML_PER_KG_PER_M3),
+            pressure_pa: e.pressure_pa,
+            reason: e.reason.clone(),
+        }
+    }
 }
 
 /// A skipped temperature.
@@ -405,6 +438,7 @@ impl SeriesReport {
             critical: None,
             light_scattering: Vec::new(),
             fit_warnings: 0,
+            excluded_readings: Vec::new(),
         }
     }
 
@@ -428,9 +462,14 @@ impl SeriesReport {
                 Some(s) if result.skipped.len() == 1 => {
                     format!("its only temperature could not be fitted: {}", s.reason)
                 }
+                None if series.is_some_and(|s| s.temperatures.is_empty() && !s.excluded.is_empty()) => {
+                    "every reading is excluded (see excluded_readings)".to_string()
+                }
                 _ => "no temperature could be fitted (see skipped_temperatures)".to_string(),
             }),
         };
+        let excluded_readings: Vec<ExcludedReport> =
+            series.map_or(Vec::new(), |s| s.excluded.iter().map(ExcludedReport::from).collect());
         let mut warnings: Vec<String> =
             skipped_temperatures.iter().map(|s| format!("{:.2} K skipped: {}", s.temperature_k, s.reason)).collect();
         if let Some(t) = &result.theta {
@@ -450,7 +489,10 @@ impl SeriesReport {
             theta,
             // Osmometry gives every temperature a fit or a skip (a refused series only skips);
             // a table of A2 or χ has neither.
-            route: match (result.fits.is_empty() && result.skipped.is_empty(), result.quantity) {
+            route: match (
+                result.fits.is_empty() && result.skipped.is_empty() && excluded_readings.is_empty(),
+                result.quantity,
+            ) {
                 (false, _) => "osmometry",
                 (true, crate::theta::Quantity::SecondVirial) => "a2_table",
                 (true, crate::theta::Quantity::HalfMinusChi) => "chi_table",
@@ -458,6 +500,7 @@ impl SeriesReport {
             critical: None,
             light_scattering: Vec::new(),
             fit_warnings,
+            excluded_readings,
         }
     }
 
@@ -557,6 +600,7 @@ impl Report {
             critical,
             light_scattering: Vec::new(),
             fit_warnings: 0,
+            excluded_readings: Vec::new(),
         });
     }
 
@@ -582,6 +626,7 @@ impl Report {
             critical: None,
             light_scattering: fits,
             fit_warnings: 0,
+            excluded_readings: Vec::new(),
         });
     }
 

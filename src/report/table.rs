@@ -82,7 +82,7 @@ fn header(out: &mut Vec<u8>, names: &[&str]) {
     line.end();
 }
 
-const TABLE_HEADER: [&str; 15] = [
+const TABLE_HEADER: [&str; 16] = [
     "series",
     "series status",
     "temperature (K)",
@@ -98,6 +98,7 @@ const TABLE_HEADER: [&str; 15] = [
     "dof",
     "reduced chi2",
     "warnings",
+    "excluded readings",
 ];
 
 /// Renders the table: series, temperature, form, Mn, A2, A3 with SEs, dof, reduced χ², warnings.
@@ -135,6 +136,13 @@ pub fn table_rows_csv(out: &mut Vec<u8>, series_reports: &[super::SeriesReport],
                 [one] => line.text(&one.code),
                 many => line.text(&many.iter().map(|w| w.code.as_str()).collect::<Vec<_>>().join(";")),
             }
+            // Excluded readings of this temperature (grouped as readings are, to 0.05 K).
+            line.count(
+                s.excluded_readings
+                    .iter()
+                    .filter(|e| e.temperature_k.is_some_and(|t| (t - f.temperature_k).abs() < 0.05))
+                    .count(),
+            );
             line.end();
         }
     }
@@ -149,7 +157,7 @@ pub enum SeriesFilter {
     NeedsAttention,
 }
 
-const SERIES_TABLE_HEADER: [&str; 12] = [
+const SERIES_TABLE_HEADER: [&str; 13] = [
     "series",
     "status",
     "theta (K)",
@@ -162,6 +170,7 @@ const SERIES_TABLE_HEADER: [&str; 12] = [
     "Mn (g/mol)",
     "warnings",
     "reason",
+    "excluded readings",
 ];
 
 /// One row per series: θ (K and °C), interval, crossing, weighted-mean Mn, warnings count.
@@ -201,6 +210,7 @@ pub fn series_table_rows_csv(
         line.number(theta.and_then(|t| t.mn_consistency.as_ref().map(|m| m.mean_mn_g_per_mol)));
         line.count(s.warnings.len() + s.fit_warnings);
         line.text(s.reason.as_deref().or_else(|| theta.and_then(|t| t.reason.as_deref())).unwrap_or_default());
+        line.count(s.excluded_readings.len());
         line.end();
     }
 }

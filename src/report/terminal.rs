@@ -132,6 +132,18 @@ pub fn render_terminal(report: &Report) -> String {
         for w in &s.warnings {
             let _ = writeln!(out, "  ! {w}");
         }
+        if !s.excluded_readings.is_empty() {
+            let shown: Vec<String> =
+                s.excluded_readings.iter().take(5).map(|e| format!("line {} ({})", e.line, e.reason)).collect();
+            let more = s.excluded_readings.len().saturating_sub(5);
+            let more = if more > 0 { format!(" and {more} more") } else { String::new() };
+            let _ = writeln!(
+                out,
+                "  excluded, not fitted: {} reading(s): {}{more}",
+                s.excluded_readings.len(),
+                shown.join(", ")
+            );
+        }
         out.push('\n');
     }
     for r in &report.routes {

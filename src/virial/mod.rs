@@ -226,15 +226,8 @@ pub fn score_temperature(
     let skip = |reason: String| SkippedTemperature { temperature_k: set.temperature_k, n_points: set.len(), reason };
     let distinct = set.distinct_concentrations();
     if distinct < MIN_CONCENTRATIONS {
-        // A temperature standing alone is often a typing slip (300 for 30.0): name its lines.
-        let lines: Vec<String> = set.origins.iter().take(3).map(|o| o.line.to_string()).collect();
-        let at = if set.len() <= 3 && set.origins.iter().all(|o| o.line > 0) {
-            format!(" (line {})", lines.join(", "))
-        } else {
-            String::new()
-        };
         return Err(skip(format!(
-            "{distinct} distinct concentration(s){at}; at least {MIN_CONCENTRATIONS} are needed for a standard error"
+            "{distinct} distinct concentration(s); at least {MIN_CONCENTRATIONS} are needed for a standard error"
         )));
     }
     let mut warnings = Vec::new();
