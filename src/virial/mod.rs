@@ -106,7 +106,7 @@ impl fmt::Display for FitWarning {
                 write!(f, "only {n} concentrations: A2 rests on few points; measure at least 4")
             }
             FitWarning::Outlier { concentration_g_per_ml, studentized, line } => {
-                write!(f, "the reading at line {line} (c = {concentration_g_per_ml:.4} g/mL) is {studentized:.1} times the series' noise off the line, more than chance allows among this many readings (about 1 clean series in 200 is flagged): check it (a leak, a bubble, a slip) and correct or remove it if it is bad")
+                write!(f, "the reading at line {line} (c = {concentration_g_per_ml:.4} g/mL) is {studentized:.1} times the series' noise off the line, more than chance allows among this many readings (about 1 clean series in 200 is flagged): check it (a leak, a bubble, a slip); if it is bad, write why in an 'exclude' column")
             }
             FitWarning::SeriesTruncation { gamma2_c_max } => {
                 write!(f, "Γ2·c_max = {gamma2_c_max:.2} > 1: too concentrated for a truncated virial series; dilute or use --virial sqrt")
