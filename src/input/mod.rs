@@ -416,10 +416,7 @@ fn check_utf8_from(name: &str, bytes: &[u8], first_line: usize) -> Result<(), In
         Ok(text) => return check_hidden_from(name, text, first_line),
         Err(e) => e,
     };
-    let before = &bytes[..e.valid_up_to()];
-    let line = first_line + before.iter().filter(|b| **b == b'\n').count();
-    let line_start = before.iter().rposition(|b| *b == b'\n').map_or(0, |p| p + 1);
-    let field = 1 + before[line_start..].iter().filter(|b| **b == b',').count();
+    let (line, field) = line_and_field(&bytes[..e.valid_up_to()], first_line);
     Err(InputError::at(
         name,
         line,
@@ -427,6 +424,14 @@ fn check_utf8_from(name: &str, bytes: &[u8], first_line: usize) -> Result<(), In
         None,
         "the text is not UTF-8 (perhaps Latin-1 or UTF-16 from a spreadsheet); save it as UTF-8 CSV",
     ))
+}
+
+/// The line and 1-based comma-separated field at the end of `before` (text from the start of
+/// line `first_line`).
+fn line_and_field(before: &[u8], first_line: usize) -> (usize, usize) {
+    let line = first_line + before.iter().filter(|b| **b == b'\n').count();
+    let line_start = before.iter().rposition(|b| *b == b'\n').map_or(0, |p| p + 1);
+    (line, 1 + before[line_start..].iter().filter(|b| **b == b',').count())
 }
 
 /// The first character of `text` that would act on a terminal, a spreadsheet or an XML reader
@@ -455,10 +460,7 @@ pub fn first_hidden_character(text: &str) -> Option<(usize, char)> {
 /// Refuses text holding a [`first_hidden_character`], naming its line, field and code point.
 fn check_hidden_from(name: &str, text: &str, first_line: usize) -> Result<(), InputError> {
     let Some((at, ch)) = first_hidden_character(text) else { return Ok(()) };
-    let before = &text.as_bytes()[..at];
-    let line = first_line + before.iter().filter(|b| **b == b'\n').count();
-    let line_start = before.iter().rposition(|b| *b == b'\n').map_or(0, |p| p + 1);
-    let field = 1 + before[line_start..].iter().filter(|b| **b == b',').count();
+    let (line, field) = line_and_field(&text.as_bytes()[..at], first_line);
     Err(InputError::at(
         name,
         line,
