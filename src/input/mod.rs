@@ -495,23 +495,20 @@ fn check_structure(name: &str, layout: &Layout) -> Result<(), InputError> {
         if let Some(field) = record.too_long {
             return Err(too_long(name, record.line, layout.header.get(field - 1).map(String::as_str), field));
         }
-        if let Some(field) = record.unclosed_quote {
+        // A quoting problem in one field, named by its header (or position).
+        let in_field = |field: usize, message: &str| {
             let column = layout.header.get(field - 1).cloned().unwrap_or_else(|| format!("field {field}"));
-            return Err(InputError::at(
-                name,
-                record.line,
-                Some(&column),
-                None,
+            InputError::at(name, record.line, Some(&column), None, message)
+        };
+        if let Some(field) = record.unclosed_quote {
+            return Err(in_field(
+                field,
                 "a double quote opens here and is never closed: remove it, or close it after the value",
             ));
         }
         if let Some(field) = record.stray_quote {
-            let column = layout.header.get(field - 1).cloned().unwrap_or_else(|| format!("field {field}"));
-            return Err(InputError::at(
-                name,
-                record.line,
-                Some(&column),
-                None,
+            return Err(in_field(
+                field,
                 "text follows a closing quote (as in \"4.00\"x): quote the whole value, or remove the quotes",
             ));
         }
