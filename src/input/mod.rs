@@ -680,6 +680,8 @@ struct Table<'a> {
     deferred: Option<std::sync::Mutex<Vec<DeferredCheck>>>,
     /// Rows the `exclude` column set aside: (row, series, the reading as measured).
     excluded: Vec<(usize, std::sync::Arc<str>, ExcludedReading)>,
+    /// Every refused value met by [`Table::parse_column`]: (row, column priority, refusal).
+    bad_rows: std::sync::Mutex<Vec<(usize, usize, InputError)>>,
 }
 
 /// One column-wide check of one block (see [`Table::refuse_if_all_exceed`]).
@@ -745,7 +747,18 @@ impl<'a> Table<'a> {
         }
         let numbers = columns.iter().any(|c| matches!(c, Cells::Numbers(_)));
         let deferred = deferred.then(|| std::sync::Mutex::new(Vec::new()));
-        Ok(Table { name, file_index, cells, layout, columns, numbers, roles, deferred, excluded: Vec::new() })
+        Ok(Table {
+            name,
+            file_index,
+            cells,
+            layout,
+            columns,
+            numbers,
+            roles,
+            deferred,
+            excluded: Vec::new(),
+            bad_rows: std::sync::Mutex::new(Vec::new()),
+        })
     }
 
     /// Takes the text of `frame` (the same records read with every column as text) in place of
@@ -819,11 +832,12 @@ impl<'a> Table<'a> {
         self.layout.records.iter().enumerate().filter(|(_, r)| !r.blank).map(|(i, _)| i)
     }
 
-    /// Sets aside every row of `series` (and `row` itself, whose name may be missing) as if
-    /// blank, so that reading again leaves them out.
-    fn set_aside(&mut self, series: &str, row: usize) {
-        let rows: Vec<usize> = self.rows().filter(|&r| self.series(r).is_ok_and(|name| name == series)).collect();
-        for r in rows.into_iter().chain([row]) {
+    /// Sets aside every row of the `series` named (and `rows` themselves, whose names may be
+    /// missing) as if blank, so that reading again leaves them out; one pass over the rows.
+    fn set_aside(&mut self, series: &std::collections::HashSet<String>, rows: &[usize]) {
+        let of_series: Vec<usize> =
+            self.rows().filter(|&r| self.series(r).is_ok_and(|name| series.contains(name.as_ref()))).collect();
+        for &r in of_series.iter().chain(rows) {
             self.layout.records[r].blank = true;
         }
     }
@@ -948,19 +962,53 @@ impl<'a> Table<'a> {
                 return Ok(out);
             }
         };
+        // Every bad row is noted (for `read_osmometry_sparing`, which then sets all their series
+        // aside in one pass); the first is returned.
+        let mut first: Option<(usize, InputError)> = None;
+        let mut noted = Vec::new();
         for (row, (text, record)) in text.iter().zip(&self.layout.records).enumerate() {
             let text = text.map_or("", str::trim);
             if record.blank || (allow_empty && text.is_empty()) {
                 out.push(f64::NAN);
                 continue;
             }
-            let value = match f64::from_str(text) {
-                Ok(v) if usable(v) && !(v == 0.0 && mantissa_is_nonzero(text)) => v,
-                _ => return Err((row, self.number(col, row).err().unwrap_or_else(|| self.refuse(col, row, "")))),
+            let converted = match f64::from_str(text) {
+                Ok(v) if usable(v) && !(v == 0.0 && mantissa_is_nonzero(text)) => convert(row, v),
+                _ => Err(self.number(col, row).err().unwrap_or_else(|| self.refuse(col, row, ""))),
             };
-            out.push(convert(row, value).map_err(|e| (row, e))?);
+            match converted {
+                Ok(v) => out.push(v),
+                Err(e) => {
+                    out.push(f64::NAN);
+                    if first.is_none() {
+                        first = Some((row, e.clone()));
+                    }
+                    noted.push((row, self.priority(col), e));
+                }
+            }
         }
-        Ok(out)
+        if !noted.is_empty() {
+            self.bad_rows.lock().unwrap_or_else(|p| p.into_inner()).extend(noted);
+        }
+        match first {
+            Some(error) => Err(error),
+            None => Ok(out),
+        }
+    }
+
+    /// The order in which a row's columns are judged (as in `read_osmometry`): within a row
+    /// the first refusal in this order is the one reported.
+    fn priority(&self, col: usize) -> usize {
+        const ORDER: [Role; 7] = [
+            Role::Temperature,
+            Role::Pressure,
+            Role::Head,
+            Role::SolventDensity,
+            Role::PressureSd,
+            Role::Series,
+            Role::Concentration,
+        ];
+        ORDER.iter().position(|r| self.roles.get(r) == Some(&col)).unwrap_or(ORDER.len())
     }
 
     /// [`Table::parse_column`] with the checks of [`Table::checked`].
@@ -1415,12 +1463,27 @@ fn read_osmometry_sparing(
             Err(error) if error.of_reading && !options.strict && !table.numbers => {
                 let row = error.line.and_then(|line| table.layout.records.iter().position(|r| r.line == line));
                 let Some(row) = row.filter(|r| !table.layout.records[*r].blank) else { return Err(error) };
-                let series = match table.series(row) {
-                    Ok(name) => name.into_owned(),
-                    Err(_) => format!("line {}", table.line(row)),
-                };
-                table.set_aside(&series, row);
-                refused.push(RefusedSeries { series, error });
+                // Every bad row the pass noted, first by row then by column, and the one returned:
+                // each series is set aside at its first, all in one go.
+                let mut bad = std::mem::take(&mut *table.bad_rows.lock().unwrap_or_else(|p| p.into_inner()));
+                bad.push((row, 0, error));
+                bad.sort_by_key(|(row, priority, _)| (*row, *priority));
+                let mut names = std::collections::HashSet::new();
+                let mut rows = Vec::new();
+                for (row, _, error) in bad {
+                    if !error.of_reading {
+                        continue;
+                    }
+                    let series = match table.series(row) {
+                        Ok(name) => name.into_owned(),
+                        Err(_) => format!("line {}", table.line(row)),
+                    };
+                    rows.push(row);
+                    if names.insert(series.clone()) {
+                        refused.push(RefusedSeries { series, error });
+                    }
+                }
+                table.set_aside(&names, &rows);
             }
             Err(error) => return Err(error),
         }
