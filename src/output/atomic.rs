@@ -112,32 +112,32 @@ pub fn commit_all(mut files: Vec<AtomicFile>) -> Result<(), (PathBuf, io::Error)
         file.sync().map_err(|e| (file.shown.clone(), plain(e)))?;
     }
     let _gate = committing();
-    let mut done: Vec<(PathBuf, Option<tempfile::NamedTempFile<()>>)> = Vec::new();
+    // Each destination replaced so far: whether it existed, and its old file's second name.
+    let mut done: Vec<(PathBuf, bool, Option<tempfile::NamedTempFile<()>>)> = Vec::new();
     for mut file in files {
-        let backup = keep_old(&file.path);
+        let existed = std::fs::symlink_metadata(&file.path).is_ok();
+        let backup = if existed { keep_old(&file.path) } else { None };
         let temp = file.temp.take().expect("present until commit");
         if let Err(e) = temp.persist(&file.path) {
-            done.push((file.path.clone(), backup));
-            for (path, backup) in done.into_iter().rev() {
-                match backup {
-                    Some(old) => drop(old.persist(&path)),
-                    None => drop(std::fs::remove_file(&path)),
+            for (path, existed, backup) in done.into_iter().rev() {
+                match (backup, existed) {
+                    (Some(old), _) => drop(old.persist(&path)),
+                    (None, false) => drop(std::fs::remove_file(&path)),
+                    // No second name (a file system without hard links): the new file stays.
+                    (None, true) => {}
                 }
             }
             return Err((file.shown.clone(), plain(e.error)));
         }
-        done.push((file.path.clone(), backup));
+        done.push((file.path.clone(), existed, backup));
     }
     // Success: the second names of the old files are dropped, which removes them.
     Ok(())
 }
 
-/// A second name for an existing destination, removed when dropped; `None` for a new file (or a
-/// file system without hard links, where a failed rename cannot be undone).
+/// A second name for an existing destination, removed when dropped; `None` on a file system
+/// without hard links, where a failed rename cannot be undone.
 fn keep_old(path: &Path) -> Option<tempfile::NamedTempFile<()>> {
-    if std::fs::symlink_metadata(path).is_err() {
-        return None;
-    }
     let dir = match path.parent() {
         Some(p) if !p.as_os_str().is_empty() => p,
         _ => Path::new("."),
