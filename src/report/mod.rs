@@ -21,7 +21,7 @@ use serde::Serialize;
 use sha2::{Digest, Sha256};
 
 /// Version of the report layout; raised when a stable key changes meaning or goes away.
-pub const SCHEMA_VERSION: u32 = 2;
+pub const SCHEMA_VERSION: u32 = 3;
 
 /// The whole report.
 #[derive(Debug, Clone, PartialEq, Serialize)]

@@ -40,8 +40,8 @@ pub struct PlanReportSettings {
     pub thermostat_c: Option<[f64; 2]>,
     /// |A2| tolerance, mol mL/g².
     pub a2_tolerance_mol_ml_per_g2: f64,
-    /// ⟨r²⟩0/M, Å² mol/g.
-    pub unperturbed_dimension_a2_mol_per_g: Option<f64>,
+    /// ⟨r²⟩0/M, Å² mol/g (the key spells out ångström², not the virial coefficient A2).
+    pub unperturbed_r2_over_m_angstrom2_mol_per_g: Option<f64>,
     /// Margin kept below the boiling point, K.
     pub boiling_margin_k: f64,
     /// Margin to Tc below which a warning is given, K.
@@ -68,7 +68,7 @@ impl PlanReport {
                 target_expansion,
                 thermostat_c: settings.thermostat.map(|(lo, hi)| [kelvin_to_celsius(lo), kelvin_to_celsius(hi)]),
                 a2_tolerance_mol_ml_per_g2: settings.a2_tolerance,
-                unperturbed_dimension_a2_mol_per_g: settings.unperturbed_r2_over_m.map(|d| d * 1e17),
+                unperturbed_r2_over_m_angstrom2_mol_per_g: settings.unperturbed_r2_over_m.map(|d| d * 1e17),
                 boiling_margin_k: crate::plan::BOILING_MARGIN_K,
                 critical_margin_k: crate::plan::CRITICAL_MARGIN_K,
             },
