@@ -423,7 +423,13 @@ fn excluded_readings_are_kept_with_their_reasons_and_not_fitted() {
     assert!(series_table.lines().any(|l| l.starts_with("PX-40 in ostrol,") && l.ends_with(",5")), "{series_table}");
     // Drawn hollow (a circle with no fill) in the 40 °C panel, and listed in the HTML.
     let svg = std::fs::read_to_string(figures.join("px-40-in-mirane-reduced-pressure.svg")).unwrap();
-    assert!(svg.contains("excluded, not fitted") && svg.contains("fill=\"none\""));
+    // Paths and axes are unfilled too: only the excluded reading is an unfilled circle.
+    let hollow = svg
+        .split("<circle")
+        .skip(1)
+        .filter(|c| c.split('>').next().is_some_and(|c| c.contains("fill=\"none\"")))
+        .count();
+    assert!(svg.contains("excluded, not fitted") && hollow == 1, "{hollow} hollow circles");
     let html = std::fs::read_to_string(&html).unwrap();
     common::parse_html(&html);
     assert!(html.contains("<h2>Excluded readings</h2>") && html.contains("membrane leak") && html.contains("spilled"));
