@@ -8,11 +8,12 @@ use std::fmt::Write;
 use std::hint::black_box;
 use thetaseek::analysis::{analyze, analyze_series, Settings};
 use thetaseek::dataset::{group, Dataset, Measurement};
+use thetaseek::dataset::{Quantity, TemperaturePoint};
 use thetaseek::input::{read_file, ReadOptions};
-use thetaseek::regression::Weights;
+use thetaseek::numerics::linear::Weights;
 use thetaseek::simulate::{simulate, Noise, VirialTruth};
 use thetaseek::thermo::flory_krigbaum_a2;
-use thetaseek::theta::{bootstrap, joint_fit, theta_from_points, Quantity, SeBasis, TemperaturePoint, ThetaSettings};
+use thetaseek::theta::{bootstrap, joint_fit, theta_from_points, SeBasis, ThetaSettings};
 use thetaseek::virial::{fit_form, fit_temperature, FormChoice, PressureNoise, Readings, VirialForm};
 
 const C: [f64; 6] = [1.5, 3.0, 4.5, 6.0, 7.5, 9.0];

@@ -28,7 +28,8 @@ fn main() {
     let results = analyze(&dataset.series, &dataset.tabulated, &settings);
     lap("analyze");
     let detail = thetaseek::report::Detail::for_series_count(results.len());
-    let report_settings = ReportSettings { report_detail: detail, ..ReportSettings::new("auto") };
+    let report_settings =
+        ReportSettings { report_detail: detail, ..ReportSettings::new(thetaseek::virial::FormChoice::Auto) };
     let report = Report::new(Vec::new(), report_settings, Vec::new(), &results, &dataset);
     lap("report");
     let json = thetaseek::report::report_json(&report);

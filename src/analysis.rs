@@ -1,26 +1,16 @@
 //! The per-series pipeline: per-temperature virial fits, then the across-temperature θ
 //! analysis, for every series in parallel. Pure computation: no files, no printing.
 
+use crate::dataset::{Quantity, Volumes};
 use crate::dataset::{Series, TabulatedSeries};
-use crate::theta::{theta_for_series, theta_from_points, Quantity, SeBasis, ThetaResult, ThetaSettings, Volumes};
+use crate::progress::Progress;
+use crate::theta::{theta_for_series, theta_from_points, SeBasis, ThetaResult, ThetaSettings};
 use crate::virial::{
     choose_noise, choose_series_forms, fit_temperature, flag_outliers, pool_standard_errors, FormChoice, PressureNoise,
     SkippedTemperature, TemperatureFit,
 };
 use rayon::prelude::*;
 use serde::Serialize;
-
-/// Where long runs report how far they got (a terminal progress bar in the binary). Units of
-/// work: one per series, plus one per bootstrap replicate.
-pub trait Progress: Sync {
-    /// `n` more units are done.
-    fn advance(&self, n: u64);
-}
-
-/// No progress reporting.
-impl Progress for () {
-    fn advance(&self, _: u64) {}
-}
 
 /// Units of work [`analyze_with_progress`] will report for these series and settings.
 pub fn work_units(series: &[Series], tabulated: &[TabulatedSeries], settings: &Settings) -> u64 {
@@ -109,6 +99,7 @@ pub fn analyze_series_with_progress(
         let choice = form.map_or(settings.virial, FormChoice::Fixed);
         match fit_temperature(set, choice, noise) {
             Ok(mut fit) => {
+                fit.set_index = i;
                 if let Some(c) = &series_choice {
                     fit.choice_reason = c.reason.clone();
                     fit.candidates = c.candidates.clone();

@@ -1,8 +1,90 @@
 //! Measurements in the internal SI system, grouped into series and temperatures.
 //! Nothing here knows about files or polars: the input module produces these.
 
-use crate::theta::{Quantity, TemperaturePoint, Volumes};
+use serde::Serialize;
 use std::collections::HashMap;
+
+/// One temperature's value for the across-temperature models.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct TemperaturePoint {
+    /// T, K.
+    pub temperature_k: f64,
+    /// A2 in mol m³/kg², or 1/2 − χ (dimensionless) for χ tables; see [`Quantity`].
+    pub value: f64,
+    /// Its standard error (weights 1/SE²), if known.
+    pub se: Option<f64>,
+}
+
+/// What [`TemperaturePoint::value`] holds. Both cross zero at θ.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, serde::Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Quantity {
+    /// A2, mol m³/kg².
+    SecondVirial,
+    /// 1/2 − χ = A2 V1/v̄², dimensionless.
+    HalfMinusChi,
+}
+
+impl Quantity {
+    /// The symbol messages use: "A2", or "1/2 − χ" for χ tables.
+    pub fn symbol(self) -> &'static str {
+        match self {
+            Quantity::SecondVirial => "A2",
+            Quantity::HalfMinusChi => "1/2 − χ",
+        }
+    }
+}
+
+/// Polymer and solvent volumes for the Flory parameters, SI.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Volumes {
+    /// Polymer partial specific volume v̄, m³/kg.
+    pub specific_volume: f64,
+    /// Solvent molar volume V1, m³/mol.
+    pub molar_volume: f64,
+}
+
+impl Volumes {
+    /// v̄²/V1, mol m³/kg²: A2 = (v̄²/V1)(1/2 − χ).
+    pub fn a2_per_half_minus_chi(&self) -> f64 {
+        self.specific_volume * self.specific_volume / self.molar_volume
+    }
+}
+
+/// The measurement a series' θ comes from.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, serde::Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Route {
+    /// Membrane osmometry readings (Mn and A2 per temperature).
+    Osmometry,
+    /// A2 already tabulated per temperature.
+    A2Table,
+    /// χ already tabulated per temperature.
+    ChiTable,
+    /// Critical temperatures of fractions (Shultz–Flory).
+    CriticalTemperatures,
+    /// Static light scattering (Zimm fits per temperature).
+    LightScattering,
+}
+
+impl Route {
+    /// The name reports use.
+    pub fn name(self) -> &'static str {
+        match self {
+            Route::Osmometry => "osmometry",
+            Route::A2Table => "a2_table",
+            Route::ChiTable => "chi_table",
+            Route::CriticalTemperatures => "critical_temperatures",
+            Route::LightScattering => "light_scattering",
+        }
+    }
+}
+
+impl std::fmt::Display for Route {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.pad(self.name())
+    }
+}
 
 /// Where a measurement came from, for messages.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
@@ -444,6 +526,8 @@ fn finished_series(name: &str, sets: Sets) -> Series {
 }
 
 #[cfg(test)]
+// These tests check values that are exact by construction.
+#[allow(clippy::float_cmp)]
 mod tests {
     use super::*;
 

@@ -10,8 +10,9 @@
 //! virial line), interpolated to T. θ = 1/(x̄ − α/β), its SE by the delta method, its interval by Fieller with
 //! n + k − 2 degrees of freedom.
 
+use crate::dataset::TemperaturePoint;
 use crate::safety::{cautions, Exclusion, SafeWindow};
-use crate::theta::{InverseTemperatureLine, SeBasis, TemperaturePoint};
+use crate::theta::{InverseTemperatureLine, SeBasis};
 use crate::uncertainty::{critical_value, fieller_zero, replicate_rng, FiellerSet};
 use crate::units::kelvin_to_celsius;
 use rand_distr::{Distribution, Normal};

@@ -9,16 +9,20 @@
 //! [`plot`] draws the figures from the report.
 //! File I/O lives only in the binary's `commands` and in [`output`].
 
+#![deny(clippy::float_cmp)]
+#![warn(missing_docs)]
+
 pub mod analysis;
 pub mod dataset;
 pub mod design;
 pub mod error;
+pub mod html;
 pub mod input;
-pub mod nls;
+pub mod numerics;
 pub mod output;
 pub mod plan;
 pub mod plot;
-pub mod regression;
+pub mod progress;
 pub mod report;
 pub mod safety;
 pub mod scattering;

@@ -5,9 +5,9 @@
 //! c → 0 (fitted in q² for Rg, the z-average radius of gyration). SI units: c in kg/m³, K c/R in
 //! mol/kg, q in 1/m, Mw in kg/mol, A2 in mol m³/kg², Rg in m.
 
+use crate::dataset::TemperaturePoint;
 use crate::input::ScatteringRow;
-use crate::regression::{self, Weights};
-use crate::theta::TemperaturePoint;
+use crate::numerics::linear::{self, Weights};
 use serde::Serialize;
 
 /// One temperature's light-scattering result.
@@ -81,7 +81,7 @@ fn distinct(values: impl Iterator<Item = f64>) -> Vec<f64> {
 
 /// Straight-line intercept, slope and their covariance of y against x.
 fn line(x: &[f64], y: &[f64]) -> Option<(f64, f64, f64, f64, f64)> {
-    let f = regression::fit(&regression::polynomial_design(x, 1), 2, y, None, Weights::Relative).ok()?;
+    let f = linear::fit(&linear::polynomial_design(x, 1), 2, y, None, Weights::Relative).ok()?;
     Some((f.coefficients[0], f.coefficients[1], f.cov(0, 0), f.cov(1, 1), f.cov(0, 1)))
 }
 
@@ -93,7 +93,7 @@ fn zero_angle_fit(c: &[f64], y: &[f64], quadratic: bool) -> Option<ZeroAngleLine
     if !quadratic {
         return line(c, y).map(|(a, b, va, vb, _)| (a, b, va, vb, None));
     }
-    let f = regression::fit(&regression::polynomial_design(c, 2), 3, y, None, Weights::Relative).ok()?;
+    let f = linear::fit(&linear::polynomial_design(c, 2), 3, y, None, Weights::Relative).ok()?;
     Some((f.coefficients[0], f.coefficients[1], f.cov(0, 0), f.cov(1, 1), Some((f.coefficients[2], f.cov(2, 2)))))
 }
 

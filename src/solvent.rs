@@ -3,8 +3,8 @@
 //! different solvents do not share one V1. Pure computation.
 
 use crate::dataset::Series;
+use crate::dataset::Volumes;
 use crate::input::SolventProperties;
-use crate::theta::Volumes;
 
 /// The table's row for a series: the one named after its solvent, else after the series.
 pub fn row_for<'a>(

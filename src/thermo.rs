@@ -2,7 +2,7 @@
 //! expansion factor and the overlap concentration. SI units throughout: v̄ in m³/kg, V1 in
 //! m³/mol, M in kg/mol, A2 in mol m³/kg², T and θ in K, ⟨r²⟩0/M in m² mol/kg.
 
-use crate::theta::brent_root;
+use crate::numerics::brent_root;
 use crate::units::AVOGADRO_PER_MOL;
 use std::f64::consts::PI;
 

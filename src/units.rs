@@ -386,6 +386,8 @@ pub fn head_to_pressure_pa(density_kg_per_m3: f64, head_m: f64) -> f64 {
 }
 
 #[cfg(test)]
+// Exact conversions (273.15 K is 0 °C by definition, SI brochure) compare exactly.
+#[allow(clippy::float_cmp)]
 mod tests {
     use super::*;
 

@@ -94,7 +94,8 @@ fn the_report_written_series_by_series_is_the_report_written_whole() {
     };
     let results = thetaseek::analysis::analyze(&dataset.series, &[], &settings);
     for detail in [Detail::Fits, Detail::Full] {
-        let report_settings = ReportSettings { report_detail: detail, ..ReportSettings::new("auto") };
+        let report_settings =
+            ReportSettings { report_detail: detail, ..ReportSettings::new(thetaseek::virial::FormChoice::Auto) };
         let inputs = vec![thetaseek::report::InputFile::new("c.csv", &bytes)];
         let mut report = Report::new(inputs, report_settings, vec!["a warning".into()], &results, &dataset);
         report.compare_routes();

@@ -32,7 +32,7 @@ fn report_of(rows: &[Measurement]) -> Report {
         ..Settings::default()
     };
     let results = analyze(&dataset.series, &dataset.tabulated, &settings);
-    Report::new(Vec::new(), ReportSettings::new("auto"), Vec::new(), &results, &dataset)
+    Report::new(Vec::new(), ReportSettings::new(thetaseek::virial::FormChoice::Auto), Vec::new(), &results, &dataset)
 }
 
 /// Every text of an SVG document, after checking it parses and has only finite coordinates.

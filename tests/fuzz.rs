@@ -8,9 +8,10 @@ use proptest::prelude::*;
 
 use thetaseek::analysis::{analyze, Settings};
 use thetaseek::dataset::Dataset;
+use thetaseek::dataset::Quantity;
 use thetaseek::input::{read_file, read_solvents, ReadOptions};
 use thetaseek::report::{render_terminal, series_table_csv, table_csv, to_json, Report, ReportSettings, SeriesFilter};
-use thetaseek::theta::{Quantity, ThetaSettings};
+use thetaseek::theta::ThetaSettings;
 
 mod common;
 
@@ -38,7 +39,13 @@ fn pipeline(bytes: &[u8]) {
         ..Settings::default()
     };
     let results = analyze(&dataset.series, &dataset.tabulated, &settings);
-    let report = Report::new(Vec::new(), ReportSettings::new("auto"), Vec::new(), &results, &dataset);
+    let report = Report::new(
+        Vec::new(),
+        ReportSettings::new(thetaseek::virial::FormChoice::Auto),
+        Vec::new(),
+        &results,
+        &dataset,
+    );
     // Every output, as the command writes them: no NaN or infinity in the JSON, nothing in
     // the terminal text that acts instead of being shown, every SVG and the HTML well-formed.
     let mut json = String::from_utf8(to_json(&report)).unwrap();
@@ -54,7 +61,7 @@ fn pipeline(bytes: &[u8]) {
     for figure in &figures {
         assert!(roxmltree::Document::parse(&figure.svg).is_ok(), "{} is not well-formed", figure.file_name);
     }
-    let html = thetaseek::report::html::analyze_html(&report, &figures, "2026-01-01");
+    let html = thetaseek::html::analyze_html(&report, &figures, "2026-01-01");
     common::parse_html(&html);
 }
 

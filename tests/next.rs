@@ -5,10 +5,11 @@ use rand::SeedableRng;
 use rand_chacha::ChaCha8Rng;
 use rand_distr::{Distribution, Normal};
 use thetaseek::analysis::{analyze_series, Settings};
+use thetaseek::dataset::TemperaturePoint;
 use thetaseek::dataset::{group, Measurement, Series};
 use thetaseek::design::{next_runs, DesignSettings, MeasuredTemperature};
 use thetaseek::thermo::flory_krigbaum_a2;
-use thetaseek::theta::{a2_points, TemperaturePoint, ThetaSettings};
+use thetaseek::theta::{a2_points, ThetaSettings};
 use thetaseek::units::GAS_CONSTANT_J_PER_MOL_K;
 
 mod common;

@@ -3,7 +3,7 @@
 //! tests/data/nist/ (certified parameters, standard deviations and residual sum of squares in
 //! each file's header). Both of NIST's start values are tried.
 
-use thetaseek::nls::{fit_nonlinear, LeastSquaresProblem};
+use thetaseek::numerics::nonlinear::{fit_nonlinear, LeastSquaresProblem};
 
 type Model = fn(&[f64], f64) -> (f64, Vec<f64>);
 

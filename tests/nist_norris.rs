@@ -2,7 +2,7 @@
 //! Source: NIST Statistical Reference Datasets, Norris.dat (certified values in its header),
 //! copied verbatim into tests/data/nist/.
 
-use thetaseek::regression::{fit, polynomial_design, Weights};
+use thetaseek::numerics::linear::{fit, polynomial_design, Weights};
 
 fn norris() -> (Vec<f64>, Vec<f64>) {
     let text = include_str!("data/nist/Norris.dat");

@@ -4,7 +4,7 @@
 
 use approx::assert_relative_eq;
 use serde_json::Value;
-use thetaseek::regression::{fit, polynomial_design, Weights};
+use thetaseek::numerics::linear::{fit, polynomial_design, Weights};
 use thetaseek::virial::{fit_form, Readings, VirialForm};
 
 fn cases() -> Vec<Value> {
@@ -52,7 +52,7 @@ fn virial_forms_on_osmometry_readings_match_numpy() {
             concentration: &c,
             pressure: &pressure,
             pressure_sd: sd.as_deref(),
-            sd_kind: thetaseek::regression::Weights::Absolute,
+            sd_kind: thetaseek::numerics::linear::Weights::Absolute,
         };
         let form = if case["degree"].as_u64() == Some(2) { VirialForm::Quadratic } else { VirialForm::Linear };
         let f = fit_form(form, &readings).unwrap();

@@ -45,7 +45,7 @@ fn report(header: &str, rows: &[String], settings: &Settings) -> Report {
     let contents = read_file("p.csv", 0, text.as_bytes(), &ReadOptions::default()).unwrap();
     let dataset = Dataset::new(contents.readings, &[], &[], &[], &[]);
     let results = analyze(&dataset.series, &dataset.tabulated, settings);
-    Report::new(Vec::new(), ReportSettings::new("auto"), Vec::new(), &results, &dataset)
+    Report::new(Vec::new(), ReportSettings::new(thetaseek::virial::FormChoice::Auto), Vec::new(), &results, &dataset)
 }
 
 const HEADER: &str = "series,temperature (K),concentration (g/L),pressure (Pa)\n";

@@ -6,7 +6,7 @@ use rand::SeedableRng;
 use rand_chacha::ChaCha8Rng;
 use rand_distr::{Distribution, Normal as NormalSampler};
 use statrs::distribution::{ContinuousCDF, Normal, StudentsT};
-use thetaseek::regression::Weights;
+use thetaseek::numerics::linear::Weights;
 use thetaseek::simulate::{simulate, Noise, VirialTruth};
 use thetaseek::units::GAS_CONSTANT_J_PER_MOL_K;
 use thetaseek::virial::{fit_form, Readings, VirialForm};

@@ -4,9 +4,10 @@ use std::sync::mpsc;
 use std::time::Duration;
 use thetaseek::analysis::{analyze, Settings};
 use thetaseek::dataset::Dataset;
+use thetaseek::dataset::Quantity;
 use thetaseek::input::{read_file, ReadOptions};
 use thetaseek::report::{Report, ReportSettings};
-use thetaseek::theta::{Quantity, ThetaSettings};
+use thetaseek::theta::ThetaSettings;
 
 /// Runs `f` on a thread and fails if it has not finished in `seconds`.
 fn within<T: Send + 'static>(seconds: u64, f: impl FnOnce() -> T + Send + 'static) -> T {
@@ -31,7 +32,13 @@ fn figures_of(text: &'static str) -> usize {
             ..Settings::default()
         };
         let results = analyze(&dataset.series, &dataset.tabulated, &settings);
-        let report = Report::new(Vec::new(), ReportSettings::new("auto"), Vec::new(), &results, &dataset);
+        let report = Report::new(
+            Vec::new(),
+            ReportSettings::new(thetaseek::virial::FormChoice::Auto),
+            Vec::new(),
+            &results,
+            &dataset,
+        );
         thetaseek::plot::figures_for_report(&report).map_or(0, |f| f.len())
     })
 }
@@ -141,7 +148,13 @@ fn a_fit_that_overflows_skips_its_temperature_instead_of_reporting_nan() {
     let result = thetaseek::analysis::analyze_series(&series[0], &settings, 0);
     assert_eq!(result.skipped.len(), 1, "{:?}", result.skipped);
     assert!(result.skipped[0].reason.contains("overflowed"), "{}", result.skipped[0].reason);
-    let report = Report::new(Vec::new(), ReportSettings::new("auto"), Vec::new(), &[result], &Dataset::default());
+    let report = Report::new(
+        Vec::new(),
+        ReportSettings::new(thetaseek::virial::FormChoice::Auto),
+        Vec::new(),
+        &[result],
+        &Dataset::default(),
+    );
     let json = String::from_utf8(thetaseek::report::to_json(&report)).unwrap();
     assert!(!json.contains("NaN") && !json.contains("inf"), "{json}");
 }

@@ -96,7 +96,7 @@ fn the_html_report_shows_the_routes_compared() {
 #[test]
 fn published_critical_temperatures_of_fractions_give_the_published_theta_and_psi1() {
     let fractions = [(19.700, 305.70), (32.300, 318.3), (72.000, 328.9)];
-    let volumes = thetaseek::theta::Volumes { specific_volume: 0.935e-3, molar_volume: 127.5e-6 };
+    let volumes = thetaseek::dataset::Volumes { specific_volume: 0.935e-3, molar_volume: 127.5e-6 };
     let route = thetaseek::theta::critical_route(&fractions, volumes, 0.95).unwrap();
     assert!((route.theta_k - 357.0).abs() < 5.0, "θ = {} K against the published 357 ± 5 K", route.theta_k);
     assert!((route.psi1 - 0.49).abs() < 0.06, "ψ1 = {} against the published 0.49 ± 0.06", route.psi1);

@@ -8,11 +8,12 @@ use rand_chacha::ChaCha8Rng;
 use serde_json::Value;
 use thetaseek::analysis::{analyze_series, Settings};
 use thetaseek::dataset::{group, Measurement, Series};
+use thetaseek::dataset::{Quantity, TemperaturePoint, Volumes};
 use thetaseek::simulate::{simulate, Noise, VirialTruth};
 use thetaseek::thermo::flory_krigbaum_a2;
 use thetaseek::theta::{
-    theta_from_points, Crossing, IntervalKind, InverseTemperatureLine, LineVariance, Quantity, SeBasis, Sense,
-    TemperaturePoint, ThetaSet, ThetaSettings, Volumes,
+    theta_from_points, Crossing, IntervalKind, InverseTemperatureLine, LineVariance, Model, SeBasis, Sense, ThetaSet,
+    ThetaSettings,
 };
 
 const V_BAR: f64 = 0.9e-3; // m³/kg
@@ -336,7 +337,7 @@ fn a_theta_outside_the_measured_temperatures_is_flagged_as_extrapolated() {
     let beyond = t.extrapolated_by_k.unwrap();
     assert!(beyond > 3.0 && beyond < 20.0, "{beyond}");
     assert!(t.warnings.iter().any(|w| w.contains("extrapolated")));
-    assert!(t.models.iter().any(|m| m.name == "local" && m.theta_k.is_none()));
+    assert!(t.models.iter().any(|m| m.name == Model::Local && m.theta_k.is_none()));
 }
 
 #[test]
@@ -403,7 +404,7 @@ fn the_curved_model_is_chosen_only_when_the_data_support_it() {
         None,
         &ThetaSettings::default(),
     );
-    assert_eq!(t.model, "curved", "{:?}", t.models);
+    assert_eq!(t.model, Model::Curved, "{:?}", t.models);
     // The curve's own zero: 1500u² + 2u − 3e-4 = 0, positive root (≈ 315.8 K).
     let u = (-2.0 + (4.0f64 + 4.0 * 1500.0 * 3e-4).sqrt()) / (2.0 * 1500.0);
     let truth = 1.0 / (u + 1.0 / 330.0);
@@ -417,7 +418,7 @@ fn the_curved_model_is_chosen_only_when_the_data_support_it() {
         None,
         &ThetaSettings::default(),
     );
-    assert_eq!(t.model, "flory_krigbaum");
+    assert_eq!(t.model, Model::FloryKrigbaum);
 }
 
 #[test]

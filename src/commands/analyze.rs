@@ -4,12 +4,13 @@ use super::campaign::Streamed;
 use super::{check_outputs, load, write_outputs, Bar, Loaded, PendingOutput};
 use crate::cli::{AnalyzeArgs, DetailArg, ReadArgs, VirialArg};
 use thetaseek::analysis::{self, Settings, Status};
+use thetaseek::dataset::Volumes;
 use thetaseek::error::Error;
 use thetaseek::input::ReadOptions;
 use thetaseek::output::Destination;
 use thetaseek::plot;
 use thetaseek::report::{self, Detail, Report, ReportSettings};
-use thetaseek::theta::{ThetaSettings, Volumes};
+use thetaseek::theta::ThetaSettings;
 use thetaseek::units::{ConcentrationUnit, PressureUnit, TemperatureUnit};
 use thetaseek::virial::{FormChoice, VirialForm};
 
@@ -40,7 +41,7 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
         solvent_molar_volume_ml_per_mol: args.solvent_molar_volume,
         a2_tolerance_mol_ml_per_g2: args.a2_tolerance,
         report_detail: detail(args, series_count),
-        ..ReportSettings::new(&format!("{:?}", args.read.virial).to_lowercase())
+        ..ReportSettings::new(settings.virial)
     };
     let figures_wanted = args.figures.is_some() || args.html.is_some();
     // One large osmometry file is analysed as it is read (see `campaign::stream`).
@@ -94,7 +95,7 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
         Vec::new()
     };
     if let Some(path) = &args.html {
-        let html = report::html::analyze_html(&report, &figures, &report::html::report_date());
+        let html = thetaseek::html::analyze_html(&report, &figures, &thetaseek::html::report_date());
         outputs.push(PendingOutput::bytes(Destination::File(path.clone()), html.into_bytes()));
     }
     if let Some(dir) = &args.figures {
@@ -325,7 +326,7 @@ pub(super) fn add_scattering_series(
             // Each temperature's SE from its own Zimm fit: taken as known (normal quantile),
             // widened by the line's lack-of-fit test where the points scatter more.
             thetaseek::theta::SeBasis::Known,
-            thetaseek::theta::Quantity::SecondVirial,
+            thetaseek::dataset::Quantity::SecondVirial,
             v,
             &settings.theta,
         );

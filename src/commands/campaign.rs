@@ -244,7 +244,7 @@ impl<'a> Campaign<'a> {
         self.header = false;
         for r in reports {
             self.tally.add(&r);
-            if r.route != "osmometry" || self.other_routes.contains(r.name.as_str()) {
+            if r.route != thetaseek::dataset::Route::Osmometry || self.other_routes.contains(r.name.as_str()) {
                 self.kept.push(r.into_record());
             }
         }
@@ -349,7 +349,7 @@ pub fn run(
         .par_iter()
         .map(|s| {
             let result = analysis::analyze_tabulated(s, settings);
-            analysis::Progress::advance(&bar, 1);
+            thetaseek::progress::Progress::advance(&bar, 1);
             SeriesReport::new(&result, None, campaign.detail)
         })
         .collect();

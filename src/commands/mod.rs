@@ -6,6 +6,7 @@ pub mod next;
 pub mod plan;
 
 use std::path::{Path, PathBuf};
+use thetaseek::dataset::Quantity;
 use thetaseek::dataset::{Dataset, TabulatedRow};
 use thetaseek::error::Error;
 use thetaseek::input::{self, ReadOptions};
@@ -13,7 +14,6 @@ use thetaseek::output::{
     commit_all, identity, same_file, target_of, write_in_place, write_stream, AtomicFile, Destination, Target,
 };
 use thetaseek::report::InputFile;
-use thetaseek::theta::Quantity;
 
 /// An output waiting to be written: rendered in memory, or rendered straight into its file
 /// (a campaign's report is written as it is serialised, never held whole in memory).
@@ -194,7 +194,7 @@ impl Bar {
     }
 }
 
-impl thetaseek::analysis::Progress for Bar {
+impl thetaseek::progress::Progress for Bar {
     fn advance(&self, n: u64) {
         self.0.inc(n);
     }
@@ -302,7 +302,7 @@ pub struct Loaded {
     /// Critical temperatures of fractions (the Shultz–Flory route).
     pub critical: Vec<input::CriticalRow>,
     /// v̄ and V1 per series, as the files gave them.
-    pub volumes: Vec<(String, thetaseek::theta::Volumes)>,
+    pub volumes: Vec<(String, thetaseek::dataset::Volumes)>,
     /// Static light-scattering readings.
     pub scattering: Vec<input::ScatteringRow>,
     /// Series refused for a value that cannot be used (the others were read).
@@ -338,7 +338,7 @@ pub(crate) struct Loading {
     readings: thetaseek::dataset::GroupedReadings,
     a2_rows: Vec<TabulatedRow>,
     chi_rows: Vec<TabulatedRow>,
-    volumes: Vec<(String, thetaseek::theta::Volumes)>,
+    volumes: Vec<(String, thetaseek::dataset::Volumes)>,
     solvents: Vec<(String, String)>,
     critical: Vec<input::CriticalRow>,
     scattering: Vec<input::ScatteringRow>,

@@ -4,6 +4,7 @@ use super::{check_outputs, load, write_outputs, Loaded, PendingOutput};
 use crate::cli::NextArgs;
 use std::fmt::Write;
 use thetaseek::analysis::{self, Settings};
+use thetaseek::dataset::TemperaturePoint;
 use thetaseek::design::{next_runs, DesignSettings, MeasuredTemperature, SeriesDesign};
 use thetaseek::error::{Error, InputError};
 use thetaseek::input;
@@ -11,7 +12,7 @@ use thetaseek::input::ReadOptions;
 use thetaseek::output::Destination;
 use thetaseek::report::{self, InputFile};
 use thetaseek::safety::{critical_of, SafeWindow};
-use thetaseek::theta::{a2_points, TemperaturePoint, ThetaSettings};
+use thetaseek::theta::{a2_points, ThetaSettings};
 use thetaseek::units::kelvin_to_celsius;
 
 /// The advice of one run, as JSON.
@@ -73,7 +74,7 @@ pub fn run(args: &NextArgs) -> Result<(), Error> {
                 .iter()
                 .zip(a2_points(&result.fits).0)
                 .filter_map(|(fit, point)| {
-                    let set = series.temperatures.iter().find(|t| t.temperature_k == fit.temperature_k)?;
+                    let set = series.temperatures.get(fit.set_index)?;
                     Some(MeasuredTemperature { point, concentrations: set.concentration_kg_per_m3.clone() })
                 })
                 .collect();

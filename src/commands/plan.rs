@@ -28,7 +28,7 @@ pub fn run(args: &PlanArgs) -> Result<(), Error> {
     for path in &reports {
         let (value, input) = super::read_report_json(path, args.read.max_input_mb)?;
         let name = input.path.clone();
-        series.extend(PlanSeries::from_report_json(&value).map_err(|e| InputError::file(&name, e))?);
+        series.extend(thetaseek::report::plan::plan_series_from_json(&value).map_err(|e| InputError::file(&name, e))?);
         inputs.push(input);
     }
     if !data.is_empty() {
@@ -39,8 +39,14 @@ pub fn run(args: &PlanArgs) -> Result<(), Error> {
             volumes: None,
         };
         let results = analysis::analyze(&dataset.series, &dataset.tabulated, &analysis_settings);
-        let report = Report::new(data_inputs.clone(), ReportSettings::new("auto"), Vec::new(), &results, &dataset);
-        series.extend(report.series.iter().map(PlanSeries::from_series_report));
+        let report = Report::new(
+            data_inputs.clone(),
+            ReportSettings::new(thetaseek::virial::FormChoice::Auto),
+            Vec::new(),
+            &results,
+            &dataset,
+        );
+        series.extend(report.series.iter().map(thetaseek::report::plan::plan_series));
         inputs.extend(data_inputs);
     }
 
@@ -77,7 +83,7 @@ pub fn run(args: &PlanArgs) -> Result<(), Error> {
         None
     };
     if let Some(path) = &args.html {
-        let html = report::html::plan_html(&plan_report, svg.as_deref(), &report::html::report_date());
+        let html = thetaseek::html::plan_html(&plan_report, svg.as_deref(), &thetaseek::html::report_date());
         outputs.push(PendingOutput::bytes(Destination::File(path.clone()), html.into_bytes()));
     }
     if let (Some(path), Some(svg)) = (&args.figure, svg) {

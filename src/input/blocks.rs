@@ -12,8 +12,8 @@ use super::{
     read_file_owned, read_osmometry_sparing, FileContents, OsmometryColumns, ReadOptions, RefusedSeries, Role, Table,
 };
 use crate::dataset::GroupedReadings;
+use crate::dataset::Volumes;
 use crate::error::InputError;
-use crate::theta::Volumes;
 use std::collections::HashMap;
 use std::io::Read;
 

@@ -19,8 +19,8 @@ pub use scan::{scan, Layout, RecordLine};
 pub use workbook::{column_letters, is_workbook};
 
 use crate::dataset::{ExcludedReading, GroupedReadings, Measurement, Origin, TabulatedRow};
+use crate::dataset::{Quantity, TemperaturePoint, Volumes};
 use crate::error::InputError;
-use crate::theta::{Quantity, TemperaturePoint, Volumes};
 use crate::units::{
     head_to_pressure_pa, A2Unit, AngleUnit, ConcentrationUnit, DensityUnit, KcOverRUnit, LengthUnit, MolarMassUnit,
     MolarVolumeUnit, PressureUnit, RayleighUnit, SpecificVolumeUnit, TemperatureUnit, UnknownUnit,

@@ -6,14 +6,15 @@ use super::format::{axis, power_of_ten, superscript};
 use super::{
     draw_legend, ink_text, marker_element, series_colour, series_marker, temperature_chart, FigureError, GREY, INK,
 };
-use crate::report::{LineReport, SeriesReport, ThetaReport};
-use crate::theta::Quantity;
+use crate::dataset::Quantity;
+use crate::report::{SeriesReport, ThetaReport};
+use crate::theta::FittedLine;
 use crate::units::kelvin_to_celsius;
 use plotters::coord::Shift;
 use plotters::prelude::*;
 
 /// Value of the line and its SE at T.
-fn line_at(line: &LineReport, t: f64) -> (f64, f64) {
+fn line_at(line: &FittedLine, t: f64) -> (f64, f64) {
     let value = line.a + line.b_k / t;
     let var = line.var_a + 2.0 * line.cov_ab_k / t + line.var_b_k2 / (t * t);
     (value, var.max(0.0).sqrt())
@@ -49,7 +50,7 @@ struct Curve {
     se: Vec<f64>,
 }
 
-fn curve(line: &LineReport, lo: f64, hi: f64) -> Curve {
+fn curve(line: &FittedLine, lo: f64, hi: f64) -> Curve {
     let t: Vec<f64> = (0..=120).map(|i| lo + (hi - lo) * i as f64 / 120.0).collect();
     let (value, se) = t.iter().map(|&t| line_at(line, t)).unzip();
     Curve { t, value, se }

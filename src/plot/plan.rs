@@ -6,9 +6,9 @@ use super::format::{axis, power_of_ten, superscript};
 use super::{
     draw_legend, ink_text, marker_element, series_colour, series_marker, temperature_chart, FigureError, GREY, INK,
 };
+use crate::dataset::Quantity;
 use crate::input::SolventProperties;
 use crate::plan::{Plan, PlanSeries, PlanSettings, BOILING_MARGIN_K, MELTING_MARGIN_K};
-use crate::theta::Quantity;
 use crate::units::kelvin_to_celsius;
 use plotters::coord::Shift;
 use plotters::prelude::*;

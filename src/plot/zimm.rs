@@ -78,7 +78,8 @@ pub fn draw_zimm(root: &DrawingArea<SVGBackend, Shift>, s: &SeriesReport) -> Res
             let mut at: Vec<(f64, f64)> = z
                 .readings
                 .iter()
-                .filter(|r| r.concentration_g_per_ml == *c)
+                // The same value as read: grouping, not a tolerance.
+                .filter(|r| r.concentration_g_per_ml.to_bits() == c.to_bits())
                 .map(|r| (x_of(r.concentration_g_per_ml, r.q2_per_um2), r.kc_over_r_mol_per_g * scale))
                 .collect();
             at.sort_by(|a, b| a.0.total_cmp(&b.0));

@@ -1,15 +1,15 @@
 //! The report: one struct tree that *is* the JSON schema (every field carries its unit in
 //! its name), built from the analysis results, plus the CSV table and the terminal table.
 
-pub mod html;
 pub mod plan;
 mod table;
 mod terminal;
 mod theta;
 
+use crate::dataset::Route;
 pub use table::{series_table_csv, series_table_rows_csv, table_csv, table_rows_csv, SeriesFilter};
 pub use terminal::{plus_minus, render_summary, render_terminal, Tally};
-pub use theta::{LineReport, ThetaPointReport, ThetaReport};
+pub use theta::{ThetaPointReport, ThetaReport};
 
 use crate::analysis::{SeriesResult, Status};
 use crate::units::{
@@ -46,7 +46,7 @@ pub struct Report {
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct RouteTheta {
     /// `osmometry`, `a2_table`, `chi_table` or `critical_temperatures`.
-    pub route: &'static str,
+    pub route: Route,
     /// θ, K.
     pub theta_k: f64,
     /// SE, K.
@@ -61,9 +61,9 @@ pub struct RouteTheta {
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct RouteDifference {
     /// First route.
-    pub a: &'static str,
+    pub a: Route,
     /// Second route.
-    pub b: &'static str,
+    pub b: Route,
     /// θ_a − θ_b, K.
     pub difference_k: f64,
     /// (θ_a − θ_b)/√(SE_a² + SE_b²).
@@ -116,7 +116,7 @@ impl InputFile {
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct ReportSettings {
     /// `auto`, `linear`, `quadratic` or `sqrt`.
-    pub virial: String,
+    pub virial: crate::virial::FormChoice,
     /// Unit assumed for headers without one, if given.
     pub temperature_unit: Option<String>,
     /// Unit assumed for headers without one, if given.
@@ -167,9 +167,9 @@ impl Detail {
 
 impl ReportSettings {
     /// Settings with the constants filled in.
-    pub fn new(virial: &str) -> Self {
+    pub fn new(virial: crate::virial::FormChoice) -> Self {
         ReportSettings {
-            virial: virial.to_string(),
+            virial,
             temperature_unit: None,
             concentration_unit: None,
             pressure_unit: None,
@@ -210,7 +210,7 @@ pub struct SeriesReport {
     /// The θ analysis (null for refused series).
     pub theta: Option<ThetaReport>,
     /// `osmometry`, `a2_table`, `chi_table` or `critical_temperatures`.
-    pub route: &'static str,
+    pub route: Route,
     /// The Shultz–Flory result of a critical-temperature series.
     pub critical: Option<crate::theta::CriticalRoute>,
     /// Per-temperature light-scattering fits (Mw, A2, Rg, α_s) of a light-scattering series.
@@ -405,7 +405,7 @@ impl FitReport {
             concentration: &series_set.concentration_kg_per_m3,
             pressure: &series_set.pressure_pa,
             pressure_sd: None,
-            sd_kind: crate::regression::Weights::Absolute,
+            sd_kind: crate::numerics::linear::Weights::Absolute,
         }
         .reduced();
         (0..series_set.len())
@@ -434,7 +434,7 @@ impl SeriesReport {
             fits: Vec::new(),
             skipped_temperatures: Vec::new(),
             theta: None,
-            route: "osmometry",
+            route: Route::Osmometry,
             critical: None,
             light_scattering: Vec::new(),
             fit_warnings: 0,
@@ -448,9 +448,7 @@ impl SeriesReport {
         let fits = result
             .fits
             .iter()
-            .filter_map(|fit| {
-                sets.iter().find(|s| s.temperature_k == fit.temperature_k).map(|set| FitReport::new(fit, set, detail))
-            })
+            .filter_map(|fit| sets.get(fit.set_index).map(|set| FitReport::new(fit, set, detail)))
             .collect();
         let skipped_temperatures: Vec<SkippedReport> = result.skipped.iter().map(SkippedReport::from).collect();
         let reason = match result.status {
@@ -493,9 +491,9 @@ impl SeriesReport {
                 result.fits.is_empty() && result.skipped.is_empty() && excluded_readings.is_empty(),
                 result.quantity,
             ) {
-                (false, _) => "osmometry",
-                (true, crate::theta::Quantity::SecondVirial) => "a2_table",
-                (true, crate::theta::Quantity::HalfMinusChi) => "chi_table",
+                (false, _) => Route::Osmometry,
+                (true, crate::dataset::Quantity::SecondVirial) => Route::A2Table,
+                (true, crate::dataset::Quantity::HalfMinusChi) => Route::ChiTable,
             },
             critical: None,
             light_scattering: Vec::new(),
@@ -596,7 +594,7 @@ impl Report {
             fits: Vec::new(),
             skipped_temperatures: Vec::new(),
             theta: None,
-            route: "critical_temperatures",
+            route: Route::CriticalTemperatures,
             critical,
             light_scattering: Vec::new(),
             fit_warnings: 0,
@@ -621,8 +619,8 @@ impl Report {
             warnings: theta.warnings.clone(),
             fits: Vec::new(),
             skipped_temperatures: Vec::new(),
-            theta: (!fits.is_empty()).then(|| ThetaReport::new(theta, crate::theta::Quantity::SecondVirial)),
-            route: "light_scattering",
+            theta: (!fits.is_empty()).then(|| ThetaReport::new(theta, crate::dataset::Quantity::SecondVirial)),
+            route: Route::LightScattering,
             critical: None,
             light_scattering: fits,
             fit_warnings: 0,

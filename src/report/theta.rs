@@ -1,6 +1,6 @@
 //! The `theta` object of each series in the report, in report units.
 
-use crate::theta::{Crossing, IntervalKind, ModelTheta, Sense, ThetaResult};
+use crate::theta::{Crossing, FittedLine, IntervalKind, IntervalMethod, Model, ModelTheta, Sense, ThetaResult};
 use crate::units::{kelvin_to_celsius, G_PER_MOL_PER_KG_PER_MOL};
 use serde::Serialize;
 
@@ -20,7 +20,7 @@ pub struct ThetaReport {
     /// `bounded`, `unbounded`, `exclusive` or `none`.
     pub ci_kind: IntervalKind,
     /// `fieller` or `delta_curved`.
-    pub ci_method: &'static str,
+    pub ci_method: IntervalMethod,
     /// Why that interval is the headline.
     pub ci_reason: String,
     /// Confidence level.
@@ -32,7 +32,7 @@ pub struct ThetaReport {
     /// Why there is no θ.
     pub reason: Option<String>,
     /// Headline model: `flory_krigbaum` or `curved`.
-    pub model: &'static str,
+    pub model: Model,
     /// `ucst` (A2 rises with T) or `lcst` (A2 falls as T rises).
     pub sense: Option<Sense>,
     /// θ from every model, side by side.
@@ -50,7 +50,7 @@ pub struct ThetaReport {
     /// Temperature stability around θ.
     pub stability: Option<StabilityReport>,
     /// The fitted line A2 = a + b/T, to redraw it.
-    pub line: Option<LineReport>,
+    pub line: Option<FittedLine>,
     /// The values the across-temperature models were fitted to, in the line's units.
     pub points: Vec<ThetaPointReport>,
     /// Every sign change between measured temperatures when there are two or more (an upper
@@ -175,39 +175,9 @@ pub struct StabilityReport {
     pub plus_minus_k: f64,
 }
 
-/// A2 (or 1/2 − χ) = a + b/T with covariance, in the input quantity's units.
-#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
-pub struct LineReport {
-    /// `second_virial` (mol mL/g²) or `half_minus_chi` (dimensionless).
-    pub quantity: crate::theta::Quantity,
-    /// a (value at T → ∞).
-    pub a: f64,
-    /// b, value × K.
-    pub b_k: f64,
-    /// Var(a).
-    pub var_a: f64,
-    /// Cov(a, b), value² K.
-    pub cov_ab_k: f64,
-    /// Var(b), value² K².
-    pub var_b_k2: f64,
-    /// Reduced χ² of the line on the per-temperature SEs as given.
-    pub reduced_chi2: Option<f64>,
-    /// P of a scatter at least that large if the SEs are right (null where not testable).
-    #[serde(default)]
-    pub lack_of_fit_p: Option<f64>,
-    /// `standard_errors` (covariance from the per-temperature SEs), `scaled_by_scatter` (scaled
-    /// up by the reduced χ², where p < 0.10) or `unweighted` (no SEs: the line's own scatter).
-    #[serde(default = "default_variance")]
-    pub variance: crate::theta::LineVariance,
-}
-
-fn default_variance() -> crate::theta::LineVariance {
-    crate::theta::LineVariance::Unweighted
-}
-
 impl ThetaReport {
     /// Converts a θ result; `quantity` says what the line's values are.
-    pub fn new(t: &ThetaResult, quantity: crate::theta::Quantity) -> Self {
+    pub fn new(t: &ThetaResult, quantity: crate::dataset::Quantity) -> Self {
         ThetaReport {
             theta_k: t.theta_k,
             theta_c: t.theta_k.map(kelvin_to_celsius),
@@ -268,7 +238,7 @@ impl ThetaReport {
             }),
             line: t.line.as_ref().map(|l| {
                 let (var_a, cov_ab, var_b) = l.ab_covariance();
-                LineReport {
+                FittedLine {
                     quantity,
                     a: l.a(),
                     b_k: l.b(),

@@ -4,7 +4,7 @@
 //! φ = 1/√x + 1/(2x): intercept a = 1/θ (the infinite-molar-mass limit), slope b = 1/(θ ψ1).
 
 use super::Volumes;
-use crate::regression::{self, Weights};
+use crate::numerics::linear::{self, Weights};
 use crate::uncertainty::critical_value;
 use serde::Serialize;
 
@@ -47,8 +47,8 @@ pub fn critical_route(fractions: &[(f64, f64)], volumes: Volumes, confidence: f6
         })
         .collect();
     let y: Vec<f64> = fractions.iter().map(|&(_, tc)| 1.0 / tc).collect();
-    let fit = regression::fit(&regression::polynomial_design(&phi, 1), 2, &y, None, Weights::Relative)
-        .map_err(|e| e.to_string())?;
+    let fit =
+        linear::fit(&linear::polynomial_design(&phi, 1), 2, &y, None, Weights::Relative).map_err(|e| e.to_string())?;
     let (a, b) = (fit.coefficients[0], fit.coefficients[1]);
     if a.is_nan() || a <= 0.0 {
         return Err("the intercept 1/θ is not positive: the fractions do not extrapolate to a θ".into());

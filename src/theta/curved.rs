@@ -1,14 +1,13 @@
 //! A2 quadratic in 1/T, for series that reach far above θ where A2(T) bends:
 //! A2 = c0 + c1 u + c2 u², u = 1/T − x̄. Its zero inside the measured range is found with
-//! argmin's Brent root finder; the SE of θ follows by the delta method through the implicit
+//! Brent's root finder ([`crate::numerics::brent_root`]); the SE of θ follows by the delta method through the implicit
 //! function theorem.
 
 use super::line::{scatter_p_value, SeBasis, LACK_OF_FIT_P};
 use super::TemperaturePoint;
-use crate::regression::{self, Weights};
+use crate::numerics::brent_root;
+use crate::numerics::linear::{self, Weights};
 use crate::uncertainty::critical_value;
-use argmin::core::{CostFunction, Error as ArgminError, Executor};
-use argmin::solver::brent::BrentRoot;
 
 /// The fitted curve.
 #[derive(Debug, Clone, PartialEq)]
@@ -48,8 +47,8 @@ impl CurvedFit {
         let y = |i: usize| points[i].value;
         let weight = |i: usize| weights.as_ref().map_or(1.0, |w| w[i]);
         let kind = if weights.is_some() { Weights::Absolute } else { Weights::Relative };
-        let quad = regression::fit_core(n, 3, |i| regression::polynomial_row(u[i], 3), y, weight, kind).ok()?;
-        let line = regression::fit_core(n, 2, |i| regression::polynomial_row(u[i], 2), y, weight, kind).ok()?;
+        let quad = linear::fit_core(n, 3, |i| linear::polynomial_row(u[i], 3), y, weight, kind).ok()?;
+        let line = linear::fit_core(n, 2, |i| linear::polynomial_row(u[i], 2), y, weight, kind).ok()?;
         let reduced_chi2 = quad.rss_weighted / quad.dof as f64;
         let (scale, dof) = match weights {
             None => (1.0, Some(quad.dof)),
@@ -65,8 +64,8 @@ impl CurvedFit {
             covariance,
             dof,
             curvature_t: quad.coefficients[2] / (scale * quad.covariance[2][2]).sqrt(),
-            aicc: crate::virial::aicc(quad.rss_weighted, n, 3),
-            line_aicc: crate::virial::aicc(line.rss_weighted, n, 2),
+            aicc: crate::numerics::aicc(quad.rss_weighted, n, 3),
+            line_aicc: crate::numerics::aicc(line.rss_weighted, n, 2),
         })
     }
 
@@ -104,39 +103,5 @@ impl CurvedFit {
                 / (slope * slope);
         let theta = 1.0 / (self.x_centre + u);
         Some((theta, theta * theta * var_u.max(0.0).sqrt()))
-    }
-}
-
-struct Scalar<F: Fn(f64) -> f64>(F);
-
-impl<F: Fn(f64) -> f64> CostFunction for Scalar<F> {
-    type Param = f64;
-    type Output = f64;
-    fn cost(&self, x: &f64) -> Result<f64, ArgminError> {
-        Ok((self.0)(*x))
-    }
-}
-
-/// The root of `f` in [lo, hi] (f(lo) and f(hi) of opposite sign) by argmin's Brent method.
-pub fn brent_root(f: impl Fn(f64) -> f64, lo: f64, hi: f64) -> Option<f64> {
-    let tolerance = 1e-15 * lo.abs().max(hi.abs()).max(f64::MIN_POSITIVE);
-    let solver = BrentRoot::new(lo, hi, tolerance);
-    let result = Executor::new(Scalar(f), solver).configure(|s| s.param((lo + hi) / 2.0).max_iters(200)).run().ok()?;
-    let state = result.state();
-    argmin::core::State::get_best_param(state).copied().or(argmin::core::State::get_param(state).copied())
-}
-
-#[cfg(test)]
-mod tests {
-    use super::brent_root;
-
-    #[test]
-    fn brent_finds_known_roots() {
-        // √2 (x² − 2), cos x = x (Dottie number 0.739085133215160…, from memory), e^x = 3 (ln 3).
-        assert!((brent_root(|x| x * x - 2.0, 0.0, 2.0).unwrap() - 2f64.sqrt()).abs() < 1e-14);
-        assert!((brent_root(|x| x.cos() - x, 0.0, 1.0).unwrap() - 0.739_085_133_215_160_6).abs() < 1e-14);
-        assert!((brent_root(|x| x.exp() - 3.0, 0.0, 2.0).unwrap() - 3f64.ln()).abs() < 1e-14);
-        // A root on a scale of 1/T (about 3e-3) keeps full relative precision.
-        assert!((brent_root(|x| x - 3.2e-3, 3.0e-3, 3.5e-3).unwrap() - 3.2e-3).abs() < 1e-17);
     }
 }

@@ -5,13 +5,13 @@
 //! per-temperature fit was quadratic and otherwise A3_i = max(A2_i, 0)² Mn/4 (Stockmayer–Casassa
 //! good-solvent curvature, g = 1/4, and none at or below θ). That ties the curvature to A2 at
 //! temperatures where a straight line was chosen too: in a coverage study (examples/
-//! theta-coverage.rs) leaving it out there made the joint interval cover 86–92 % instead of 95 %. Solved by the damped Gauss–Newton of [`crate::nls`].
+//! theta-coverage.rs) leaving it out there made the joint interval cover 86–92 % instead of 95 %. Solved by the damped Gauss–Newton of [`crate::numerics::nonlinear`].
 //! Weights: 1/σ_y² from the pressure SDs, else from the series' noise shape
 //! ([`PressureNoise`]), up to a variance common to all temperatures.
 
 use crate::dataset::TemperatureSet;
-use crate::nls::{LeastSquaresProblem, NlsError};
-use crate::regression::Weights;
+use crate::numerics::linear::Weights;
+use crate::numerics::nonlinear::{LeastSquaresProblem, NlsError};
 use crate::virial::{PressureNoise, Readings, TemperatureFit, VirialForm};
 
 /// One temperature of the joint problem.
@@ -160,9 +160,9 @@ pub fn joint_fit(
     // Tolerances of 1e-10 instead of the solver's 1e-15 (kept for the NIST problems): 3.6
     // iterations instead of 8.8 on a 20 000-series campaign, θ within 1.3e-6 K and its SE within
     // 1e-7 (relative) of the tighter fit, far below the 0.01 K it is reported to.
-    let mut solver = crate::nls::LevenbergMarquardt::default();
+    let mut solver = crate::numerics::nonlinear::LevenbergMarquardt::default();
     (solver.ftol, solver.xtol) = (1e-10, 1e-10);
-    let fit = crate::nls::fit_nonlinear_with(&problem, &start, 500, solver)?;
+    let fit = crate::numerics::nonlinear::fit_nonlinear_with(&problem, &start, 500, solver)?;
     let inv_mn = fit.parameters[0];
     Ok(JointFit {
         theta_k: fit.parameters[2],

@@ -3,7 +3,7 @@
 //! u = x − x̄: A2 = α + β u. Then θ = 1/(x̄ − α/β) = −b/a, with a = α − β x̄ and b = β.
 
 use super::TemperaturePoint;
-use crate::regression::{self, FitError, Weights};
+use crate::numerics::linear::{self, FitError, Weights};
 use crate::uncertainty::{critical_value, fieller_zero, FiellerSet};
 use serde::{Deserialize, Serialize};
 use statrs::distribution::{ChiSquared, ContinuousCDF, FisherSnedecor};
@@ -104,8 +104,7 @@ impl InverseTemperatureLine {
         // Estimates and covariance only: no per-point output (every bootstrap replicate
         // fits this line too).
         let weight = |i: usize| weights.as_ref().map_or(1.0, |w| w[i]);
-        let fit =
-            regression::fit_core(n, 2, |i| regression::polynomial_row(u[i], 2), |i| points[i].value, weight, kind)?;
+        let fit = linear::fit_core(n, 2, |i| linear::polynomial_row(u[i], 2), |i| points[i].value, weight, kind)?;
         let line_dof = fit.dof;
         let reduced_chi2 = (weights.is_some() && line_dof > 0).then(|| fit.rss_weighted / line_dof as f64);
         let lack_of_fit_p = reduced_chi2.and_then(|r| scatter_p_value(r, line_dof, basis.dof()));
@@ -243,4 +242,35 @@ pub fn scatter_p_value(reduced_chi2: f64, dof: usize, se_dof: Option<usize>) -> 
         Some(_) => None,
         None => ChiSquared::new(dof as f64).ok().map(|c| c.sf(reduced_chi2 * dof as f64)),
     }
+}
+
+/// A2 (or 1/2 − χ) = a + b/T with covariance, as reports carry it and plans read it (A2 in
+/// mol mL/g², numerically the SI mol m³/kg²).
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
+pub struct FittedLine {
+    /// `second_virial` (mol mL/g²) or `half_minus_chi` (dimensionless).
+    pub quantity: crate::dataset::Quantity,
+    /// a (value at T → ∞).
+    pub a: f64,
+    /// b, value × K.
+    pub b_k: f64,
+    /// Var(a).
+    pub var_a: f64,
+    /// Cov(a, b), value² K.
+    pub cov_ab_k: f64,
+    /// Var(b), value² K².
+    pub var_b_k2: f64,
+    /// Reduced χ² of the line on the per-temperature SEs as given.
+    pub reduced_chi2: Option<f64>,
+    /// P of a scatter at least that large if the SEs are right (null where not testable).
+    #[serde(default)]
+    pub lack_of_fit_p: Option<f64>,
+    /// `standard_errors` (covariance from the per-temperature SEs), `scaled_by_scatter` (scaled
+    /// up by the reduced χ², where p < 0.10) or `unweighted` (no SEs: the line's own scatter).
+    #[serde(default = "default_variance")]
+    pub variance: LineVariance,
+}
+
+fn default_variance() -> LineVariance {
+    LineVariance::Unweighted
 }

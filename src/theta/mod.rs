@@ -11,48 +11,17 @@ mod joint;
 mod line;
 
 pub use critical::{critical_route, CriticalRoute};
-pub use curved::{brent_root, CurvedFit};
+pub use curved::CurvedFit;
 pub use joint::{joint_fit, JointFit};
-pub use line::{scatter_p_value, InverseTemperatureLine, LineVariance, SeBasis, ThetaSet, LACK_OF_FIT_P};
+pub use line::{scatter_p_value, FittedLine, InverseTemperatureLine, LineVariance, SeBasis, ThetaSet, LACK_OF_FIT_P};
 
-use crate::dataset::{Series, TemperatureSet};
+use crate::dataset::{Quantity, Series, TemperaturePoint, TemperatureSet, Volumes};
 use crate::uncertainty::{percentile, replicate_rng, resample_indices};
 use crate::virial::{
     pooled_scales, score_temperature, FormChoice, FormScore, PoolShare, PressureNoise, TemperatureFit,
 };
 use rayon::prelude::*;
 use serde::Serialize;
-
-/// One temperature's value for the across-temperature models.
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub struct TemperaturePoint {
-    /// T, K.
-    pub temperature_k: f64,
-    /// A2 in mol m³/kg², or 1/2 − χ (dimensionless) for χ tables; see [`Quantity`].
-    pub value: f64,
-    /// Its standard error (weights 1/SE²), if known.
-    pub se: Option<f64>,
-}
-
-/// What [`TemperaturePoint::value`] holds. Both cross zero at θ.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, serde::Deserialize)]
-#[serde(rename_all = "snake_case")]
-pub enum Quantity {
-    /// A2, mol m³/kg².
-    SecondVirial,
-    /// 1/2 − χ = A2 V1/v̄², dimensionless.
-    HalfMinusChi,
-}
-
-impl Quantity {
-    /// The symbol messages use: "A2", or "1/2 − χ" for χ tables.
-    pub fn symbol(self) -> &'static str {
-        match self {
-            Quantity::SecondVirial => "A2",
-            Quantity::HalfMinusChi => "1/2 − χ",
-        }
-    }
-}
 
 /// Settings of the θ analysis.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -81,22 +50,6 @@ impl Default for ThetaSettings {
             a2_tolerance: DEFAULT_A2_TOLERANCE,
             virial: FormChoice::Auto,
         }
-    }
-}
-
-/// Polymer and solvent volumes for the Flory parameters, SI.
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub struct Volumes {
-    /// Polymer partial specific volume v̄, m³/kg.
-    pub specific_volume: f64,
-    /// Solvent molar volume V1, m³/mol.
-    pub molar_volume: f64,
-}
-
-impl Volumes {
-    /// v̄²/V1, mol m³/kg²: A2 = (v̄²/V1)(1/2 − χ).
-    pub fn a2_per_half_minus_chi(&self) -> f64 {
-        self.specific_volume * self.specific_volume / self.molar_volume
     }
 }
 
@@ -160,11 +113,72 @@ impl From<ThetaSet> for Interval {
     }
 }
 
+/// An across-temperature model that gives a θ.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, serde::Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Model {
+    /// The Flory–Krigbaum line A2 = a + b/T (the headline model).
+    FloryKrigbaum,
+    /// A2 quadratic in 1/T.
+    Curved,
+    /// The crossing between the two temperatures that bracket it.
+    Local,
+    /// Every reading at once (Mn shared, A2 on the Flory–Krigbaum line).
+    Joint,
+}
+
+impl Model {
+    /// The name reports use.
+    pub fn name(self) -> &'static str {
+        match self {
+            Model::FloryKrigbaum => "flory_krigbaum",
+            Model::Curved => "curved",
+            Model::Local => "local",
+            Model::Joint => "joint",
+        }
+    }
+}
+
+impl std::fmt::Display for Model {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.pad(self.name())
+    }
+}
+
+/// How the headline interval of θ was computed.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, serde::Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum IntervalMethod {
+    /// Fieller's set for the zero of the line.
+    Fieller,
+    /// Delta method through the curved model's root.
+    DeltaCurved,
+    /// No interval.
+    None,
+}
+
+impl IntervalMethod {
+    /// The name reports use.
+    pub fn name(self) -> &'static str {
+        match self {
+            IntervalMethod::Fieller => "fieller",
+            IntervalMethod::DeltaCurved => "delta_curved",
+            IntervalMethod::None => "none",
+        }
+    }
+}
+
+impl std::fmt::Display for IntervalMethod {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.pad(self.name())
+    }
+}
+
 /// θ from one model.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct ModelTheta {
-    /// `flory_krigbaum`, `curved`, `local` or `joint`.
-    pub name: &'static str,
+    /// The model.
+    pub name: Model,
     /// θ, K (null where the model gives none).
     pub theta_k: Option<f64>,
     /// SE, K.
@@ -277,7 +291,7 @@ pub struct ThetaResult {
     /// The headline interval.
     pub interval: Interval,
     /// How the headline interval was computed.
-    pub ci_method: &'static str,
+    pub ci_method: IntervalMethod,
     /// Why that method.
     pub ci_reason: String,
     /// Confidence level.
@@ -289,7 +303,7 @@ pub struct ThetaResult {
     /// Why there is no θ, when there is none.
     pub reason: Option<String>,
     /// Headline model.
-    pub model: &'static str,
+    pub model: Model,
     /// UCST or LCST type.
     pub sense: Option<Sense>,
     /// Every model's θ.
@@ -343,13 +357,13 @@ impl ThetaResult {
             theta_k: None,
             se_k: None,
             interval: none,
-            ci_method: "none",
+            ci_method: IntervalMethod::None,
             ci_reason: reason.clone(),
             confidence,
             crossing: Crossing::None,
             extrapolated_by_k: None,
             reason: Some(reason),
-            model: "flory_krigbaum",
+            model: Model::FloryKrigbaum,
             sense: None,
             models: Vec::new(),
             fieller: none,
@@ -436,7 +450,7 @@ pub fn theta_from_points(
     let significant = slope_t.abs() > result.fieller_t;
     let line_theta = line.theta_k();
     result.models.push(ModelTheta {
-        name: "flory_krigbaum",
+        name: Model::FloryKrigbaum,
         theta_k: line_theta,
         se_k: line.theta_se_k(),
         note: (!significant).then(|| format!("slope against 1/T not significant (t = {slope_t:.2})")),
@@ -451,7 +465,7 @@ pub fn theta_from_points(
         let root = c.theta_in(t_min, t_max);
         let supported = c.supported(confidence);
         result.models.push(ModelTheta {
-            name: "curved",
+            name: Model::Curved,
             theta_k: root.map(|r| r.0),
             se_k: root.map(|r| r.1),
             note: Some(match (supported, root) {
@@ -461,7 +475,7 @@ pub fn theta_from_points(
             }),
         });
         if let (true, Some((theta, se))) = (supported, root) {
-            result.model = "curved";
+            result.model = Model::Curved;
             headline = (Some(theta), Some(se));
         }
     }
@@ -477,7 +491,7 @@ pub fn theta_from_points(
             result.fieller_t
         ));
         result.interval = Interval { kind: result.fieller.kind, low_k: None, high_k: None };
-        result.ci_method = "fieller";
+        result.ci_method = IntervalMethod::Fieller;
         result.ci_reason = "no significant trend, so no finite interval exists".into();
         result.line = Some(line);
         return result;
@@ -499,13 +513,13 @@ pub fn theta_from_points(
     } else {
         result.crossing = Crossing::Bracketed;
     }
-    if result.model == "curved" {
+    if result.model == Model::Curved {
         result.interval = delta_interval(theta, headline.1.unwrap_or(f64::NAN), c_dof_critical(&result, confidence));
-        result.ci_method = "delta_curved";
+        result.ci_method = IntervalMethod::DeltaCurved;
         result.ci_reason = "the curved model is the headline; its interval is θ ± t·SE (delta method)".into();
     } else {
         result.interval = result.fieller;
-        result.ci_method = "fieller";
+        result.ci_method = IntervalMethod::Fieller;
         result.ci_reason = "Fieller's interval inverts the t test of A2(θ) = 0 exactly for the line; it is asymmetric where it should be and never invents a bound".into();
     }
     if !significant {
@@ -562,8 +576,8 @@ fn two_thetas(
     result.interval = first.interval;
     result.crossing = Crossing::Bracketed;
     result.sense = Some(first.sense);
-    result.model = "local";
-    result.ci_method = "fieller";
+    result.model = Model::Local;
+    result.ci_method = IntervalMethod::Fieller;
     result.ci_reason = "Fieller's interval of the line through the two temperatures that bracket this crossing".into();
     let listed: Vec<String> = changes
         .iter()
@@ -597,7 +611,7 @@ fn two_points_without_ses(sorted: &[TemperaturePoint], quantity: Quantity, confi
     let mut result = ThetaResult::without(String::new(), confidence);
     result.reason = None;
     result.points = sorted.to_vec();
-    result.ci_method = "none";
+    result.ci_method = IntervalMethod::None;
     result.ci_reason = "two temperatures without SEs leave no residual degrees of freedom: no interval".into();
     result.interval = Interval { kind: IntervalKind::Unbounded, low_k: None, high_k: None };
     result.sense = Some(if q.value > p.value { Sense::Ucst } else { Sense::Lcst });
@@ -608,7 +622,7 @@ fn two_points_without_ses(sorted: &[TemperaturePoint], quantity: Quantity, confi
     }
     result.theta_k = Some(two_point_zero(p, q));
     result.crossing = Crossing::Bracketed;
-    result.model = "local";
+    result.model = Model::Local;
     result.warnings.push(
         "two temperatures only and no SEs: θ is the crossing of the straight line through them, an estimate with no interval"
             .into(),
@@ -636,7 +650,7 @@ pub fn local_crossing(points: &[TemperaturePoint]) -> ModelTheta {
     for pair in sorted.windows(2) {
         let (p, q) = (pair[0], pair[1]);
         if p.value == 0.0 {
-            return ModelTheta { name: "local", theta_k: Some(p.temperature_k), se_k: None, note: None };
+            return ModelTheta { name: Model::Local, theta_k: Some(p.temperature_k), se_k: None, note: None };
         }
         if p.value.signum() != q.value.signum() {
             let dt = q.temperature_k - p.temperature_k;
@@ -650,11 +664,11 @@ pub fn local_crossing(points: &[TemperaturePoint]) -> ModelTheta {
                 }
                 _ => None,
             };
-            return ModelTheta { name: "local", theta_k: Some(theta), se_k: se, note: None };
+            return ModelTheta { name: Model::Local, theta_k: Some(theta), se_k: se, note: None };
         }
     }
     ModelTheta {
-        name: "local",
+        name: Model::Local,
         theta_k: None,
         se_k: None,
         note: Some("A2 does not change sign between measured temperatures".into()),
@@ -793,7 +807,7 @@ pub fn theta_for_series(
     volumes: Option<Volumes>,
     settings: &ThetaSettings,
     series_index: u64,
-    progress: &dyn crate::analysis::Progress,
+    progress: &dyn crate::progress::Progress,
 ) -> ThetaResult {
     let (points, basis) = a2_points(fits);
     let mut result = theta_from_points(&points, basis, Quantity::SecondVirial, volumes, settings);
@@ -815,8 +829,7 @@ pub fn theta_for_series(
             ));
         }
     }
-    let sets: Vec<&TemperatureSet> =
-        fits.iter().filter_map(|f| series.temperatures.iter().find(|s| s.temperature_k == f.temperature_k)).collect();
+    let sets: Vec<&TemperatureSet> = fits.iter().filter_map(|f| series.temperatures.get(f.set_index)).collect();
     if let (Some(theta), Some(line)) = (result.theta_k, &result.line) {
         let start_a = line.a();
         match joint_fit(&sets, &fit_refs, noise, theta, start_a) {
@@ -829,16 +842,19 @@ pub fn theta_for_series(
                     if j.converged { "" } else { "; solver stopped at its iteration limit" }
                 );
                 result.models.push(ModelTheta {
-                    name: "joint",
+                    name: Model::Joint,
                     theta_k: Some(j.theta_k),
                     se_k: Some(j.theta_se_k),
                     note: Some(note),
                 });
                 result.joint = Some(j);
             }
-            Err(e) => {
-                result.models.push(ModelTheta { name: "joint", theta_k: None, se_k: None, note: Some(e.to_string()) })
-            }
+            Err(e) => result.models.push(ModelTheta {
+                name: Model::Joint,
+                theta_k: None,
+                se_k: None,
+                note: Some(e.to_string()),
+            }),
         }
     }
     if settings.bootstrap_replicates > 0 && result.theta_k.is_some() {
@@ -860,7 +876,7 @@ pub fn bootstrap(
     noise: PressureNoise,
     settings: &ThetaSettings,
     series_index: u64,
-    progress: &dyn crate::analysis::Progress,
+    progress: &dyn crate::progress::Progress,
 ) -> BootstrapSummary {
     struct Prepared {
         fitted: Vec<f64>,

@@ -16,7 +16,8 @@ pub fn critical_value(confidence: f64, dof: Option<usize>) -> f64 {
     // them (the inverse CDF costs microseconds).
     const CACHED: usize = 256;
     static T95: std::sync::OnceLock<Vec<f64>> = std::sync::OnceLock::new();
-    if confidence == 0.95 {
+    // Exactly 0.95 (the cache holds its quantiles, not those of a nearby level).
+    if confidence.to_bits() == 0.95f64.to_bits() {
         if let Some(d) = dof.filter(|d| (1..CACHED).contains(d)) {
             return T95.get_or_init(|| (0..CACHED).map(|d| quantile(0.975, Some(d))).collect())[d];
         }

@@ -7,7 +7,7 @@
 //!   so that A3 = Γ2² /(4 Mn)); fitted as a straight line α + β c in z = (Π/c)^½, giving
 //!   Mn = RT/α², A2 = 2αβ/(RT).
 
-use crate::regression::{self, CoreFit, FitError, LinearFit, Weights};
+use crate::numerics::linear::{self, CoreFit, FitError, LinearFit, Weights};
 use crate::units::GAS_CONSTANT_J_PER_MOL_K;
 use serde::Serialize;
 
@@ -144,13 +144,13 @@ pub fn score_form(form: VirialForm, r: &Readings) -> Result<FormScore, FormError
     let (c, pressure) = (r.concentration, r.pressure);
     let n = c.len();
     let p = form.parameters();
-    let row = |i: usize| regression::polynomial_row(c[i], p);
+    let row = |i: usize| linear::polynomial_row(c[i], p);
     // y = Π/(c R T) and its weight 1/σ_y², σ_y = σ_Π/(c R T), as in [`Readings::reduced`].
     let reduced = |i: usize| pressure[i] / (c[i] * rt);
     let reduced_weight = |i: usize| r.pressure_sd.map_or(1.0, |sd| (c[i] * rt / sd[i]).powi(2));
     match form {
         VirialForm::Linear | VirialForm::Quadratic => {
-            let core = regression::fit_core(n, p, row, reduced, reduced_weight, kind)?;
+            let core = linear::fit_core(n, p, row, reduced, reduced_weight, kind)?;
             let a3 = (form == VirialForm::Quadratic).then(|| (core.coefficients[2], core.se(2)));
             Ok(FormScore {
                 form,
@@ -171,7 +171,7 @@ pub fn score_form(form: VirialForm, r: &Readings) -> Result<FormScore, FormError
             let z = |i: usize| (pressure[i] / c[i]).sqrt();
             // σ_z = σ_Π / (2 c z) by first-order propagation of z = (Π/c)^½.
             let wz = |i: usize| r.pressure_sd.map_or(1.0, |sd| (2.0 * c[i] * z(i) / sd[i]).powi(2));
-            let core = regression::fit_core(n, 2, row, z, wz, kind)?;
+            let core = linear::fit_core(n, 2, row, z, wz, kind)?;
             let (alpha, beta) = (core.coefficients[0], core.coefficients[1]);
             if beta < 0.0 {
                 return Err(FormError::SqrtNeedsPositiveA2);
@@ -218,10 +218,10 @@ impl FormScore {
     /// scored on.
     pub fn complete(self, r: &Readings) -> FormFit {
         let rt = GAS_CONSTANT_J_PER_MOL_K * r.temperature_k;
-        let design = regression::polynomial_design(r.concentration, self.form.parameters() - 1);
+        let design = linear::polynomial_design(r.concentration, self.form.parameters() - 1);
         let (lsq, fitted_reduced) = match self.form {
             VirialForm::Linear | VirialForm::Quadratic => {
-                let lsq = regression::complete(&self.core, &design, &r.reduced(), r.reduced_weights().as_deref());
+                let lsq = linear::complete(&self.core, &design, &r.reduced(), r.reduced_weights().as_deref());
                 let fitted = lsq.fitted.clone();
                 (lsq, fitted)
             }
@@ -230,7 +230,7 @@ impl FormScore {
                 let wz: Option<Vec<f64>> = r.pressure_sd.map(|sd| {
                     sd.iter().zip(r.concentration).zip(&z).map(|((s, c), z)| (2.0 * c * z / s).powi(2)).collect()
                 });
-                let lsq = regression::complete(&self.core, &design, &z, wz.as_deref());
+                let lsq = linear::complete(&self.core, &design, &z, wz.as_deref());
                 let fitted = lsq.fitted.iter().map(|zf| zf * zf / rt).collect();
                 (lsq, fitted)
             }

@@ -9,7 +9,8 @@ pub use forms::{fit_form, score_form, FormError, FormFit, FormScore, Readings, V
 pub use noise::{choose_noise, PressureNoise};
 pub use outliers::{flag_outliers, OUTLIER_P};
 
-use crate::regression::Weights;
+use crate::numerics::aicc;
+use crate::numerics::linear::Weights;
 
 use crate::dataset::TemperatureSet;
 use serde::Serialize;
@@ -22,6 +23,32 @@ pub enum FormChoice {
     Auto,
     /// Always this form (falls back to linear, with a warning, where it does not apply).
     Fixed(VirialForm),
+}
+
+impl FormChoice {
+    /// The name reports and the command line use: `auto`, or the form's name.
+    pub fn name(self) -> &'static str {
+        match self {
+            FormChoice::Auto => "auto",
+            FormChoice::Fixed(form) => form.name(),
+        }
+    }
+}
+
+impl Serialize for FormChoice {
+    fn serialize<S: serde::Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        serializer.serialize_str(self.name())
+    }
+}
+
+impl<'de> serde::Deserialize<'de> for FormChoice {
+    fn deserialize<D: serde::Deserializer<'de>>(deserializer: D) -> Result<Self, D::Error> {
+        let name = String::deserialize(deserializer)?;
+        std::iter::once(FormChoice::Auto)
+            .chain(VirialForm::ALL.map(FormChoice::Fixed))
+            .find(|c| c.name() == name)
+            .ok_or_else(|| serde::de::Error::custom(format!("unknown virial form '{name}'")))
+    }
 }
 
 /// Fewest distinct concentrations at which a temperature is fitted (for a standard error).
@@ -154,6 +181,9 @@ pub struct Candidate {
 pub struct TemperatureFit {
     /// Temperature, K.
     pub temperature_k: f64,
+    /// Position of the readings it was fitted to in the series' `temperatures` (the link from a
+    /// fit back to its readings; set where the series is analysed, 0 for a set fitted on its own).
+    pub set_index: usize,
     /// Readings used.
     pub n_points: usize,
     /// Whether per-point SDs weighted the fit.
@@ -186,14 +216,6 @@ pub struct SkippedTemperature {
     pub n_points: usize,
     /// The reason.
     pub reason: String,
-}
-
-/// AICc = n ln(RSS/n) + 2k + 2k(k+1)/(n−k−1), k = p + 1 (σ counted). `None` when n − k − 1 ≤ 0.
-pub fn aicc(rss: f64, n: usize, p: usize) -> Option<f64> {
-    let k = (p + 1) as f64;
-    let n_f = n as f64;
-    (n_f - k - 1.0 > 0.0)
-        .then(|| n_f * (rss.max(f64::MIN_POSITIVE) / n_f).ln() + 2.0 * k + 2.0 * k * (k + 1.0) / (n_f - k - 1.0))
 }
 
 /// One temperature's chosen form, scored but not completed: what the bootstrap needs of each
@@ -402,6 +424,7 @@ impl ScoredTemperature {
             }
         }
         TemperatureFit {
+            set_index: 0,
             temperature_k: set.temperature_k,
             n_points: set.len(),
             weighted,

@@ -5,7 +5,7 @@
 
 use super::forms::{fit_form, Readings, VirialForm};
 use crate::dataset::TemperatureSet;
-use crate::regression::Weights;
+use crate::numerics::linear::Weights;
 use crate::units::GAS_CONSTANT_J_PER_MOL_K;
 use serde::{Deserialize, Serialize};
 
@@ -115,11 +115,11 @@ pub fn choose_noise(sets: &[TemperatureSet]) -> PressureNoise {
     let mut variance = vec![1.0; pairs.len()];
     for _ in 0..4 {
         let row = |i: usize| {
-            let mut r = [0.0; crate::regression::MAX_PARAMETERS];
+            let mut r = [0.0; crate::numerics::linear::MAX_PARAMETERS];
             (r[0], r[1]) = (1.0, pairs[i].0 * pairs[i].0);
             r
         };
-        let Ok(fit) = crate::regression::fit_core(
+        let Ok(fit) = crate::numerics::linear::fit_core(
             pairs.len(),
             2,
             row,

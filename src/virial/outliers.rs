@@ -11,7 +11,7 @@
 
 use super::{FitWarning, TemperatureFit};
 use crate::dataset::TemperatureSet;
-use crate::regression::Weights;
+use crate::numerics::linear::Weights;
 use crate::units::{GAS_CONSTANT_J_PER_MOL_K, G_PER_ML_PER_KG_PER_M3};
 use statrs::distribution::{ContinuousCDF, Normal, StudentsT};
 

@@ -2,9 +2,9 @@
 //! tables, and the provenance. No scripts, fonts or requests; every text escaped. The markup is
 //! well-formed XML, so tests parse it strictly.
 
-use super::plan::PlanReport;
-use super::{plus_minus, InputFile, Report};
 use crate::plot::Figure;
+use crate::report::plan::PlanReport;
+use crate::report::{plus_minus, InputFile, Report};
 use crate::units::kelvin_to_celsius;
 use std::fmt::Write;
 
@@ -137,7 +137,7 @@ pub fn analyze_html(report: &Report, figures: &[Figure], date: &str) -> String {
             Some(t) if t.theta_k.is_some() => {
                 let _ = writeln!(b, "<div class=\"theta\">θ = {}</div>", k_and_c(t.theta_k));
                 let interval = match (t.ci_low_k, t.ci_high_k) {
-                    (Some(lo), Some(hi)) => format!("{lo:.2}–{hi:.2} K ({})", escape(t.ci_method)),
+                    (Some(lo), Some(hi)) => format!("{lo:.2}–{hi:.2} K ({})", escape(t.ci_method.name())),
                     (Some(lo), None) => format!("above {lo:.2} K, no upper bound"),
                     _ => format!("{:?}", t.ci_kind).to_lowercase(),
                 };
@@ -147,7 +147,7 @@ pub fn analyze_html(report: &Report, figures: &[Figure], date: &str) -> String {
                     opt(t.se_k, 2),
                     format!("{:?}", t.crossing).to_lowercase(),
                     t.extrapolated_by_k.map_or(String::new(), |e| format!(" by {e:.1} K")),
-                    escape(t.model)
+                    escape(t.model.name())
                 );
             }
             Some(t) => {
@@ -230,7 +230,7 @@ pub fn analyze_html(report: &Report, figures: &[Figure], date: &str) -> String {
     }
     let _ = writeln!(b, "</section>");
 
-    let scattering: Vec<&super::SeriesReport> =
+    let scattering: Vec<&crate::report::SeriesReport> =
         report.series.iter().filter(|s| !s.light_scattering.is_empty()).collect();
     if !scattering.is_empty() {
         let _ = writeln!(b, "<section id=\"light-scattering\">\n<h2>Light scattering (weight averages)</h2>");
@@ -299,7 +299,7 @@ pub fn analyze_html(report: &Report, figures: &[Figure], date: &str) -> String {
             let _ = writeln!(
                 b,
                 "<tr><td>{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td>{}</td></tr>",
-                escape(m.name),
+                escape(m.name.name()),
                 k_and_c(m.theta_k),
                 opt(m.se_k, 2),
                 escape(m.note.as_deref().unwrap_or(""))
@@ -370,7 +370,7 @@ pub fn analyze_html(report: &Report, figures: &[Figure], date: &str) -> String {
                 let _ = writeln!(
                     b,
                     "<tr><td>{}</td><td class=\"num\">{}</td><td class=\"num\">{:.2}</td><td class=\"num\">{}–{}</td></tr>",
-                    escape(t.route),
+                    escape(t.route.name()),
                     k_and_c(Some(t.theta_k)),
                     t.se_k,
                     opt(t.ci_low_k, 2),
