@@ -126,8 +126,8 @@ fn campaign(c: &mut Criterion) {
     g.bench_function("read and analyse", |b| {
         b.iter(|| {
             let contents = read_file("c.csv", 0, text.as_bytes(), &ReadOptions::default()).unwrap();
-            let dataset = Dataset::new(contents.readings, &[], &[], &[], &[]);
-            analyze(&dataset.series, &dataset.tabulated, &settings)
+            let dataset = Dataset::new(contents.readings, &[], &[], Default::default(), &[], &[]);
+            analyze(&dataset, &settings)
         })
     });
     g.finish();

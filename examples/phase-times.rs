@@ -19,15 +19,15 @@ fn main() {
     lap("read file");
     let contents = read_file(&path, 0, &bytes, &ReadOptions::default()).unwrap();
     lap("parse");
-    let dataset = Dataset::new(contents.readings, &[], &[], &contents.volumes, &contents.solvents);
+    let dataset = Dataset::new(contents.readings, &[], &[], Default::default(), &contents.volumes, &contents.solvents);
     lap("group");
     let settings = Settings {
         theta: ThetaSettings { bootstrap_replicates: 0, ..ThetaSettings::default() },
         ..Settings::default()
     };
-    let results = analyze(&dataset.series, &dataset.tabulated, &settings);
+    let results = analyze(&dataset, &settings);
     lap("analyze");
-    let detail = thetaseek::report::Detail::for_series_count(results.len());
+    let detail = thetaseek::report::Detail::Fits;
     let report_settings =
         ReportSettings { report_detail: detail, ..ReportSettings::new(thetaseek::virial::FormChoice::Auto) };
     let report = Report::new(Vec::new(), report_settings, Vec::new(), &results, &dataset);

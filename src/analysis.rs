@@ -1,20 +1,34 @@
-//! The per-series pipeline: per-temperature virial fits, then the across-temperature θ
-//! analysis, for every series in parallel. Pure computation: no files, no printing.
+//! The per-series pipeline of every route: per-temperature fits (osmometry: virial forms;
+//! light scattering: Zimm), then the across-temperature θ analysis; tables of A2 or χ go
+//! straight to θ, critical temperatures to the Shultz–Flory line. Series run in parallel.
+//! Pure computation: no files, no printing.
 
-use crate::dataset::{Quantity, Volumes};
-use crate::dataset::{Series, TabulatedSeries};
+use crate::dataset::{
+    CriticalSeries, Dataset, Quantity, Route, ScatteringRow, ScatteringSeries, Series, TabulatedSeries, Volumes,
+};
 use crate::progress::Progress;
-use crate::theta::{theta_for_series, theta_from_points, SeBasis, ThetaResult, ThetaSettings};
+use crate::scattering::{self, ScatteringFit};
+use crate::theta::{
+    compare_routes, critical_route, theta_for_series, theta_from_points, CriticalRoute, RouteComparison, RouteTheta,
+    SeBasis, ThetaResult, ThetaSettings,
+};
 use crate::virial::{
     choose_noise, choose_series_forms, fit_temperature, flag_outliers, pool_standard_errors, FormChoice, PressureNoise,
-    SkippedTemperature, TemperatureFit,
+    SkippedTemperature, TemperatureFit, VirialForm,
 };
 use rayon::prelude::*;
 use serde::Serialize;
 
-/// Units of work [`analyze_with_progress`] will report for these series and settings.
-pub fn work_units(series: &[Series], tabulated: &[TabulatedSeries], settings: &Settings) -> u64 {
-    (series.len() as u64) * (1 + settings.theta.bootstrap_replicates as u64) + tabulated.len() as u64
+/// Units of work [`analyze_with_progress`] will report for a dataset: one per series of the
+/// other routes, and for each osmometry series one plus its bootstrap replicates.
+pub fn work_units(dataset: &Dataset, settings: &Settings) -> u64 {
+    osmometry_work_units(dataset.series.len(), settings)
+        + (dataset.tabulated.len() + dataset.critical.len() + dataset.scattering.len()) as u64
+}
+
+/// Units of work of `series` osmometry series.
+pub fn osmometry_work_units(series: usize, settings: &Settings) -> u64 {
+    (series as u64) * (1 + settings.theta.bootstrap_replicates as u64)
 }
 
 /// Settings of the analysis itself (units and files are settled before this point).
@@ -74,6 +88,55 @@ pub struct SeriesResult {
     pub theta: Option<ThetaResult>,
     /// How the osmometry readings' noise was modelled (absent for tables).
     pub noise: Option<PressureNoise>,
+    /// The measurement the series comes from.
+    pub route: Route,
+    /// Why nothing could be computed, for routes that refuse a series as a whole (critical
+    /// temperatures, light scattering); osmometry reasons are told by its skipped temperatures.
+    pub reason: Option<String>,
+    /// The Shultz–Flory result of a critical-temperature series.
+    pub critical: Option<CriticalRoute>,
+    /// Per-temperature Zimm fits of a light-scattering series.
+    pub scattering: Vec<ScatteringFit>,
+}
+
+impl SeriesResult {
+    /// This series' θ for the routes' comparison: the headline θ with its SE, or the
+    /// Shultz–Flory θ.
+    pub fn route_theta(&self) -> Option<RouteTheta> {
+        match (&self.theta, &self.critical) {
+            (Some(t), _) => Some(RouteTheta {
+                route: self.route,
+                theta_k: t.theta_k?,
+                se_k: t.se_k?,
+                ci_low_k: t.interval.low_k,
+                ci_high_k: t.interval.high_k,
+            }),
+            (None, Some(c)) => Some(RouteTheta {
+                route: self.route,
+                theta_k: c.theta_k,
+                se_k: c.se_k,
+                ci_low_k: c.ci_low_k,
+                ci_high_k: c.ci_high_k,
+            }),
+            _ => None,
+        }
+    }
+
+    fn empty(name: &str, route: Route, quantity: Quantity) -> Self {
+        SeriesResult {
+            name: name.to_string(),
+            status: Status::Ok,
+            fits: Vec::new(),
+            skipped: Vec::new(),
+            quantity,
+            theta: None,
+            noise: None,
+            route,
+            reason: None,
+            critical: None,
+            scattering: Vec::new(),
+        }
+    }
 }
 
 /// Fits every temperature of one osmometry series, then its θ.
@@ -142,6 +205,10 @@ pub fn analyze_series_with_progress(
         quantity: Quantity::SecondVirial,
         theta,
         noise: Some(noise),
+        route: Route::Osmometry,
+        reason: None,
+        critical: None,
+        scattering: Vec::new(),
     }
 }
 
@@ -149,46 +216,88 @@ pub fn analyze_series_with_progress(
 pub fn analyze_tabulated(series: &TabulatedSeries, settings: &Settings) -> SeriesResult {
     let volumes = series.volumes.or(settings.volumes);
     let theta = theta_from_points(&series.points, SeBasis::Known, series.quantity, volumes, &settings.theta);
-    SeriesResult {
-        name: series.name.clone(),
-        status: Status::Ok,
-        fits: Vec::new(),
-        skipped: Vec::new(),
-        quantity: series.quantity,
-        theta: Some(theta),
-        noise: None,
+    let route = match series.quantity {
+        Quantity::SecondVirial => Route::A2Table,
+        Quantity::HalfMinusChi => Route::ChiTable,
+    };
+    SeriesResult { theta: Some(theta), ..SeriesResult::empty(&series.name, route, series.quantity) }
+}
+
+/// θ from the critical temperatures of fractions (Shultz–Flory); needs v̄ and V1.
+pub fn analyze_critical(series: &CriticalSeries, settings: &Settings) -> SeriesResult {
+    let result = match series.volumes.or(settings.volumes) {
+        Some(v) => critical_route(&series.fractions, v, settings.theta.confidence),
+        None => Err("critical temperatures need v̄ and V1: give --polymer-specific-volume and --solvent-molar-volume, or the columns".into()),
+    };
+    let empty = SeriesResult::empty(&series.name, Route::CriticalTemperatures, Quantity::SecondVirial);
+    match result {
+        Ok(c) => SeriesResult { critical: Some(c), ..empty },
+        Err(reason) => SeriesResult { status: Status::Refused, reason: Some(reason), ..empty },
     }
 }
 
-/// Analyses every series in parallel; results keep the input order (osmometry series first,
-/// then tabulated ones).
-pub fn analyze(series: &[Series], tabulated: &[TabulatedSeries], settings: &Settings) -> Vec<SeriesResult> {
-    analyze_with_progress(series, tabulated, settings, &())
+/// A light-scattering series: Zimm fits per temperature, then the same θ machinery on the
+/// light-scattering A2 (a weight-average quantity). `--virial quadratic` adds the 3 A3 c²
+/// term to the zero-angle fit; every other choice keeps the straight line.
+pub fn analyze_scattering(series: &ScatteringSeries, settings: &Settings) -> SeriesResult {
+    let rows: Vec<&ScatteringRow> = series.rows.iter().collect();
+    let quadratic = settings.virial == FormChoice::Fixed(VirialForm::Quadratic);
+    let mut fits = scattering::fit_series(&rows, quadratic);
+    let volumes = series.volumes.or(settings.volumes);
+    // Each temperature's SE from its own Zimm fit: taken as known (normal quantile), widened by
+    // the line's lack-of-fit test where the points scatter more.
+    let theta =
+        theta_from_points(&scattering::points(&fits), SeBasis::Known, Quantity::SecondVirial, volumes, &settings.theta);
+    if let Some(t) = theta.theta_k {
+        scattering::set_expansion(&mut fits, t);
+    }
+    let empty = SeriesResult::empty(&series.name, Route::LightScattering, Quantity::SecondVirial);
+    if fits.is_empty() {
+        return SeriesResult {
+            status: Status::Refused,
+            reason: Some("no temperature had three concentrations".into()),
+            ..empty
+        };
+    }
+    SeriesResult { theta: Some(theta), scattering: fits, ..empty }
+}
+
+/// Every series of the routes other than osmometry, in parallel, in the dataset's order:
+/// tables, then critical temperatures, then light scattering.
+pub fn analyze_other_routes(dataset: &Dataset, settings: &Settings, progress: &dyn Progress) -> Vec<SeriesResult> {
+    let done = |r: SeriesResult| {
+        progress.advance(1);
+        r
+    };
+    let mut results: Vec<SeriesResult> =
+        dataset.tabulated.par_iter().map(|s| done(analyze_tabulated(s, settings))).collect();
+    results.extend(dataset.critical.par_iter().map(|s| done(analyze_critical(s, settings))).collect::<Vec<_>>());
+    results.extend(dataset.scattering.par_iter().map(|s| done(analyze_scattering(s, settings))).collect::<Vec<_>>());
+    results
+}
+
+/// Analyses every series of every route in parallel; results keep the dataset's order
+/// (osmometry series first, then [`analyze_other_routes`]).
+pub fn analyze(dataset: &Dataset, settings: &Settings) -> Vec<SeriesResult> {
+    analyze_with_progress(dataset, settings, &())
 }
 
 /// [`analyze`], reporting [`work_units`] to `progress` as they complete.
-pub fn analyze_with_progress(
-    series: &[Series],
-    tabulated: &[TabulatedSeries],
-    settings: &Settings,
-    progress: &dyn Progress,
-) -> Vec<SeriesResult> {
-    let mut results: Vec<SeriesResult> = series
+pub fn analyze_with_progress(dataset: &Dataset, settings: &Settings, progress: &dyn Progress) -> Vec<SeriesResult> {
+    let mut results: Vec<SeriesResult> = dataset
+        .series
         .par_iter()
         .enumerate()
         .map(|(i, s)| analyze_series_with_progress(s, settings, i as u64, progress))
         .collect();
-    results.extend(
-        tabulated
-            .par_iter()
-            .map(|s| {
-                let r = analyze_tabulated(s, settings);
-                progress.advance(1);
-                r
-            })
-            .collect::<Vec<_>>(),
-    );
+    results.extend(analyze_other_routes(dataset, settings, progress));
     results
+}
+
+/// The routes' comparison of a run's results ([`compare_routes`]).
+pub fn compare_result_routes(results: &[SeriesResult]) -> Vec<RouteComparison> {
+    let entries: Vec<(&str, Option<RouteTheta>)> = results.iter().map(|r| (r.name.as_str(), r.route_theta())).collect();
+    compare_routes(&entries)
 }
 
 #[cfg(test)]

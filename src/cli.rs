@@ -240,11 +240,11 @@ pub enum VirialArg {
 /// `--report-detail` values.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
 pub enum DetailArg {
-    /// Full up to 200 series, fits above.
-    Auto,
-    /// Every reading with its fitted value and residual, and every candidate form.
+    /// Every reading with its fitted value and residual, every candidate form, the JSON
+    /// pretty-printed and every series in the terminal.
     Full,
-    /// Per-temperature results only.
+    /// Per-temperature results without the readings, the JSON on one line, a digest in the
+    /// terminal (for screening thousands of series).
     Fits,
 }
 
@@ -271,10 +271,11 @@ pub struct AnalyzeArgs {
     #[arg(long)]
     pub needs_attention: bool,
 
-    /// How much of each fit the JSON report holds: 'full' (every reading and candidate form),
-    /// 'fits' (per-temperature results only), or 'auto' (full up to 200 series, fits above;
-    /// full whenever figures or HTML are written, which need the readings).
-    #[arg(long, value_enum, default_value_t = DetailArg::Auto)]
+    /// The shape of the outputs, the same for one series or a hundred thousand: 'full' (the
+    /// JSON pretty, with every reading and candidate form; the terminal lists every series) or
+    /// 'fits' (the JSON on one line, per-temperature results only; the terminal shows the
+    /// series that need a look and the summary). Figures and HTML are the same either way.
+    #[arg(long, value_enum, default_value_t = DetailArg::Full)]
     pub report_detail: DetailArg,
 
     /// Write one self-contained HTML report here (figures inline, no network needed).

@@ -217,13 +217,70 @@ pub struct TabulatedSeries {
     pub volumes: Option<Volumes>,
 }
 
-/// Every series of a run: osmometry series and tabulated ones, with v̄/V1 attached.
+/// One static light-scattering reading, SI.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ScatteringRow {
+    /// Series.
+    pub series: String,
+    /// T, K.
+    pub temperature_k: f64,
+    /// c, kg/m³.
+    pub concentration: f64,
+    /// K c / R, mol/kg.
+    pub kc_over_r: f64,
+    /// Scattering vector q, 1/m (`None`: zero angle, or no angle column).
+    pub q: Option<f64>,
+    /// Line in the file.
+    pub line: usize,
+}
+
+/// One fraction's critical (phase-separation) temperature.
+#[derive(Debug, Clone, PartialEq)]
+pub struct CriticalRow {
+    /// Series (polymer–solvent pair).
+    pub series: String,
+    /// Molar mass of the fraction, kg/mol.
+    pub molar_mass: f64,
+    /// Critical temperature, K.
+    pub critical_temperature_k: f64,
+    /// Line in the file.
+    pub line: usize,
+}
+
+/// A series of critical temperatures of fractions (the Shultz–Flory route).
+#[derive(Debug, Clone, PartialEq)]
+pub struct CriticalSeries {
+    /// Series name.
+    pub name: String,
+    /// (molar mass kg/mol, critical temperature K) per fraction, in file order.
+    pub fractions: Vec<(f64, f64)>,
+    /// v̄ and V1 given in the file for this series.
+    pub volumes: Option<Volumes>,
+}
+
+/// A light-scattering series: its readings at every temperature.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ScatteringSeries {
+    /// Series name.
+    pub name: String,
+    /// Readings in file order.
+    pub rows: Vec<ScatteringRow>,
+    /// v̄ and V1 given in the file for this series.
+    pub volumes: Option<Volumes>,
+}
+
+/// Every series of a run, by route, with v̄/V1 attached: osmometry, tabulated A2 and χ,
+/// critical temperatures and light scattering.
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct Dataset {
     /// Osmometry series, first-seen order.
     pub series: Vec<Series>,
     /// Tabulated A2 and χ series, first-seen order (A2 tables first).
     pub tabulated: Vec<TabulatedSeries>,
+    /// Critical-temperature series, first-seen order.
+    pub critical: Vec<CriticalSeries>,
+    /// Light-scattering series, first-seen order.
+    pub scattering: Vec<ScatteringSeries>,
     /// The solvent of each series that names one: (series, solvent).
     pub solvents: Vec<(String, String)>,
 }
@@ -236,6 +293,7 @@ impl Dataset {
         readings: GroupedReadings,
         a2_rows: &[TabulatedRow],
         chi_rows: &[TabulatedRow],
+        routes: OtherRoutes,
         volumes: &[(String, Volumes)],
         solvents: &[(String, String)],
     ) -> Self {
@@ -253,8 +311,50 @@ impl Dataset {
         for s in &mut tabulated {
             s.volumes = find(&s.name);
         }
-        Dataset { series, tabulated, solvents: solvents.to_vec() }
+        let mut critical: Vec<CriticalSeries> = Vec::new();
+        for row in routes.critical {
+            match critical.iter_mut().find(|s| s.name == row.series) {
+                Some(s) => s.fractions.push((row.molar_mass, row.critical_temperature_k)),
+                None => critical.push(CriticalSeries {
+                    volumes: find(&row.series),
+                    fractions: vec![(row.molar_mass, row.critical_temperature_k)],
+                    name: row.series,
+                }),
+            }
+        }
+        let mut scattering: Vec<ScatteringSeries> = Vec::new();
+        for row in routes.scattering {
+            match scattering.iter_mut().find(|s| s.name == row.series) {
+                Some(s) => s.rows.push(row),
+                None => scattering.push(ScatteringSeries {
+                    name: row.series.clone(),
+                    volumes: find(&row.series),
+                    rows: vec![row],
+                }),
+            }
+        }
+        Dataset { series, tabulated, critical, scattering, solvents: solvents.to_vec() }
     }
+
+    /// Series of every route.
+    pub fn len(&self) -> usize {
+        self.series.len() + self.tabulated.len() + self.critical.len() + self.scattering.len()
+    }
+
+    /// True when no route holds a series.
+    pub fn is_empty(&self) -> bool {
+        self.len() == 0
+    }
+}
+
+/// Rows of the routes read as rows (critical temperatures, light scattering), for
+/// [`Dataset::new`] to group.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct OtherRoutes {
+    /// Critical temperatures of fractions.
+    pub critical: Vec<CriticalRow>,
+    /// Light-scattering readings.
+    pub scattering: Vec<ScatteringRow>,
 }
 
 /// Groups tabulated rows into series (first-seen order), temperatures ascending.

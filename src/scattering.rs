@@ -5,8 +5,8 @@
 //! c → 0 (fitted in q² for Rg, the z-average radius of gyration). SI units: c in kg/m³, K c/R in
 //! mol/kg, q in 1/m, Mw in kg/mol, A2 in mol m³/kg², Rg in m.
 
+use crate::dataset::ScatteringRow;
 use crate::dataset::TemperaturePoint;
-use crate::input::ScatteringRow;
 use crate::numerics::linear::{self, Weights};
 use serde::Serialize;
 

@@ -1,5 +1,7 @@
-//! A campaign (more than 200 series): the report drops the per-reading arrays unless asked,
-//! the file and standard output carry the same bytes, and the terminal shows a digest.
+//! A campaign of hundreds of series: the outputs have the shape the user asks for, the same as
+//! for one series (`--report-detail full`, the default; `fits` drops the per-reading arrays,
+//! writes the JSON on one line and shows a digest in the terminal); the file and standard
+//! output carry the same bytes.
 
 use serde_json::Value;
 use std::fmt::Write;
@@ -45,9 +47,9 @@ fn analyze(dir: &std::path::Path, extra: &[&str]) -> std::process::Output {
 }
 
 #[test]
-fn a_campaign_report_holds_the_fits_without_the_readings_unless_asked() {
+fn a_campaign_report_holds_the_fits_without_the_readings_when_asked() {
     let dir = tempfile::tempdir().unwrap();
-    let out = analyze(dir.path(), &["--report", "-", "-q"]);
+    let out = analyze(dir.path(), &["--report", "-", "-q", "--report-detail", "fits"]);
     assert!(out.status.success());
     let report: Value = serde_json::from_slice(&out.stdout).unwrap();
     assert_eq!(report["settings"]["report_detail"], "fits");
@@ -56,10 +58,11 @@ fn a_campaign_report_holds_the_fits_without_the_readings_unless_asked() {
     assert!(fit.get("points").is_none() && fit.get("virial_candidates").is_none(), "{fit}");
     assert!(fit["a2_mol_ml_per_g2"].is_number() && fit["mn_se_g_per_mol"].is_number());
     // The same run written to a file (streamed through a buffer) carries the same bytes.
-    assert!(analyze(dir.path(), &["--report", "r.json", "-q"]).status.success());
+    assert!(analyze(dir.path(), &["--report", "r.json", "-q", "--report-detail", "fits"]).status.success());
     assert_eq!(std::fs::read(dir.path().join("r.json")).unwrap(), out.stdout);
 
-    let full = analyze(dir.path(), &["--report", "-", "-q", "--report-detail", "full"]);
+    // The default is the same shape as for one series: every reading.
+    let full = analyze(dir.path(), &["--report", "-", "-q"]);
     let full: Value = serde_json::from_slice(&full.stdout).unwrap();
     assert_eq!(full["settings"]["report_detail"], "full");
     assert_eq!(full["series"][0]["fits"][0]["points"].as_array().unwrap().len(), 5);
@@ -72,9 +75,12 @@ fn a_campaign_report_holds_the_fits_without_the_readings_unless_asked() {
 }
 
 #[test]
-fn a_campaign_prints_a_digest_not_every_series() {
+fn a_campaign_prints_a_digest_when_asked_and_every_series_by_default() {
     let dir = tempfile::tempdir().unwrap();
-    let out = analyze(dir.path(), &[]);
+    let every = analyze(dir.path(), &[]);
+    let text = String::from_utf8_lossy(&every.stdout);
+    assert_eq!(text.matches("\nseries s0").count() + usize::from(text.starts_with("series s0")), 250, "{text}");
+    let out = analyze(dir.path(), &["--report-detail", "fits"]);
     assert!(out.status.success());
     let text = String::from_utf8_lossy(&out.stdout);
     assert!(text.starts_with("250 series; "), "{text}");
@@ -87,25 +93,24 @@ fn the_report_written_series_by_series_is_the_report_written_whole() {
     use thetaseek::report::{report_json, series_json, Detail, Report, ReportSettings, ReportStream};
     let bytes = campaign(250).into_bytes();
     let contents = thetaseek::input::read_file("c.csv", 0, &bytes, &Default::default()).unwrap();
-    let dataset = thetaseek::dataset::Dataset::new(contents.readings, &[], &[], &[], &[]);
+    let dataset = thetaseek::dataset::Dataset::new(contents.readings, &[], &[], Default::default(), &[], &[]);
     let settings = thetaseek::analysis::Settings {
         theta: thetaseek::theta::ThetaSettings { bootstrap_replicates: 0, ..Default::default() },
         ..Default::default()
     };
-    let results = thetaseek::analysis::analyze(&dataset.series, &[], &settings);
+    let results = thetaseek::analysis::analyze(&dataset, &settings);
     for detail in [Detail::Fits, Detail::Full] {
         let report_settings =
             ReportSettings { report_detail: detail, ..ReportSettings::new(thetaseek::virial::FormChoice::Auto) };
         let inputs = vec![thetaseek::report::InputFile::new("c.csv", &bytes)];
         let mut report = Report::new(inputs, report_settings, vec!["a warning".into()], &results, &dataset);
-        report.compare_routes();
+        report.routes = thetaseek::analysis::compare_result_routes(&results);
         let mut streamed = Vec::new();
-        let mut stream =
-            ReportStream::begin(&mut streamed, &report.inputs, &report.settings, &report.warnings).unwrap();
+        let mut stream = ReportStream::begin(&mut streamed, &report.inputs, &report.settings).unwrap();
         for s in &report.series {
-            stream.push(&mut streamed, &series_json(s)).unwrap();
+            stream.push(&mut streamed, &series_json(s, detail)).unwrap();
         }
-        stream.finish(&mut streamed, &report.routes).unwrap();
+        stream.finish(&mut streamed, &report.routes, &report.warnings).unwrap();
         assert_eq!(String::from_utf8(streamed).unwrap(), String::from_utf8(report_json(&report)).unwrap());
     }
 }

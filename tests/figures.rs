@@ -26,12 +26,12 @@ fn readings(name: &str, temps: &[f64], theta: f64, concentrations: &[f64], rng: 
 const C: [f64; 5] = [2.0, 4.0, 6.0, 8.0, 10.0];
 
 fn report_of(rows: &[Measurement]) -> Report {
-    let dataset = Dataset::new(rows.into(), &[], &[], &[], &[]);
+    let dataset = Dataset::new(rows.into(), &[], &[], Default::default(), &[], &[]);
     let settings = Settings {
         theta: ThetaSettings { bootstrap_replicates: 0, ..ThetaSettings::default() },
         ..Settings::default()
     };
-    let results = analyze(&dataset.series, &dataset.tabulated, &settings);
+    let results = analyze(&dataset, &settings);
     Report::new(Vec::new(), ReportSettings::new(thetaseek::virial::FormChoice::Auto), Vec::new(), &results, &dataset)
 }
 

@@ -33,12 +33,12 @@ fn pipeline(bytes: &[u8]) {
         Some(Quantity::HalfMinusChi) => (Vec::new(), contents.tabulated.clone()),
         None => (Vec::new(), Vec::new()),
     };
-    let dataset = Dataset::new(contents.readings, &a2, &chi, &contents.volumes, &contents.solvents);
+    let dataset = Dataset::new(contents.readings, &a2, &chi, Default::default(), &contents.volumes, &contents.solvents);
     let settings = Settings {
         theta: ThetaSettings { bootstrap_replicates: 10, ..ThetaSettings::default() },
         ..Settings::default()
     };
-    let results = analyze(&dataset.series, &dataset.tabulated, &settings);
+    let results = analyze(&dataset, &settings);
     let report = Report::new(
         Vec::new(),
         ReportSettings::new(thetaseek::virial::FormChoice::Auto),
@@ -242,7 +242,7 @@ proptest! {
             book[k] = b;
         }
         if let Ok(contents) = thetaseek::input::read_workbook("fuzz.xlsx", 0, book, &options) {
-            let _ = Dataset::new(contents.readings, &[], &[], &contents.volumes, &contents.solvents);
+            let _ = Dataset::new(contents.readings, &[], &[], Default::default(), &contents.volumes, &contents.solvents);
         }
     }
 

@@ -152,7 +152,7 @@ fn the_zimm_plot_draws_every_reading_and_both_extrapolations() {
 
 #[test]
 fn a_quadratic_zero_angle_fit_recovers_a3_with_the_factor_three() {
-    use thetaseek::input::ScatteringRow;
+    use thetaseek::dataset::ScatteringRow;
     // Invented truth (SI): Mw 500 kg/mol, A2 3e-4 mol m³/kg², A3 5e-6 mol m⁶/kg³ (a tenth of
     // the concentration term at the top concentration), Rg 30 nm;
     // K c/R = 1/Mw (1 + q² Rg²/3) + 2 A2 c + 3 A3 c² (Zimm 1948), noise-free.

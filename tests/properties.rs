@@ -43,8 +43,8 @@ fn report(header: &str, rows: &[String], settings: &Settings) -> Report {
         let _ = writeln!(text, "{r}");
     }
     let contents = read_file("p.csv", 0, text.as_bytes(), &ReadOptions::default()).unwrap();
-    let dataset = Dataset::new(contents.readings, &[], &[], &[], &[]);
-    let results = analyze(&dataset.series, &dataset.tabulated, settings);
+    let dataset = Dataset::new(contents.readings, &[], &[], Default::default(), &[], &[]);
+    let results = analyze(&dataset, settings);
     Report::new(Vec::new(), ReportSettings::new(thetaseek::virial::FormChoice::Auto), Vec::new(), &results, &dataset)
 }
 
@@ -132,9 +132,9 @@ proptest! {
             }
         }
         let contents = read_file("p.csv", 0, text.as_bytes(), &ReadOptions::default()).unwrap();
-        let dataset = Dataset::new(contents.readings, &[], &[], &[], &[]);
+        let dataset = Dataset::new(contents.readings, &[], &[], Default::default(), &[], &[]);
         let settings = Settings { virial: FormChoice::Fixed(VirialForm::Linear), ..no_bootstrap() };
-        let results = analyze(&dataset.series, &dataset.tabulated, &settings);
+        let results = analyze(&dataset, &settings);
         let got = results[0].theta.as_ref().unwrap().theta_k.unwrap();
         prop_assert!((got - theta).abs() < 1e-8, "θ {} vs truth {}", got, theta);
     }

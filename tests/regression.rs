@@ -26,12 +26,12 @@ fn figures_of(text: &'static str) -> usize {
             Some(Quantity::HalfMinusChi) => (Vec::new(), contents.tabulated.clone()),
             None => (Vec::new(), Vec::new()),
         };
-        let dataset = Dataset::new(contents.readings, &a2, &chi, &[], &[]);
+        let dataset = Dataset::new(contents.readings, &a2, &chi, Default::default(), &[], &[]);
         let settings = Settings {
             theta: ThetaSettings { bootstrap_replicates: 0, ..ThetaSettings::default() },
             ..Settings::default()
         };
-        let results = analyze(&dataset.series, &dataset.tabulated, &settings);
+        let results = analyze(&dataset, &settings);
         let report = Report::new(
             Vec::new(),
             ReportSettings::new(thetaseek::virial::FormChoice::Auto),

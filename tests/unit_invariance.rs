@@ -38,7 +38,11 @@ fn celsius_g_per_ml_pascal_and_kelvin_g_per_l_head_give_the_same_results() {
             theta: ThetaSettings { bootstrap_replicates: 0, ..ThetaSettings::default() },
             ..Settings::default()
         };
-        analyze(&contents.readings.into_series(), &[], &settings)
+        let dataset = thetaseek::dataset::Dataset {
+            series: contents.readings.into_series(),
+            ..thetaseek::dataset::Dataset::default()
+        };
+        analyze(&dataset, &settings)
     };
     let (ra, rb) = (run(&a), run(&b));
     assert_eq!(ra[0].fits.len(), 4);

@@ -1,20 +1,23 @@
-//! `thetaseek analyze`: read → group → fit → θ → report.
+//! `thetaseek analyze`: read → group → fit → θ → report, one path for every size of input.
 
-use super::campaign::Streamed;
-use super::{check_outputs, load, write_outputs, Bar, Loaded, PendingOutput};
+use super::sinks::{Finished, RunOutputs};
+use super::{check_outputs, hashing, load, open_input, unused_columns, Bar, Loaded, PendingOutput};
 use crate::cli::{AnalyzeArgs, DetailArg, ReadArgs, VirialArg};
-use thetaseek::analysis::{self, Settings, Status};
-use thetaseek::dataset::Volumes;
+use thetaseek::analysis::{self, Settings};
+use thetaseek::dataset::{Series, Volumes};
 use thetaseek::error::Error;
-use thetaseek::input::ReadOptions;
+use thetaseek::input::{BlockReader, Opened, ReadOptions, BLOCK_BYTES};
 use thetaseek::output::Destination;
 use thetaseek::plot;
-use thetaseek::report::{self, Detail, Report, ReportSettings};
+use thetaseek::report::{Detail, InputFile, ReportSettings};
 use thetaseek::theta::ThetaSettings;
 use thetaseek::units::{ConcentrationUnit, PressureUnit, TemperatureUnit};
 use thetaseek::virial::{FormChoice, VirialForm};
 
-/// Runs the subcommand.
+/// Runs the subcommand: one path for every size of input. The input yields series as it is
+/// read ([`read_into`]), [`RunOutputs`] analyses them a chunk at a time and writes the JSON and
+/// the tables as it goes, and the end of the run compares the routes, draws the figures and
+/// commits every output together.
 pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
     let mut options = read_options(&args.read)?;
     let settings = settings(args)?;
@@ -22,14 +25,13 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
     if let Some(table) = &table {
         options.solvent_densities = table.rows.iter().filter_map(|r| r.density.map(|d| (r.name.clone(), d))).collect();
     }
-
     if args.bootstrap > args.max_bootstrap {
         return Err(Error::Setting(format!(
             "--bootstrap {} is above --max-bootstrap {} (memory grows by 8 bytes per replicate per series in flight, time by one refit each); raise --max-bootstrap to run it",
             args.bootstrap, args.max_bootstrap
         )));
     }
-    let report_settings = |series_count: usize| ReportSettings {
+    let report_settings = ReportSettings {
         temperature_unit: options.temperature_unit.map(|u| u.to_string()),
         concentration_unit: options.concentration_unit.map(|u| u.to_string()),
         pressure_unit: options.pressure_unit.map(|u| u.to_string()),
@@ -40,75 +42,265 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
         polymer_specific_volume_ml_per_g: args.polymer_specific_volume,
         solvent_molar_volume_ml_per_mol: args.solvent_molar_volume,
         a2_tolerance_mol_ml_per_g2: args.a2_tolerance,
-        report_detail: detail(args, series_count),
+        report_detail: match args.report_detail {
+            DetailArg::Full => Detail::Full,
+            DetailArg::Fits => Detail::Fits,
+        },
         ..ReportSettings::new(settings.virial)
     };
-    let figures_wanted = args.figures.is_some() || args.html.is_some();
-    // One large osmometry file is analysed as it is read (see `campaign::stream`).
-    let streamable = !thetaseek::input::is_workbook(&args.files[0].display().to_string());
-    let mut loaded = if args.files.len() == 1 && !figures_wanted && streamable {
-        match super::campaign::stream(args, &options, &settings, report_settings, table.as_ref())? {
-            Streamed::Done => return Ok(()),
-            Streamed::Loaded(loaded) => *loaded,
-            Streamed::Reread => load(&args.files, &options, args.read.max_input_mb)?,
+    check_destinations(args)?;
+    let bar = Bar::new(0, args.quiet);
+    let run = RunContext { args, options: &options, settings: &settings, table: table.as_ref(), bar: &bar };
+    let read = match read_into(&run, RunOutputs::open(args, &settings, report_settings.clone())?, Release::AsRead)? {
+        Read::Done(read) => read,
+        // A series came back after the file had moved past it: nothing was committed; the
+        // file is read again, this time holding every series to the end.
+        Read::SeriesReturned => {
+            match read_into(&run, RunOutputs::open(args, &settings, report_settings)?, Release::AtEnd)? {
+                Read::Done(read) => read,
+                Read::SeriesReturned => unreachable!("nothing is released before the end"),
+            }
         }
-    } else {
-        load(&args.files, &options, args.read.max_input_mb)?
     };
-    attach_solvent_volumes(&mut loaded, table.as_ref(), args);
-    let series_count = loaded.dataset.series.len()
-        + loaded.dataset.tabulated.len()
-        + names_in_order(loaded.critical.iter().map(|r| r.series.as_str())).len()
-        + names_in_order(loaded.scattering.iter().map(|r| r.series.as_str())).len();
-    let report_settings = report_settings(series_count);
-    // A campaign without figures is analysed and written a chunk of series at a time.
-    if series_count > report::CAMPAIGN_SERIES && !figures_wanted {
-        return super::campaign::run(args, loaded, &settings, report_settings);
-    }
-    let Loaded { inputs, dataset, warnings: run_warnings, critical, volumes, scattering, refused } = loaded;
-    let bar = Bar::new(analysis::work_units(&dataset.series, &dataset.tabulated, &settings), args.quiet);
-    let results = analysis::analyze_with_progress(&dataset.series, &dataset.tabulated, &settings, &bar);
     bar.finish();
-    let mut report = Report::new(inputs, report_settings, run_warnings, &results, &dataset);
-    add_critical_series(&mut report, &critical, &volumes, &settings);
-    add_scattering_series(&mut report, &scattering, &volumes, &settings);
-    report.add_refused_series(&refused);
-    report.compare_routes();
+    let Done { outputs, inputs, warnings, digest, refused } = *read;
+    let finished = outputs.finish(inputs, warnings, digest, args.quiet)?;
+    commit(args, finished)?;
+    match refused {
+        0 => Ok(()),
+        n => Err(Error::SomeSeriesRefused(n)),
+    }
+}
 
-    if report.series.iter().all(|s| s.status == Status::Refused) {
-        if !args.quiet {
-            eprint!("{}", report::render_terminal(&report));
+/// What every step of reading needs.
+struct RunContext<'a> {
+    args: &'a AnalyzeArgs,
+    options: &'a ReadOptions,
+    settings: &'a Settings,
+    table: Option<&'a SolventTable>,
+    bar: &'a Bar,
+}
+
+/// When series read from a file are analysed.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Release {
+    /// As soon as the file has moved past them (each series' rows together, the usual layout).
+    AsRead,
+    /// At the end of the input.
+    AtEnd,
+}
+
+/// How reading ended.
+enum Read<'a> {
+    /// Every series analysed and written into the outputs.
+    Done(Box<Done<'a>>),
+    /// A series' rows came back after it had been analysed.
+    SeriesReturned,
+}
+
+/// A run read and analysed, its outputs still to be finished.
+struct Done<'a> {
+    outputs: RunOutputs<'a>,
+    inputs: Vec<InputFile>,
+    warnings: Vec<String>,
+    /// The first input's SHA-256, where it was hashed as it was streamed.
+    digest: Option<String>,
+    refused: usize,
+}
+
+/// Reads every input into `outputs`. One CSV file is read a block at a time and, at
+/// [`Release::AsRead`], each series is analysed once the file has moved past it, so a campaign
+/// never holds its dataset whole; several files (a series may continue in a later one) or a
+/// workbook are read whole first.
+fn read_into<'a>(run: &RunContext<'a>, mut outputs: RunOutputs<'a>, release: Release) -> Result<Read<'a>, Error> {
+    let args = run.args;
+    let streamable = args.files.len() == 1 && !thetaseek::input::is_workbook(&args.files[0].display().to_string());
+    if !streamable {
+        let loaded = load(&args.files, run.options, args.read.max_input_mb)?;
+        return Ok(Read::Done(Box::new(analyse_loaded(run, outputs, loaded, None)?)));
+    }
+    let path = &args.files[0];
+    let name = path.display().to_string();
+    let file = open_input(path, args.read.max_input_mb)?;
+    let file_bytes = file.size();
+    let mut source = hashing(file);
+    let mut reader = match BlockReader::open(&name, 0, &mut source, run.options, BLOCK_BYTES)? {
+        Opened::Blocks(reader) => reader,
+        Opened::Whole(contents) => {
+            let mut loading = super::Loading::default();
+            loading.add(&name, &sha2::Digest::finalize(source.hasher), *contents);
+            return Ok(Read::Done(Box::new(analyse_loaded(run, outputs, loading.finish(), None)?)));
         }
-        return Err(Error::NothingAnalysed(grouped_reasons(&report)));
-    }
-
-    let mut outputs = Vec::new();
-    if let Some(path) = &args.report {
-        outputs.push(PendingOutput::streamed(Destination::parse(path), |out| report::write_report_json(&report, out)));
-    }
-    if let Some(path) = &args.table {
-        outputs.push(PendingOutput::bytes(Destination::parse(path), report::table_csv(&report)));
-    }
-    let figures = if args.figures.is_some() || args.html.is_some() {
-        plot::figures_for_report(&report).map_err(|e| Error::Setting(e.to_string()))?
-    } else {
-        Vec::new()
     };
-    if let Some(path) = &args.html {
-        let html = thetaseek::html::analyze_html(&report, &figures, &thetaseek::html::report_date());
-        outputs.push(PendingOutput::bytes(Destination::File(path.clone()), html.into_bytes()));
-    }
-    if let Some(dir) = &args.figures {
-        for figure in figures {
-            outputs.push(PendingOutput::bytes(Destination::File(dir.join(figure.file_name)), figure.svg.into_bytes()));
+    let mut warnings = unused_columns(&name, &reader.ignored_columns());
+    // The file's SHA-256 is known only at its end: the report opens with zeros in its place.
+    let mut inputs = vec![InputFile { path: name.clone(), sha256: "0".repeat(64) }];
+    inputs.extend(run.table.map(|t| t.input.clone()));
+    outputs.begin(&inputs, true)?;
+    let mut volumes = SolventVolumes::new(run);
+    let mut ready: Vec<(Series, Option<String>)> = Vec::new();
+    let mut read_bytes = 0u64;
+    let units_per_series = analysis::osmometry_work_units(1, run.settings);
+    loop {
+        // The next block is read while the series finished so far are analysed and written.
+        let batch = std::mem::take(&mut ready);
+        let (more, written) = rayon::join(|| reader.next_block(), || outputs.analyse(&batch, run.bar));
+        let more = more?;
+        written?;
+        drop(batch);
+        if reader.readings.reopened().is_some() {
+            return Ok(Read::SeriesReturned);
+        }
+        read_bytes += BLOCK_BYTES as u64;
+        if !more {
+            break;
+        }
+        if release == Release::AsRead {
+            let finished = reader.readings.take_finished();
+            ready.extend(finished.into_iter().map(|s| volumes.attach(s, &reader)));
+            // The bar's length is estimated from the series per byte read so far.
+            let seen = outputs.analysed() + ready.len() as u64;
+            run.bar.set_total(seen * units_per_series * file_bytes.max(read_bytes) / read_bytes.max(1));
         }
     }
-    if let Some(path) = &args.series_table {
-        let filter =
-            if args.needs_attention { report::SeriesFilter::NeedsAttention } else { report::SeriesFilter::All };
-        outputs.push(PendingOutput::bytes(Destination::parse(path), report::series_table_csv(&report, filter)));
+    let rest = std::mem::take(&mut reader.readings).into_series();
+    ready.extend(rest.into_iter().map(|s| volumes.attach(s, &reader)));
+    let contents = reader.finish()?;
+    run.bar.set_total((outputs.analysed() + ready.len() as u64) * units_per_series);
+    outputs.analyse(&ready, run.bar)?;
+    drop(ready);
+    warnings.extend(volumes.finish());
+    outputs.add_refused(&contents.refused)?;
+    let digest = InputFile::from_digest(&name, &sha2::Digest::finalize(source.hasher)).sha256;
+    inputs[0].sha256 = digest.clone();
+    Ok(Read::Done(Box::new(Done { outputs, inputs, warnings, digest: Some(digest), refused: contents.refused.len() })))
+}
+
+/// Analyses a dataset read whole: the osmometry series, then the other routes, then the
+/// series refused at reading.
+fn analyse_loaded<'a>(
+    run: &RunContext<'a>,
+    mut outputs: RunOutputs<'a>,
+    mut loaded: Loaded,
+    digest: Option<String>,
+) -> Result<Done<'a>, Error> {
+    let mut volumes = SolventVolumes::new(run);
+    if let Some(table) = run.table {
+        if !loaded.inputs.iter().any(|i| i.path == table.input.path) {
+            loaded.inputs.push(table.input.clone());
+        }
     }
-    super::check_one_stdout(outputs.iter().map(|o| &o.destination))?;
+    outputs.begin(&loaded.inputs, false)?;
+    let Loaded { inputs, mut dataset, mut warnings, refused } = loaded;
+    run.bar.set_total(analysis::work_units(&dataset, run.settings));
+    let solvents: std::collections::HashMap<String, String> = dataset.solvents.iter().cloned().collect();
+    let solvent_of = |name: &str| solvents.get(name).cloned();
+    let series: Vec<(Series, Option<String>)> = std::mem::take(&mut dataset.series)
+        .into_iter()
+        .map(|s| {
+            let solvent = solvent_of(&s.name);
+            (volumes.attach_named(s, solvent.as_deref()), solvent)
+        })
+        .collect();
+    outputs.analyse(&series, run.bar)?;
+    // Freeing 10⁵ small vectors takes tens of milliseconds: done beside the rest of the run.
+    let freeing = std::thread::spawn(move || drop(series));
+    let others = analysis::analyze_other_routes(&dataset, run.settings, run.bar);
+    outputs.add(&others, solvent_of)?;
+    outputs.add_refused(&refused)?;
+    warnings.extend(volumes.finish());
+    let _ = freeing.join();
+    Ok(Done { outputs, inputs, warnings, digest, refused: refused.len() })
+}
+
+/// Each series' solvent molar volume from the solvents table (a series' own columns win),
+/// with the run's warnings about it.
+struct SolventVolumes<'a> {
+    table: Option<&'a SolventTable>,
+    specific_volume: Option<f64>,
+    flag: Option<f64>,
+    warnings: Vec<String>,
+    /// Solvents of series that rely on the one `--solvent-molar-volume`.
+    covered: Vec<String>,
+}
+
+impl<'a> SolventVolumes<'a> {
+    fn new(run: &RunContext<'a>) -> Self {
+        SolventVolumes {
+            table: run.table,
+            // mL/g → m³/kg, mL/mol → m³/mol.
+            specific_volume: run.args.polymer_specific_volume.map(|v| v * 1e-3),
+            flag: run.args.solvent_molar_volume.map(|v| v * 1e-6),
+            warnings: Vec::new(),
+            covered: Vec::new(),
+        }
+    }
+
+    /// A series read in blocks: its own v̄ and V1 from the file, then the table's.
+    fn attach(&mut self, mut series: Series, reader: &BlockReader) -> (Series, Option<String>) {
+        series.volumes = reader.volumes_of(&series.name);
+        let solvent = reader.solvent_of(&series.name).map(str::to_string);
+        (self.attach_named(series, solvent.as_deref()), solvent)
+    }
+
+    fn attach_named(&mut self, mut series: Series, solvent: Option<&str>) -> Series {
+        if let Some(table) = self.table {
+            let warning = thetaseek::solvent::attach_molar_volume(
+                &mut series,
+                solvent,
+                &table.rows,
+                self.specific_volume,
+                self.flag,
+            );
+            self.warnings.extend(warning);
+        }
+        if series.volumes.is_none() {
+            if let Some(solvent) = solvent {
+                if !self.covered.iter().any(|c| c == solvent) {
+                    self.covered.push(solvent.to_string());
+                }
+            }
+        }
+        series
+    }
+
+    /// The warnings, with one for a single molar volume over several solvents.
+    fn finish(self) -> Vec<String> {
+        let covered: Vec<&str> = self.covered.iter().map(String::as_str).collect();
+        let mut warnings = self.warnings;
+        warnings.extend(thetaseek::solvent::one_volume_for_several_solvents(self.flag, &covered));
+        warnings
+    }
+}
+
+/// Refuses, before anything is read, two outputs on standard output and any output that is an
+/// input or shares a file with another output.
+fn check_destinations(args: &AnalyzeArgs) -> Result<(), Error> {
+    let mut destinations: Vec<Destination> =
+        [&args.report, &args.table, &args.series_table].into_iter().flatten().map(|p| Destination::parse(p)).collect();
+    super::check_one_stdout(&destinations)?;
+    destinations.extend(args.html.iter().map(|p| Destination::File(p.clone())));
+    super::check_destinations(&destinations, &input_paths(args))
+}
+
+/// Draws the figures and HTML (when asked for) and commits every output together, then
+/// prints the terminal text.
+fn commit(args: &AnalyzeArgs, finished: Finished) -> Result<(), Error> {
+    let Finished { mut files, report, terminal, stdout_taken } = finished;
+    let mut outputs = Vec::new();
+    if let Some(report) = &report {
+        let figures = plot::figures_for_report(report).map_err(|e| Error::Setting(e.to_string()))?;
+        if let Some(path) = &args.html {
+            let html = thetaseek::html::analyze_html(report, &figures, &thetaseek::html::report_date());
+            outputs.push(PendingOutput::bytes(Destination::File(path.clone()), html.into_bytes()));
+        }
+        if let Some(dir) = &args.figures {
+            for figure in figures {
+                outputs
+                    .push(PendingOutput::bytes(Destination::File(dir.join(figure.file_name)), figure.svg.into_bytes()));
+            }
+        }
+    }
     check_outputs(&outputs, &input_paths(args))?;
     // The figures folder is made only once every check has passed, and removed again if it
     // was new and the outputs could not be written.
@@ -120,20 +312,28 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
             source,
         })?;
     }
-    let stdout_taken = outputs.iter().any(|o| o.destination == Destination::Stdout);
-    if let Err(error) = write_outputs(outputs) {
+    let written = super::stage_outputs(outputs).and_then(|staged| {
+        files.extend(staged);
+        thetaseek::output::commit_all(files).map_err(|(path, source)| Error::Io {
+            action: "cannot write",
+            path,
+            source,
+        })
+    });
+    if let Err(error) = written {
         if let Some(dir) = new_folder {
             let _ = std::fs::remove_dir(dir);
         }
         return Err(error);
     }
-    if !args.quiet {
-        super::print_terminal(&report, stdout_taken);
+    if let Some(text) = terminal {
+        if stdout_taken {
+            eprint!("{text}");
+        } else {
+            print!("{text}");
+        }
     }
-    match refused.len() {
-        0 => Ok(()),
-        n => Err(Error::SomeSeriesRefused(n)),
-    }
+    Ok(())
 }
 
 /// Every file the run reads (none may be an output).
@@ -146,7 +346,7 @@ pub(crate) struct SolventTable {
     /// Its rows.
     pub rows: Vec<thetaseek::input::SolventProperties>,
     /// Its name and SHA-256.
-    pub input: report::InputFile,
+    pub input: InputFile,
 }
 
 fn read_solvent_table(args: &AnalyzeArgs) -> Result<Option<SolventTable>, Error> {
@@ -154,46 +354,7 @@ fn read_solvent_table(args: &AnalyzeArgs) -> Result<Option<SolventTable>, Error>
     let name = path.display().to_string();
     let bytes = super::read_input(path, args.read.max_input_mb)?;
     let rows = thetaseek::input::read_solvents(&name, &bytes)?;
-    Ok(Some(SolventTable { rows, input: report::InputFile::new(&name, &bytes) }))
-}
-
-/// Gives each series its own solvent's molar volume from the table (columns win), and warns
-/// where one `--solvent-molar-volume` still covers series that name different solvents.
-fn attach_solvent_volumes(loaded: &mut Loaded, table: Option<&SolventTable>, args: &AnalyzeArgs) {
-    let solvent_of = |name: &str| loaded.dataset.solvents.iter().find(|(s, _)| s == name).map(|(_, v)| v.clone());
-    let solvents: Vec<Option<String>> = loaded.dataset.series.iter().map(|s| solvent_of(&s.name)).collect();
-    let flag = args.solvent_molar_volume.map(|v| v * 1e-6);
-    if let Some(table) = table {
-        if !loaded.inputs.iter().any(|i| i.path == table.input.path) {
-            loaded.inputs.push(table.input.clone());
-        }
-        let v = args.polymer_specific_volume.map(|v| v * 1e-3);
-        for (series, solvent) in loaded.dataset.series.iter_mut().zip(&solvents) {
-            let warning = thetaseek::solvent::attach_molar_volume(series, solvent.as_deref(), &table.rows, v, flag);
-            loaded.warnings.extend(warning);
-        }
-    }
-    // Series the flag still covers: no volumes of their own, none from the table.
-    let covered: Vec<&str> = loaded
-        .dataset
-        .series
-        .iter()
-        .zip(&solvents)
-        .filter(|(s, _)| s.volumes.is_none())
-        .filter_map(|(_, solvent)| solvent.as_deref())
-        .collect();
-    loaded.warnings.extend(thetaseek::solvent::one_volume_for_several_solvents(flag, &covered));
-}
-
-/// The report's detail: figures and HTML need the readings; otherwise `auto` follows the
-/// number of series.
-fn detail(args: &AnalyzeArgs, series: usize) -> Detail {
-    match args.report_detail {
-        _ if args.figures.is_some() || args.html.is_some() => Detail::Full,
-        DetailArg::Full => Detail::Full,
-        DetailArg::Fits => Detail::Fits,
-        DetailArg::Auto => Detail::for_series_count(series),
-    }
+    Ok(Some(SolventTable { rows, input: InputFile::new(&name, &bytes) }))
 }
 
 /// The library's form choice for the command-line value.
@@ -278,67 +439,4 @@ fn column_mapping(text: &str) -> Result<(thetaseek::input::Role, String), Error>
         return Err(refuse("the header is empty"));
     }
     Ok((role, header.trim().to_string()))
-}
-
-/// Why series were refused, grouped by reason with counts (a campaign may refuse thousands).
-fn grouped_reasons(report: &Report) -> String {
-    let mut tally = report::Tally::default();
-    report.series.iter().for_each(|s| tally.add(s));
-    tally.refusals_in_brief()
-}
-
-/// The Shultz–Flory route for every series of critical temperatures, in order of appearance.
-pub(super) fn add_critical_series(
-    report: &mut Report,
-    rows: &[thetaseek::input::CriticalRow],
-    volumes: &[(String, Volumes)],
-    settings: &Settings,
-) {
-    for name in names_in_order(rows.iter().map(|r| r.series.as_str())) {
-        let fractions: Vec<(f64, f64)> =
-            rows.iter().filter(|r| r.series == name).map(|r| (r.molar_mass, r.critical_temperature_k)).collect();
-        let v = volumes.iter().find(|(s, _)| s == name).map(|(_, v)| *v).or(settings.volumes);
-        let result = match v {
-            Some(v) => thetaseek::theta::critical_route(&fractions, v, settings.theta.confidence),
-            None => Err("critical temperatures need v̄ and V1: give --polymer-specific-volume and --solvent-molar-volume, or the columns".into()),
-        };
-        report.add_critical_series(name, result);
-    }
-}
-
-/// Light-scattering series: Zimm fits per temperature, then the same θ machinery (on the
-/// light-scattering A2, a weight-average quantity).
-pub(super) fn add_scattering_series(
-    report: &mut Report,
-    rows: &[thetaseek::input::ScatteringRow],
-    volumes: &[(String, Volumes)],
-    settings: &Settings,
-) {
-    for name in names_in_order(rows.iter().map(|r| r.series.as_str())) {
-        let of: Vec<&thetaseek::input::ScatteringRow> = rows.iter().filter(|r| r.series == name).collect();
-        // `--virial quadratic` adds the 3 A3 c² term to the zero-angle fit; every other choice
-        // keeps the straight line.
-        let quadratic = settings.virial == FormChoice::Fixed(VirialForm::Quadratic);
-        let mut fits = thetaseek::scattering::fit_series(&of, quadratic);
-        let v = volumes.iter().find(|(s, _)| s == name).map(|(_, v)| *v).or(settings.volumes);
-        let theta = thetaseek::theta::theta_from_points(
-            &thetaseek::scattering::points(&fits),
-            // Each temperature's SE from its own Zimm fit: taken as known (normal quantile),
-            // widened by the line's lack-of-fit test where the points scatter more.
-            thetaseek::theta::SeBasis::Known,
-            thetaseek::dataset::Quantity::SecondVirial,
-            v,
-            &settings.theta,
-        );
-        if let Some(t) = theta.theta_k {
-            thetaseek::scattering::set_expansion(&mut fits, t);
-        }
-        report.add_scattering_series(name, fits, &theta);
-    }
-}
-
-/// Distinct names in order of first appearance.
-pub(super) fn names_in_order<'a>(names: impl Iterator<Item = &'a str>) -> Vec<&'a str> {
-    let mut seen = std::collections::HashSet::new();
-    names.filter(|n| seen.insert(*n)).collect()
 }

@@ -1,9 +1,9 @@
 //! One file per subcommand: orchestration and file I/O only; the science is in the library.
 
 pub mod analyze;
-mod campaign;
 pub mod next;
 pub mod plan;
+mod sinks;
 
 use std::path::{Path, PathBuf};
 use thetaseek::dataset::Quantity;
@@ -15,45 +15,23 @@ use thetaseek::output::{
 };
 use thetaseek::report::InputFile;
 
-/// An output waiting to be written: rendered in memory, or rendered straight into its file
-/// (a campaign's report is written as it is serialised, never held whole in memory).
-pub struct PendingOutput<'a> {
+/// An output rendered in memory, waiting to be written (figures, HTML, a plan; `analyze`'s
+/// report and tables are written as the run goes, see `sinks`).
+pub struct PendingOutput {
     /// Where it goes.
     pub destination: Destination,
     /// What goes there.
-    pub content: Content<'a>,
+    pub bytes: Vec<u8>,
 }
 
-/// Writes an output into a writer.
-pub type Render<'a> = Box<dyn Fn(&mut dyn std::io::Write) -> std::io::Result<()> + 'a>;
-
-/// The bytes of an output, or how to write them.
-pub enum Content<'a> {
-    /// Already rendered.
-    Bytes(Vec<u8>),
-    /// Rendered while writing.
-    Streamed(Render<'a>),
-}
-
-impl<'a> PendingOutput<'a> {
+impl PendingOutput {
     /// An output already rendered.
     pub fn bytes(destination: Destination, bytes: Vec<u8>) -> Self {
-        PendingOutput { destination, content: Content::Bytes(bytes) }
-    }
-
-    /// An output rendered by `write` as it is written.
-    pub fn streamed(
-        destination: Destination,
-        write: impl Fn(&mut dyn std::io::Write) -> std::io::Result<()> + 'a,
-    ) -> Self {
-        PendingOutput { destination, content: Content::Streamed(Box::new(write)) }
+        PendingOutput { destination, bytes }
     }
 
     fn write_to(&self, out: &mut dyn std::io::Write) -> std::io::Result<()> {
-        match &self.content {
-            Content::Bytes(bytes) => out.write_all(bytes),
-            Content::Streamed(write) => write(out),
-        }
+        out.write_all(&self.bytes)
     }
 }
 
@@ -200,17 +178,6 @@ impl thetaseek::progress::Progress for Bar {
     }
 }
 
-/// Prints the terminal rendering of a report: on stdout, or on stderr when stdout carries the
-/// report or a CSV.
-pub fn print_terminal(report: &thetaseek::report::Report, stdout_taken: bool) {
-    let text = thetaseek::report::render_terminal(report);
-    if stdout_taken {
-        eprint!("{text}");
-    } else {
-        print!("{text}");
-    }
-}
-
 /// Refuses any output that would overwrite one of the inputs, and two outputs to one file.
 pub fn check_outputs(outputs: &[PendingOutput], inputs: &[PathBuf]) -> Result<(), Error> {
     check_destinations(outputs.iter().map(|o| &o.destination), inputs)
@@ -256,6 +223,13 @@ pub fn check_one_stdout<'d>(destinations: impl IntoIterator<Item = &'d Destinati
 /// file created before anything is written; files are filled, then devices, pipes and standard
 /// output are written in place, and only then are the files renamed into place together.
 pub fn write_outputs(outputs: Vec<PendingOutput>) -> Result<(), Error> {
+    let staged = stage_outputs(outputs)?;
+    commit_all(staged).map_err(|(path, source)| Error::Io { action: "cannot write", path, source })
+}
+
+/// [`write_outputs`] up to the renames: the files filled (returned, to be committed with
+/// others), devices, pipes and standard output written.
+pub fn stage_outputs(outputs: Vec<PendingOutput>) -> Result<Vec<AtomicFile>, Error> {
     let shown = |d: &Destination| match d {
         Destination::Stdout => PathBuf::from("-"),
         Destination::File(path) => path.clone(),
@@ -288,7 +262,7 @@ pub fn write_outputs(outputs: Vec<PendingOutput>) -> Result<(), Error> {
         };
         written.map_err(failed(shown(&out.destination)))?;
     }
-    commit_all(staged).map_err(|(path, source)| Error::Io { action: "cannot write", path, source })
+    Ok(staged)
 }
 
 /// Every input file read, hashed and grouped into one dataset.
@@ -299,12 +273,6 @@ pub struct Loaded {
     pub dataset: Dataset,
     /// Run-level warnings (columns not used, ...).
     pub warnings: Vec<String>,
-    /// Critical temperatures of fractions (the Shultz–Flory route).
-    pub critical: Vec<input::CriticalRow>,
-    /// v̄ and V1 per series, as the files gave them.
-    pub volumes: Vec<(String, thetaseek::dataset::Volumes)>,
-    /// Static light-scattering readings.
-    pub scattering: Vec<input::ScatteringRow>,
     /// Series refused for a value that cannot be used (the others were read).
     pub refused: Vec<input::RefusedSeries>,
 }
@@ -340,8 +308,7 @@ pub(crate) struct Loading {
     chi_rows: Vec<TabulatedRow>,
     volumes: Vec<(String, thetaseek::dataset::Volumes)>,
     solvents: Vec<(String, String)>,
-    critical: Vec<input::CriticalRow>,
-    scattering: Vec<input::ScatteringRow>,
+    other_routes: thetaseek::dataset::OtherRoutes,
     refused: Vec<input::RefusedSeries>,
     warnings: Vec<String>,
 }
@@ -364,22 +331,21 @@ impl Loading {
         }
         self.volumes.extend(contents.volumes);
         self.solvents.extend(contents.solvents);
-        self.critical.extend(contents.critical);
-        self.scattering.extend(contents.scattering);
+        self.other_routes.critical.extend(contents.critical);
+        self.other_routes.scattering.extend(contents.scattering);
         self.refused.extend(contents.refused);
     }
 
     pub(crate) fn finish(self) -> Loaded {
-        let dataset = Dataset::new(self.readings, &self.a2_rows, &self.chi_rows, &self.volumes, &self.solvents);
-        Loaded {
-            inputs: self.inputs,
-            dataset,
-            warnings: self.warnings,
-            critical: self.critical,
-            volumes: self.volumes,
-            scattering: self.scattering,
-            refused: self.refused,
-        }
+        let dataset = Dataset::new(
+            self.readings,
+            &self.a2_rows,
+            &self.chi_rows,
+            self.other_routes,
+            &self.volumes,
+            &self.solvents,
+        );
+        Loaded { inputs: self.inputs, dataset, warnings: self.warnings, refused: self.refused }
     }
 }
 

@@ -60,14 +60,18 @@ pub fn run(args: &NextArgs) -> Result<(), Error> {
         inputs.push(input);
     }
     if !data.is_empty() {
-        let Loaded { inputs: data_inputs, dataset, .. } = load(&data, &options, args.read.max_input_mb)?;
+        let Loaded { inputs: data_inputs, mut dataset, .. } = load(&data, &options, args.read.max_input_mb)?;
+        // `next` designs osmometry runs.
+        dataset.tabulated.clear();
+        dataset.critical.clear();
+        dataset.scattering.clear();
         inputs.extend(data_inputs);
         let settings = Settings {
             virial: super::analyze::virial_choice(args.read.virial),
             theta: ThetaSettings { confidence: args.confidence, bootstrap_replicates: 0, ..ThetaSettings::default() },
             volumes: None,
         };
-        let results = analysis::analyze(&dataset.series, &[], &settings);
+        let results = analysis::analyze(&dataset, &settings);
         for (series, result) in dataset.series.iter().zip(&results) {
             let measured: Vec<MeasuredTemperature> = result
                 .fits

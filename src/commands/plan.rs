@@ -32,13 +32,16 @@ pub fn run(args: &PlanArgs) -> Result<(), Error> {
         inputs.push(input);
     }
     if !data.is_empty() {
-        let Loaded { inputs: data_inputs, dataset, .. } = load(&data, &options, args.read.max_input_mb)?;
+        let Loaded { inputs: data_inputs, mut dataset, .. } = load(&data, &options, args.read.max_input_mb)?;
+        // The plan reads θ of osmometry and tables.
+        dataset.critical.clear();
+        dataset.scattering.clear();
         let analysis_settings = Settings {
             virial: super::analyze::virial_choice(args.read.virial),
             theta: ThetaSettings { confidence: args.confidence, bootstrap_replicates: 0, ..ThetaSettings::default() },
             volumes: None,
         };
-        let results = analysis::analyze(&dataset.series, &dataset.tabulated, &analysis_settings);
+        let results = analysis::analyze(&dataset, &analysis_settings);
         let report = Report::new(
             data_inputs.clone(),
             ReportSettings::new(thetaseek::virial::FormChoice::Auto),

@@ -18,8 +18,8 @@ pub use columns::{parse_header_cell, HeaderCell, Role};
 pub use scan::{scan, Layout, RecordLine};
 pub use workbook::{column_letters, is_workbook};
 
+use crate::dataset::{CriticalRow, Quantity, ScatteringRow, TemperaturePoint, Volumes};
 use crate::dataset::{ExcludedReading, GroupedReadings, Measurement, Origin, TabulatedRow};
-use crate::dataset::{Quantity, TemperaturePoint, Volumes};
 use crate::error::InputError;
 use crate::units::{
     head_to_pressure_pa, A2Unit, AngleUnit, ConcentrationUnit, DensityUnit, KcOverRUnit, LengthUnit, MolarMassUnit,
@@ -93,23 +93,6 @@ pub struct RefusedSeries {
     pub error: InputError,
 }
 
-/// One static light-scattering reading, SI.
-#[derive(Debug, Clone, PartialEq)]
-pub struct ScatteringRow {
-    /// Series.
-    pub series: String,
-    /// T, K.
-    pub temperature_k: f64,
-    /// c, kg/m³.
-    pub concentration: f64,
-    /// K c / R, mol/kg.
-    pub kc_over_r: f64,
-    /// Scattering vector q, 1/m (`None`: zero angle, or no angle column).
-    pub q: Option<f64>,
-    /// Line in the file.
-    pub line: usize,
-}
-
 /// What one file held, in SI units.
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct FileContents {
@@ -134,19 +117,6 @@ pub struct FileContents {
     /// Rows of tables, critical temperatures or light scattering set aside by the `exclude`
     /// column: (series, line, reason). Osmometry readings travel with their series instead.
     pub excluded_rows: Vec<(String, usize, String)>,
-}
-
-/// One fraction's critical (phase-separation) temperature.
-#[derive(Debug, Clone, PartialEq)]
-pub struct CriticalRow {
-    /// Series (polymer–solvent pair).
-    pub series: String,
-    /// Molar mass of the fraction, kg/mol.
-    pub molar_mass: f64,
-    /// Critical temperature, K.
-    pub critical_temperature_k: f64,
-    /// Line in the file.
-    pub line: usize,
 }
 
 /// Reads one CSV from memory. `name` is how the file is named in messages and is the series

@@ -1,14 +1,17 @@
 //! The report: one struct tree that *is* the JSON schema (every field carries its unit in
 //! its name), built from the analysis results, plus the CSV table and the terminal table.
 
+mod json;
 pub mod plan;
 mod table;
 mod terminal;
 mod theta;
 
 use crate::dataset::Route;
+use crate::theta::RouteComparison;
+pub use json::{report_json, series_json, to_json, write_report_json, ReportStream};
 pub use table::{series_table_csv, series_table_rows_csv, table_csv, table_rows_csv, SeriesFilter};
-pub use terminal::{plus_minus, render_summary, render_terminal, Tally};
+pub use terminal::{plus_minus, render_ending, render_series, render_summary, render_terminal, Tally};
 pub use theta::{ThetaPointReport, ThetaReport};
 
 use crate::analysis::{SeriesResult, Status};
@@ -34,61 +37,13 @@ pub struct Report {
     pub inputs: Vec<InputFile>,
     /// Settings used.
     pub settings: ReportSettings,
-    /// Warnings about the run as a whole (ignored columns, ...).
-    pub warnings: Vec<String>,
     /// One entry per series, in input order.
     pub series: Vec<SeriesReport>,
     /// θ of one polymer–solvent pair by several routes, where the inputs hold more than one.
     pub routes: Vec<RouteComparison>,
-}
-
-/// One route's θ for a comparison.
-#[derive(Debug, Clone, PartialEq, Serialize)]
-pub struct RouteTheta {
-    /// `osmometry`, `a2_table`, `chi_table` or `critical_temperatures`.
-    pub route: Route,
-    /// θ, K.
-    pub theta_k: f64,
-    /// SE, K.
-    pub se_k: f64,
-    /// Interval, K.
-    pub ci_low_k: Option<f64>,
-    /// Interval, K.
-    pub ci_high_k: Option<f64>,
-}
-
-/// Two routes' difference in units of their combined SE.
-#[derive(Debug, Clone, PartialEq, Serialize)]
-pub struct RouteDifference {
-    /// First route.
-    pub a: Route,
-    /// Second route.
-    pub b: Route,
-    /// θ_a − θ_b, K.
-    pub difference_k: f64,
-    /// (θ_a − θ_b)/√(SE_a² + SE_b²).
-    pub z: f64,
-}
-
-/// Every route of one series name, their differences and an inverse-variance combination.
-#[derive(Debug, Clone, PartialEq, Serialize)]
-pub struct RouteComparison {
-    /// Series name shared by the routes.
-    pub series: String,
-    /// Each route's θ.
-    pub routes: Vec<RouteTheta>,
-    /// Pairwise differences.
-    pub differences: Vec<RouteDifference>,
-    /// Inverse-variance weighted θ, K.
-    pub combined_theta_k: f64,
-    /// Its SE, K.
-    pub combined_se_k: f64,
-    /// χ² of one common θ, on routes − 1 degrees of freedom.
-    pub chi2: f64,
-    /// Its p-value.
-    pub p_value: f64,
-    /// p < 0.01: the routes disagree; the combined value should not be used as it is.
-    pub disagree: bool,
+    /// Warnings about the run as a whole (ignored columns, ...); last, because a run read in
+    /// one pass knows them all only at its end.
+    pub warnings: Vec<String>,
 }
 
 /// One input file.
@@ -147,22 +102,13 @@ pub struct ReportSettings {
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 #[serde(rename_all = "snake_case")]
 pub enum Detail {
-    /// Every reading with its fitted value and residual, and every candidate form.
+    /// Every reading with its fitted value and residual, and every candidate form; the JSON
+    /// pretty-printed and the terminal listing every series (the default, for any size).
     Full,
-    /// Per-temperature results without the readings: a campaign's report stays a few times
-    /// the size of its input instead of fifteen.
+    /// Per-temperature results without the readings, the JSON on one line and the terminal a
+    /// digest: a screening campaign's report stays a few times the size of its input instead
+    /// of fifteen.
     Fits,
-}
-
-impl Detail {
-    /// `Full` up to [`CAMPAIGN_SERIES`] series, `Fits` above.
-    pub fn for_series_count(n: usize) -> Self {
-        if n <= CAMPAIGN_SERIES {
-            Detail::Full
-        } else {
-            Detail::Fits
-        }
-    }
 }
 
 impl ReportSettings {
@@ -451,12 +397,13 @@ impl SeriesReport {
             .filter_map(|fit| sets.get(fit.set_index).map(|set| FitReport::new(fit, set, detail)))
             .collect();
         let skipped_temperatures: Vec<SkippedReport> = result.skipped.iter().map(SkippedReport::from).collect();
-        let reason = match result.status {
-            Status::Ok => None,
-            Status::Partial => {
+        let reason = match (result.status, &result.reason) {
+            (_, Some(reason)) => Some(reason.clone()),
+            (Status::Ok, None) => None,
+            (Status::Partial, None) => {
                 Some(format!("{} of {} temperatures could not be fitted", result.skipped.len(), sets.len()))
             }
-            Status::Refused => Some(match result.skipped.first() {
+            (Status::Refused, None) => Some(match result.skipped.first() {
                 Some(s) if result.skipped.len() == 1 => {
                     format!("its only temperature could not be fitted: {}", s.reason)
                 }
@@ -473,7 +420,12 @@ impl SeriesReport {
         if let Some(t) = &result.theta {
             warnings.extend(t.warnings.iter().cloned());
         }
-        let theta = result.theta.as_ref().map(|t| ThetaReport::new(t, result.quantity));
+        // A light-scattering series without a fitted temperature shows no θ (its warnings say why).
+        let theta = result
+            .theta
+            .as_ref()
+            .filter(|_| result.route != Route::LightScattering || !result.scattering.is_empty())
+            .map(|t| ThetaReport::new(t, result.quantity));
         let fit_warnings = result.fits.iter().map(|f| f.warnings.len()).sum();
         SeriesReport {
             name: result.name.clone(),
@@ -485,18 +437,9 @@ impl SeriesReport {
             fits,
             skipped_temperatures,
             theta,
-            // Osmometry gives every temperature a fit or a skip (a refused series only skips);
-            // a table of A2 or χ has neither.
-            route: match (
-                result.fits.is_empty() && result.skipped.is_empty() && excluded_readings.is_empty(),
-                result.quantity,
-            ) {
-                (false, _) => Route::Osmometry,
-                (true, crate::dataset::Quantity::SecondVirial) => Route::A2Table,
-                (true, crate::dataset::Quantity::HalfMinusChi) => Route::ChiTable,
-            },
-            critical: None,
-            light_scattering: Vec::new(),
+            route: result.route,
+            critical: result.critical.clone(),
+            light_scattering: result.scattering.clone(),
             fit_warnings,
             excluded_readings,
         }
@@ -577,211 +520,4 @@ impl Report {
     pub fn add_refused_series(&mut self, refused: &[crate::input::RefusedSeries]) {
         self.series.extend(refused.iter().map(SeriesReport::refused_input));
     }
-
-    /// Adds a series of critical temperatures (the Shultz–Flory route) and its result.
-    pub fn add_critical_series(&mut self, name: &str, result: Result<crate::theta::CriticalRoute, String>) {
-        let (status, reason, critical) = match result {
-            Ok(r) => (Status::Ok, None, Some(r)),
-            Err(e) => (Status::Refused, Some(e), None),
-        };
-        self.series.push(SeriesReport {
-            reading_noise: None,
-            name: name.to_string(),
-            solvent: None,
-            status,
-            reason,
-            warnings: Vec::new(),
-            fits: Vec::new(),
-            skipped_temperatures: Vec::new(),
-            theta: None,
-            route: Route::CriticalTemperatures,
-            critical,
-            light_scattering: Vec::new(),
-            fit_warnings: 0,
-            excluded_readings: Vec::new(),
-        });
-    }
-
-    /// Adds a light-scattering series: its per-temperature fits and its θ analysis.
-    pub fn add_scattering_series(
-        &mut self,
-        name: &str,
-        fits: Vec<crate::scattering::ScatteringFit>,
-        theta: &crate::theta::ThetaResult,
-    ) {
-        let status = if fits.is_empty() { Status::Refused } else { Status::Ok };
-        self.series.push(SeriesReport {
-            reading_noise: None,
-            name: name.to_string(),
-            solvent: None,
-            status,
-            reason: fits.is_empty().then(|| "no temperature had three concentrations".to_string()),
-            warnings: theta.warnings.clone(),
-            fits: Vec::new(),
-            skipped_temperatures: Vec::new(),
-            theta: (!fits.is_empty()).then(|| ThetaReport::new(theta, crate::dataset::Quantity::SecondVirial)),
-            route: Route::LightScattering,
-            critical: None,
-            light_scattering: fits,
-            fit_warnings: 0,
-            excluded_readings: Vec::new(),
-        });
-    }
-
-    /// Compares the routes of every series name that appears more than once.
-    pub fn compare_routes(&mut self) {
-        // Names that appear more than once, in order of first appearance.
-        let mut count: std::collections::HashMap<&str, usize> = std::collections::HashMap::new();
-        for s in &self.series {
-            *count.entry(s.name.as_str()).or_default() += 1;
-        }
-        let mut seen = std::collections::HashSet::new();
-        let names: Vec<&str> =
-            self.series.iter().map(|s| s.name.as_str()).filter(|n| count[n] > 1 && seen.insert(*n)).collect();
-        let mut out = Vec::new();
-        for name in names {
-            let routes: Vec<RouteTheta> = self
-                .series
-                .iter()
-                .filter(|s| s.name == name)
-                .filter_map(|s| match (&s.theta, &s.critical) {
-                    (Some(t), _) => Some(RouteTheta {
-                        route: s.route,
-                        theta_k: t.theta_k?,
-                        se_k: t.se_k?,
-                        ci_low_k: t.ci_low_k,
-                        ci_high_k: t.ci_high_k,
-                    }),
-                    (None, Some(c)) => Some(RouteTheta {
-                        route: s.route,
-                        theta_k: c.theta_k,
-                        se_k: c.se_k,
-                        ci_low_k: c.ci_low_k,
-                        ci_high_k: c.ci_high_k,
-                    }),
-                    _ => None,
-                })
-                .filter(|r| r.se_k.is_finite() && r.se_k > 0.0)
-                .collect();
-            if routes.len() < 2 {
-                continue;
-            }
-            let mut differences = Vec::new();
-            for i in 0..routes.len() {
-                for j in i + 1..routes.len() {
-                    let d = routes[i].theta_k - routes[j].theta_k;
-                    differences.push(RouteDifference {
-                        a: routes[i].route,
-                        b: routes[j].route,
-                        difference_k: d,
-                        z: d / routes[i].se_k.hypot(routes[j].se_k),
-                    });
-                }
-            }
-            let w: Vec<f64> = routes.iter().map(|r| 1.0 / (r.se_k * r.se_k)).collect();
-            let w_sum: f64 = w.iter().sum();
-            let combined = routes.iter().zip(&w).map(|(r, w)| w * r.theta_k).sum::<f64>() / w_sum;
-            let chi2: f64 = routes.iter().zip(&w).map(|(r, w)| w * (r.theta_k - combined).powi(2)).sum();
-            let dof = routes.len() - 1;
-            let p_value = statrs::distribution::ChiSquared::new(dof as f64)
-                .map(|d| statrs::distribution::ContinuousCDF::sf(&d, chi2))
-                .unwrap_or(f64::NAN);
-            out.push(RouteComparison {
-                series: name.to_string(),
-                routes,
-                differences,
-                combined_theta_k: combined,
-                combined_se_k: w_sum.sqrt().recip(),
-                chi2,
-                p_value,
-                disagree: p_value < 0.01,
-            });
-        }
-        self.routes = out;
-    }
-}
-
-/// Any report as pretty-printed JSON with a trailing newline.
-pub fn to_json<T: Serialize>(report: &T) -> Vec<u8> {
-    let mut bytes = serde_json::to_vec_pretty(report).expect("the report holds only serialisable values");
-    bytes.push(b'\n');
-    bytes
-}
-
-/// Above this many series a run is a campaign: the report is written compact (one line; a
-/// pretty campaign report is mostly indentation), at [`Detail::Fits`] unless asked otherwise,
-/// and the terminal shows a digest instead of every series.
-pub const CAMPAIGN_SERIES: usize = 200;
-
-/// A campaign's report written one series at a time, compact, with the same bytes as
-/// [`report_json`] of the whole report: the header fields, each series as it is ready, then
-/// the route comparisons. The writer is passed to each call, so that the caller may move the
-/// bytes on (to a file, chunk by chunk) in between.
-#[derive(Debug, Default)]
-pub struct ReportStream {
-    written: usize,
-}
-
-impl ReportStream {
-    /// Writes everything before the first series.
-    pub fn begin(
-        out: &mut dyn std::io::Write,
-        inputs: &[InputFile],
-        settings: &ReportSettings,
-        warnings: &[String],
-    ) -> std::io::Result<Self> {
-        // Keys in the order of the fields of [`Report`].
-        write!(out, "{{\"schema_version\":{SCHEMA_VERSION},\"tool_version\":")?;
-        serde_json::to_writer(&mut *out, env!("CARGO_PKG_VERSION"))?;
-        out.write_all(b",\"inputs\":")?;
-        serde_json::to_writer(&mut *out, inputs)?;
-        out.write_all(b",\"settings\":")?;
-        serde_json::to_writer(&mut *out, settings)?;
-        out.write_all(b",\"warnings\":")?;
-        serde_json::to_writer(&mut *out, warnings)?;
-        out.write_all(b",\"series\":[")?;
-        Ok(ReportStream { written: 0 })
-    }
-
-    /// Appends one series already serialised by [`series_json`].
-    pub fn push(&mut self, out: &mut dyn std::io::Write, series_json: &[u8]) -> std::io::Result<()> {
-        if self.written > 0 {
-            out.write_all(b",")?;
-        }
-        self.written += 1;
-        out.write_all(series_json)
-    }
-
-    /// Writes the route comparisons and closes the report.
-    pub fn finish(self, out: &mut dyn std::io::Write, routes: &[RouteComparison]) -> std::io::Result<()> {
-        out.write_all(b"],\"routes\":")?;
-        serde_json::to_writer(&mut *out, routes)?;
-        out.write_all(b"}\n")
-    }
-}
-
-/// One series as compact JSON, for [`ReportStream::push`].
-pub fn series_json(series: &SeriesReport) -> Vec<u8> {
-    // A campaign's series take about 6 kB: one allocation instead of a doubling from 128 bytes.
-    let mut bytes = Vec::with_capacity(8 << 10);
-    serde_json::to_writer(&mut bytes, series).expect("a series report holds only serialisable values");
-    bytes
-}
-
-/// The analysis report as JSON: pretty for a few series, compact for a campaign.
-pub fn report_json(report: &Report) -> Vec<u8> {
-    let mut bytes = Vec::new();
-    write_report_json(report, &mut bytes).expect("writing to memory cannot fail");
-    bytes
-}
-
-/// [`report_json`] written straight into `out`, so that a campaign's report is never held
-/// whole in memory.
-pub fn write_report_json(report: &Report, mut out: &mut dyn std::io::Write) -> std::io::Result<()> {
-    if report.series.len() <= CAMPAIGN_SERIES {
-        serde_json::to_writer_pretty(&mut out, report)?;
-    } else {
-        serde_json::to_writer(&mut out, report)?;
-    }
-    out.write_all(b"\n")
 }

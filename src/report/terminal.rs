@@ -57,15 +57,26 @@ pub fn theta_line(t: &super::ThetaReport) -> String {
 /// Series listed by name in a campaign's digest.
 const DIGEST_SERIES: usize = 20;
 
-/// Renders the report as text for a terminal: every series of a small run, a digest of a
-/// campaign (more than [`super::CAMPAIGN_SERIES`] series), whose full listing would run to
-/// megabytes.
+/// Renders the report as text for a terminal, by the report's detail: at
+/// [`super::Detail::Full`] every series, the route comparisons, the run's warnings and the
+/// summary; at [`super::Detail::Fits`] a digest (the series that need a look, one line each).
 pub fn render_terminal(report: &Report) -> String {
-    if report.series.len() > super::CAMPAIGN_SERIES {
+    if report.settings.report_detail == super::Detail::Fits {
         return render_digest(report);
     }
     let mut out = String::new();
     for s in &report.series {
+        out.push_str(&render_series(s));
+    }
+    out.push_str(&render_ending(&report.routes, &report.warnings));
+    out.push_str(&render_summary(report));
+    out
+}
+
+/// One series' block of the full listing: the per-temperature table, its warnings and θ.
+pub fn render_series(s: &super::SeriesReport) -> String {
+    let mut out = String::new();
+    {
         let _ = writeln!(out, "series {}  [{}]", s.name, s.status.name());
         if let Some(reason) = &s.reason {
             let _ = writeln!(out, "  {reason}");
@@ -146,7 +157,14 @@ pub fn render_terminal(report: &Report) -> String {
         }
         out.push('\n');
     }
-    for r in &report.routes {
+    out
+}
+
+/// The end of the full listing before the summary: the route comparisons and the run's
+/// warnings.
+pub fn render_ending(routes: &[super::RouteComparison], warnings: &[String]) -> String {
+    let mut out = String::new();
+    for r in routes {
         let _ = writeln!(out, "routes for {}:", r.series);
         let _ = writeln!(out, "  {:<24} {:>10} {:>8}  interval (K)", "route", "θ (K)", "SE (K)");
         for t in &r.routes {
@@ -170,10 +188,9 @@ pub fn render_terminal(report: &Report) -> String {
         );
         out.push('\n');
     }
-    for w in &report.warnings {
+    for w in warnings {
         let _ = writeln!(out, "! {w}");
     }
-    out.push_str(&render_summary(report));
     out
 }
 

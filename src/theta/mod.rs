@@ -9,11 +9,13 @@ mod critical;
 mod curved;
 mod joint;
 mod line;
+mod routes;
 
 pub use critical::{critical_route, CriticalRoute};
 pub use curved::CurvedFit;
 pub use joint::{joint_fit, JointFit};
 pub use line::{scatter_p_value, FittedLine, InverseTemperatureLine, LineVariance, SeBasis, ThetaSet, LACK_OF_FIT_P};
+pub use routes::{compare_routes, RouteComparison, RouteDifference, RouteTheta, DISAGREE_P};
 
 use crate::dataset::{Quantity, Series, TemperaturePoint, TemperatureSet, Volumes};
 use crate::uncertainty::{percentile, replicate_rng, resample_indices};
