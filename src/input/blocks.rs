@@ -65,9 +65,6 @@ pub struct BlockReader<'a> {
     header_bytes: Vec<u8>,
     cells: Vec<super::HeaderCell>,
     roles: HashMap<Role, usize>,
-    /// Which columns polars parses as numbers (the readings' own: temperature, concentration,
-    /// pressure or head and density, pressure SD).
-    numbers: Vec<bool>,
     line: usize,
     merged: Merged,
     any_row: bool,
@@ -127,15 +124,6 @@ impl<'a> BlockReader<'a> {
         let roles = locate_roles(name, header.line, &cells)?;
         let header_bytes = buffer[..header.data_start].to_vec();
         buffer.drain(..header.data_start);
-        let numeric = [
-            Role::Temperature,
-            Role::Concentration,
-            Role::Pressure,
-            Role::PressureSd,
-            Role::Head,
-            Role::SolventDensity,
-        ];
-        let numbers = (0..cells.len()).map(|i| numeric.iter().any(|r| roles.get(r) == Some(&i))).collect();
         Ok(Opened::Blocks(Box::new(BlockReader {
             name,
             file_index,
@@ -149,7 +137,6 @@ impl<'a> BlockReader<'a> {
             header_bytes,
             cells,
             roles,
-            numbers,
             line: header.data_line,
             merged: Merged::default(),
             any_row: false,
@@ -175,23 +162,10 @@ impl<'a> BlockReader<'a> {
             let layout = Layout { header_line: self.header_line, header: self.fields.clone(), records: block.records };
             check_structure(name, &layout)?;
             let bytes = [&self.header_bytes[..], text].concat();
-            // The fast way first: polars parses the numeric columns itself. Anything it refuses,
-            // or any refusal of ours, reads the block again as text, whose refusal quotes the
-            // value; the results are the same either way (the odd-numbers test below, and the
-            // block-size property in tests/properties.rs).
-            let frame = match parse_with_polars(name, &bytes, Some(1), Some(&self.numbers)) {
-                Ok(frame) => frame,
-                Err(_) => parse_with_polars(name, &bytes, Some(1), None)?,
-            };
+            let frame = parse_with_polars(name, &bytes, Some(1))?;
             let mut table =
                 Table::from_frame(name, self.file_index, self.cells.clone(), layout, self.roles.clone(), frame, true)?;
-            let columns = match self.read_table(&mut table) {
-                Err(_) if table.numbers => {
-                    table.read_as_text(parse_with_polars(name, &bytes, Some(1), None)?)?;
-                    self.read_table(&mut table)?
-                }
-                read => read?,
-            };
+            let columns = self.read_table(&mut table)?;
             drop(table);
             columns.group_into(&mut self.readings);
         }
@@ -411,9 +385,8 @@ mod tests {
         }
     }
 
-    /// A block is read the fast way (polars parsing the numbers) and again as text on any
-    /// refusal: every odd pressure a block can hold gives what a whole read gives, a refusal
-    /// quoting the value or the same readings.
+    /// Every odd pressure a block can hold gives what a whole read gives, a refusal quoting the
+    /// value or the same readings.
     #[test]
     fn odd_numbers_in_a_later_block_read_as_a_whole_read_reads_them() {
         let good = file(|t| 20.0 + 5.0 * t as f64, "mirane");

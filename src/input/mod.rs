@@ -499,24 +499,16 @@ fn check_structure(name: &str, layout: &Layout) -> Result<(), InputError> {
     Ok(())
 }
 
-/// Parses CSV text with polars, every column as text, or as numbers where `numbers` is given
-/// (one flag per column); `threads` limits polars' own threads (a block of a large file is
-/// parsed on one, while the series before it are analysed).
-fn parse_with_polars(
-    name: &str,
-    bytes: &[u8],
-    threads: Option<usize>,
-    numbers: Option<&[bool]>,
-) -> Result<DataFrame, InputError> {
-    let dtypes = numbers
-        .map(|n| Arc::new(n.iter().map(|&number| if number { DataType::Float64 } else { DataType::String }).collect()));
+/// Parses CSV text with polars, every column as text (one reading mode: our own parse of each
+/// value then quotes it in any refusal); `threads` limits polars' own threads (a block of a
+/// large file is parsed on one, while the series before it are analysed).
+fn parse_with_polars(name: &str, bytes: &[u8], threads: Option<usize>) -> Result<DataFrame, InputError> {
     // A `#` line is a comment whatever it holds (polars would open a quoted field at a quote in it).
     let bytes = scan::comment_quotes_neutralised(bytes);
     CsvReadOptions::default()
         .with_n_threads(threads)
         .with_has_header(true)
         .with_infer_schema_length(Some(0))
-        .with_dtype_overwrite(dtypes)
         .with_parse_options(CsvParseOptions::default().with_comment_prefix(Some("#")))
         .into_reader_with_file_handle(Cursor::new(bytes.as_ref()))
         .finish()
@@ -592,26 +584,12 @@ fn locate_roles(file: &str, header_line: usize, cells: &[HeaderCell]) -> Result<
     Ok(found)
 }
 
-/// One column as polars read it.
-enum Cells {
-    Text(StringChunked),
-    /// A numeric column of a block read the fast way ([`Table::numbers`]): polars parsed the
-    /// values, and there is no text to quote in a refusal.
-    Numbers(Float64Chunked),
-}
-
-/// The columns of a frame polars read: text, or numbers where it was asked to parse them.
-fn cells_of(name: &str, frame: &DataFrame) -> Result<Vec<Cells>, InputError> {
+/// The text columns of a frame polars read.
+fn cells_of(name: &str, frame: &DataFrame) -> Result<Vec<StringChunked>, InputError> {
     frame
         .columns()
         .iter()
-        .map(|c| {
-            let series = c.as_materialized_series();
-            match series.dtype() {
-                DataType::Float64 => series.f64().cloned().map(Cells::Numbers),
-                _ => series.str().cloned().map(Cells::Text),
-            }
-        })
+        .map(|c| c.as_materialized_series().str().cloned())
         .collect::<Result<Vec<_>, _>>()
         .map_err(|e| InputError::file(name, format!("a column could not be read as text: {e}")))
 }
@@ -628,21 +606,13 @@ fn mantissa_is_nonzero(text: &str) -> bool {
     text.split(['e', 'E']).next().is_some_and(|m| m.bytes().any(|b| (b'1'..=b'9').contains(&b)))
 }
 
-/// The stand-in refusal of a table read the fast way: it is never shown, since the block is
-/// then read again as text, whose refusal is.
-fn read_again() -> InputError {
-    InputError::file("", "read this block again as text")
-}
-
 /// One parsed file: its header cells, record lines and columns.
 struct Table<'a> {
     name: &'a str,
     file_index: usize,
     cells: Vec<HeaderCell>,
     layout: Layout,
-    columns: Vec<Cells>,
-    /// Numeric columns parsed by polars: any refusal means "read the block again as text".
-    numbers: bool,
+    columns: Vec<StringChunked>,
     roles: HashMap<Role, usize>,
     /// For one block of a file read in blocks: the column-wide checks are recorded here (does
     /// every value of this block exceed the limit, and the refusal at its first row) and
@@ -675,7 +645,7 @@ impl<'a> Table<'a> {
         if layout.records.iter().all(|r| r.blank) {
             return Err(InputError::at(name, layout.header_line, None, None, "the header has no data rows under it"));
         }
-        let frame = parse_with_polars(name, bytes, None, None)?;
+        let frame = parse_with_polars(name, bytes, None)?;
         Table::from_frame(name, file_index, cells, layout, roles, frame, false)
     }
 
@@ -701,8 +671,7 @@ impl<'a> Table<'a> {
             ));
         }
         let columns = cells_of(name, &frame)?;
-        for (i, column) in columns.iter().enumerate().skip(unnamed_from(&cells)) {
-            let Cells::Text(text) = column else { continue };
+        for (i, text) in columns.iter().enumerate().skip(unnamed_from(&cells)) {
             let held =
                 text.iter().zip(&layout.records).position(|(t, r)| !r.blank && t.is_some_and(|t| !t.trim().is_empty()));
             if let Some(row) = held {
@@ -715,7 +684,6 @@ impl<'a> Table<'a> {
                 ));
             }
         }
-        let numbers = columns.iter().any(|c| matches!(c, Cells::Numbers(_)));
         let deferred = deferred.then(|| std::sync::Mutex::new(Vec::new()));
         Ok(Table {
             name,
@@ -723,24 +691,11 @@ impl<'a> Table<'a> {
             cells,
             layout,
             columns,
-            numbers,
             roles,
             deferred,
             excluded: Vec::new(),
             bad_rows: std::sync::Mutex::new(Vec::new()),
         })
-    }
-
-    /// Takes the text of `frame` (the same records read with every column as text) in place of
-    /// the numbers, forgetting what was recorded from them.
-    fn read_as_text(&mut self, frame: DataFrame) -> Result<(), InputError> {
-        if frame.height() != self.layout.records.len() || frame.width() != self.columns.len() {
-            return Err(InputError::file(self.name, "the CSV reader read this block differently as text"));
-        }
-        self.columns = cells_of(self.name, &frame)?;
-        self.numbers = false;
-        self.take_deferred();
-        Ok(())
     }
 
     /// The column-wide checks recorded for a block (see [`Table::deferred`]).
@@ -788,10 +743,7 @@ impl<'a> Table<'a> {
     }
 
     fn text(&self, col: usize, row: usize) -> &str {
-        match &self.columns[col] {
-            Cells::Text(text) => text.get(row).map(str::trim).unwrap_or(""),
-            Cells::Numbers(_) => "",
-        }
+        self.columns[col].get(row).map(str::trim).unwrap_or("")
     }
 
     fn line(&self, row: usize) -> usize {
@@ -813,9 +765,6 @@ impl<'a> Table<'a> {
     }
 
     fn refuse(&self, col: usize, row: usize, message: &str) -> InputError {
-        if self.numbers {
-            return read_again();
-        }
         let value = self.text(col, row);
         InputError {
             of_reading: true,
@@ -831,10 +780,6 @@ impl<'a> Table<'a> {
 
     /// A finite number, or a message that says what is wrong with the value.
     fn number(&self, col: usize, row: usize) -> Result<f64, InputError> {
-        if let Cells::Numbers(values) = &self.columns[col] {
-            // A zero may be a literal that underflowed (1e-5000): the text tells.
-            return values.get(row).filter(|v| usable(*v) && *v != 0.0).ok_or_else(read_again);
-        }
         let text = self.text(col, row);
         if text.is_empty() {
             return Err(self.refuse(col, row, "the value is missing: expected a number"));
@@ -867,14 +812,8 @@ impl<'a> Table<'a> {
     fn refuse_if_all_exceed(&self, col: usize, raw: &[f64], limit: f64, message: &str) -> Result<(), InputError> {
         let rows: Vec<usize> = self.rows().collect();
         let all_exceed = rows.iter().all(|&r| raw[r] > limit);
-        if self.numbers && all_exceed {
-            // The refusal would quote the first value: only the text has it.
-            return Err(read_again());
-        }
         if let Some(deferred) = &self.deferred {
-            // Read the fast way, this block does not exceed (else it was read again above):
-            // the column cannot be refused, and there is no text to word a refusal with.
-            let refusal = if self.numbers { None } else { rows.first().map(|&r| self.refuse_column(col, r, message)) };
+            let refusal = rows.first().map(|&r| self.refuse_column(col, r, message));
             deferred.lock().unwrap_or_else(|p| p.into_inner()).push(DeferredCheck { column: col, all_exceed, refusal });
             return Ok(());
         }
@@ -917,21 +856,7 @@ impl<'a> Table<'a> {
         convert: impl Fn(usize, f64) -> Result<f64, InputError>,
     ) -> Result<Vec<f64>, (usize, InputError)> {
         let mut out = Vec::with_capacity(self.layout.records.len());
-        let text = match &self.columns[col] {
-            Cells::Text(text) => text,
-            Cells::Numbers(values) => {
-                for (row, (value, record)) in values.iter().zip(&self.layout.records).enumerate() {
-                    match value {
-                        _ if record.blank => out.push(f64::NAN),
-                        None if allow_empty => out.push(f64::NAN),
-                        // A zero may be a literal that underflowed (1e-5000): the text tells.
-                        Some(v) if usable(v) && v != 0.0 => out.push(convert(row, v).map_err(|e| (row, e))?),
-                        _ => return Err((row, read_again())),
-                    }
-                }
-                return Ok(out);
-            }
-        };
+        let text = &self.columns[col];
         // Every bad row is noted (for `read_osmometry_sparing`, which then sets all their series
         // aside in one pass); the first is returned.
         let mut first: Option<(usize, InputError)> = None;
@@ -1106,7 +1031,7 @@ impl<'a> Table<'a> {
             }
             return Ok(out);
         };
-        let Cells::Text(names) = &self.columns[col] else { return Err((0, read_again())) };
+        let names = &self.columns[col];
         for (row, (text, record)) in names.iter().zip(&self.layout.records).enumerate() {
             let name = text.map_or("", str::trim);
             if !record.blank {
@@ -1430,7 +1355,7 @@ fn read_osmometry_sparing(
                 columns.excluded = excluded;
                 return Ok(columns);
             }
-            Err(error) if error.of_reading && !options.strict && !table.numbers => {
+            Err(error) if error.of_reading && !options.strict => {
                 let row = error.line.and_then(|line| table.layout.records.iter().position(|r| r.line == line));
                 let Some(row) = row.filter(|r| !table.layout.records[*r].blank) else { return Err(error) };
                 // Every bad row the pass noted, first by row then by column, and the one returned:
