@@ -49,7 +49,7 @@ impl Default for Settings {
 }
 
 /// Outcome of one series.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, serde::Deserialize)]
 #[serde(rename_all = "snake_case")]
 pub enum Status {
     /// Every temperature was fitted.

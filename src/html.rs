@@ -285,7 +285,7 @@ pub fn analyze_html(report: &Report, figures: &[Figure], date: &str) -> String {
         }
         let _ = writeln!(b, "</table></div>");
         if let Some((_, c)) = critical.first() {
-            let _ = writeln!(b, "<p>{}</p>", escape(c.note));
+            let _ = writeln!(b, "<p>{}</p>", escape(&c.note));
         }
         let _ = writeln!(b, "</section>");
     }

@@ -18,6 +18,7 @@ pub mod design;
 pub mod error;
 pub mod html;
 pub mod input;
+pub mod json_numbers;
 pub mod numerics;
 pub mod output;
 pub mod plan;

@@ -11,19 +11,24 @@ use crate::numerics::linear::{self, Weights};
 use serde::Serialize;
 
 /// One temperature's light-scattering result.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
 pub struct ScatteringFit {
     /// T, K.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub temperature_k: f64,
     /// Readings.
     pub n_points: usize,
     /// Weight-average molar mass Mw, g/mol.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub mw_g_per_mol: f64,
     /// SE of Mw, g/mol.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub mw_se_g_per_mol: f64,
     /// A2 (light-scattering average), mol mL/g².
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub a2_mol_ml_per_g2: f64,
     /// SE of A2.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub a2_se_mol_ml_per_g2: f64,
     /// A3 (light-scattering average), mol mL²/g³, when the zero-angle fit was quadratic in c.
     pub a3_mol_ml2_per_g3: Option<f64>,
@@ -42,7 +47,7 @@ pub struct ScatteringFit {
 /// What a Zimm plot of one temperature draws: every reading, the zero-angle values per
 /// concentration and, with angles, the zero-concentration values per angle with their line
 /// 1/Mw (1 + q² Rg²/3). Report units: c in g/mL, q² in 1/µm², K c/R in mol/g.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
 pub struct ZimmGrid {
     /// Every reading.
     pub readings: Vec<ZimmReading>,
@@ -57,13 +62,16 @@ pub struct ZimmGrid {
 }
 
 /// One point of a Zimm plot.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, serde::Deserialize)]
 pub struct ZimmReading {
     /// c, g/mL.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub concentration_g_per_ml: f64,
     /// q², 1/µm².
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub q2_per_um2: f64,
     /// K c/R, mol/g.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub kc_over_r_mol_per_g: f64,
 }
 

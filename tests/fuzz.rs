@@ -48,7 +48,15 @@ fn pipeline(bytes: &[u8]) {
     );
     // Every output, as the command writes them: no NaN or infinity in the JSON, nothing in
     // the terminal text that acts instead of being shown, every SVG and the HTML well-formed.
-    let mut json = String::from_utf8(to_json(&report)).unwrap();
+    let bytes = to_json(&report);
+    // The report reads back through its own types, to the same bytes (what `plan` and `next` do).
+    let again: Report = serde_json::from_slice(&bytes).unwrap_or_else(|e| {
+        let text = String::from_utf8_lossy(&bytes);
+        let lines: Vec<&str> = text.lines().collect();
+        panic!("{e}: {}", lines[e.line().saturating_sub(4)..e.line().min(lines.len())].join("\n"))
+    });
+    assert!(to_json(&again) == bytes, "the report read back is written differently");
+    let mut json = String::from_utf8(bytes).unwrap();
     for s in &report.series {
         json = json.replace(&s.name, "(name)"); // a series may be called "NaN"
     }

@@ -102,3 +102,33 @@ fn published_critical_temperatures_of_fractions_give_the_published_theta_and_psi
     assert!((route.psi1 - 0.49).abs() < 0.06, "ψ1 = {} against the published 0.49 ± 0.06", route.psi1);
     assert_eq!((route.fractions, route.dof), (3, 1));
 }
+
+/// The report is typed both ways: a report read back through its structs and written again
+/// gives the same bytes, at both detail levels, with every route in it (osmometry with the
+/// bootstrap and the joint fit, critical temperatures, the routes' comparison).
+#[test]
+fn a_report_read_back_through_its_types_is_written_again_byte_for_byte() {
+    let dir = tempfile::tempdir().unwrap();
+    let tc = dir.path().join("tc.csv");
+    std::fs::write(&tc, fractions(0.0)).unwrap();
+    let demo = Path::new(env!("CARGO_MANIFEST_DIR")).join("data/px40-osmometry.csv");
+    for detail in ["full", "fits"] {
+        let out = thetaseek()
+            .arg("analyze")
+            .arg(&demo)
+            .arg(&tc)
+            .args(["--bootstrap", "20", "--report", "-", "-q", "--report-detail", detail])
+            .args(["--polymer-specific-volume", "0.92", "--solvent-molar-volume", "105"])
+            .assert()
+            .success()
+            .get_output()
+            .stdout
+            .clone();
+        let report: thetaseek::report::Report = serde_json::from_slice(&out).unwrap();
+        assert!(report.series.len() >= 3 && !report.routes.is_empty());
+        let again = thetaseek::report::report_json(&report);
+        let at = again.iter().zip(&out).position(|(a, b)| a != b).unwrap_or(again.len().min(out.len()));
+        let around = |b: &[u8]| String::from_utf8_lossy(&b[at.saturating_sub(80)..(at + 80).min(b.len())]).to_string();
+        assert!(again == out, "{detail}: differs at byte {at}:\n{}\n---\n{}", around(&out), around(&again));
+    }
+}

@@ -102,14 +102,16 @@ pub fn read_input(path: &Path, max_mb: u64) -> Result<Vec<u8>, Error> {
     Ok(bytes)
 }
 
-/// Reads an earlier JSON report for `plan` or `next`: parsed, with no string holding a
-/// character that would act on the terminal or a figure (a hand-edited `\u001b`).
-pub fn read_report_json(path: &Path, max_mb: u64) -> Result<(serde_json::Value, InputFile), Error> {
+/// Reads an earlier report of `analyze` for `plan` or `next` through the report's own types,
+/// refusing a string that holds a character that would act on the terminal or a figure (a
+/// hand-edited `\u001b`).
+pub fn read_report(path: &Path, max_mb: u64) -> Result<(thetaseek::report::Report, InputFile), Error> {
     let bytes = read_input(path, max_mb)?;
     let name = path.display().to_string();
-    let value: serde_json::Value = serde_json::from_slice(&bytes).map_err(|e| {
-        thetaseek::error::InputError::at(&name, e.line(), None, None, format!("not a JSON report: {e}"))
-    })?;
+    let refuse =
+        |line: usize, what: String| Error::Input(thetaseek::error::InputError::at(&name, line, None, None, what));
+    let value: serde_json::Value =
+        serde_json::from_slice(&bytes).map_err(|e| refuse(e.line(), format!("not a JSON report: {e}")))?;
     fn hidden(v: &serde_json::Value) -> Option<char> {
         match v {
             serde_json::Value::String(s) => input::first_hidden_character(s).map(|(_, c)| c),
@@ -126,7 +128,19 @@ pub fn read_report_json(path: &Path, max_mb: u64) -> Result<(serde_json::Value, 
             format!("a text holds an invisible control character (U+{:04X}); remove it", c as u32),
         )));
     }
-    Ok((value, InputFile::new(&name, &bytes)))
+    let report: thetaseek::report::Report = serde_json::from_slice(&bytes).map_err(|e| {
+        let version = value.get("schema_version").and_then(|v| v.as_u64());
+        let written = match version {
+            Some(v) if v != u64::from(thetaseek::report::SCHEMA_VERSION) => format!(
+                " (written with schema_version {v}; this version reads {}: run analyze again)",
+                thetaseek::report::SCHEMA_VERSION
+            ),
+            Some(_) => String::new(),
+            None => " (is this a report written by thetaseek analyze?)".into(),
+        };
+        refuse(e.line(), format!("not a report of analyze: {e}{written}"))
+    })?;
+    Ok((report, InputFile::new(&name, &bytes)))
 }
 
 /// A reader that hashes every byte it passes on, so that a file read a block at a time is

@@ -54,9 +54,9 @@ pub fn run(args: &NextArgs) -> Result<(), Error> {
     let mut inputs = Vec::new();
     let mut planned: Vec<Planned> = Vec::new();
     for path in &reports {
-        let (value, input) = super::read_report_json(path, args.read.max_input_mb)?;
+        let (report, input) = super::read_report(path, args.read.max_input_mb)?;
         let name = input.path.clone();
-        planned.extend(from_report_json(&value).map_err(|e| InputError::file(&name, e))?);
+        planned.extend(from_report(&report).map_err(|e| InputError::file(&name, e))?);
         inputs.push(input);
     }
     if !data.is_empty() {
@@ -202,52 +202,42 @@ fn safe_window(p: &Planned, args: &NextArgs, solvents: Option<&[input::SolventPr
 }
 
 /// The measured temperatures of every series in a report that analyze wrote: the A2 values and
-/// SEs the θ fit used (`theta.points`) with the concentrations of each fit.
-fn from_report_json(report: &serde_json::Value) -> Result<Vec<Planned>, String> {
-    let series = report
-        .get("series")
-        .and_then(|s| s.as_array())
-        .ok_or("no 'series' list: is this a report written by thetaseek analyze?")?;
-    let num = |v: &serde_json::Value, k: &str| v.get(k).and_then(|x| x.as_f64());
+/// SEs the θ fit used (`theta.points`, one per fit and in the same order) with the
+/// concentrations of each fit.
+fn from_report(report: &thetaseek::report::Report) -> Result<Vec<Planned>, String> {
     let mut out = Vec::new();
-    for s in series {
-        let name = s.get("name").and_then(|n| n.as_str()).ok_or("a series has no 'name'")?.to_string();
-        let fits = s.get("fits").and_then(|f| f.as_array()).cloned().unwrap_or_default();
-        let points = s.pointer("/theta/points").and_then(|p| p.as_array()).cloned().unwrap_or_default();
+    for s in &report.series {
+        let theta = s.theta.as_ref();
+        let points = theta.map_or(&[][..], |t| &t.points[..]);
         let mut measured = Vec::new();
-        for p in &points {
-            let (Some(t), Some(value)) = (num(p, "temperature_k"), num(p, "value")) else { continue };
-            let Some(fit) = fits.iter().find(|f| num(f, "temperature_k") == Some(t)) else { continue };
-            // g/mL → kg/m³.
-            let concentrations: Vec<f64> = fit
-                .get("points")
-                .and_then(|r| r.as_array())
-                .ok_or_else(|| {
+        // Osmometry: one point per fit. Other routes have points without fits: nothing to design from.
+        if points.len() == s.fits.len() {
+            for (p, fit) in points.iter().zip(&s.fits) {
+                let readings = fit.points.as_ref().ok_or_else(|| {
                     format!(
-                        "series '{name}': the report holds no readings (written with --report-detail fits); \
-                         rerun analyze with --report-detail full, or give the data file"
+                        "series '{}': the report holds no readings (written with --report-detail fits); \
+                         rerun analyze with --report-detail full, or give the data file",
+                        s.name
                     )
-                })?
-                .iter()
-                .filter_map(|r| num(r, "concentration_g_per_ml"))
-                .map(|c| c * 1e3)
-                .collect();
-            measured.push(MeasuredTemperature {
-                point: TemperaturePoint { temperature_k: t, value, se: num(p, "se") },
-                concentrations,
-            });
+                })?;
+                measured.push(MeasuredTemperature {
+                    point: TemperaturePoint { temperature_k: p.temperature_k, value: p.value, se: p.se },
+                    // g/mL → kg/m³.
+                    concentrations: readings.iter().map(|r| r.concentration_g_per_ml * 1e3).collect(),
+                });
+            }
         }
         // A2 in mol mL/g² is numerically SI (mol m³/kg²); Mn g/mol → kg/mol.
-        let line = match (s.pointer("/theta/line/a"), s.pointer("/theta/line/b_k"), s.pointer("/theta/line/quantity")) {
-            (Some(a), Some(b), Some(q)) if q == "second_virial" => a.as_f64().zip(b.as_f64()),
-            _ => None,
-        };
+        let line = theta
+            .and_then(|t| t.line.as_ref())
+            .filter(|l| l.quantity == thetaseek::dataset::Quantity::SecondVirial)
+            .map(|l| (l.a, l.b_k));
         out.push(Planned {
-            solvent: s.get("solvent").and_then(|v| v.as_str()).map_or_else(|| name.clone(), str::to_string),
-            name,
+            solvent: s.solvent.clone().unwrap_or_else(|| s.name.clone()),
+            name: s.name.clone(),
             measured,
             line,
-            mn: s.pointer("/theta/mn_consistency/mean_mn_g_per_mol").and_then(|v| v.as_f64()).map(|m| m * 1e-3),
+            mn: theta.and_then(|t| t.mn_consistency.as_ref()).map(|m| m.mean_mn_g_per_mol * 1e-3),
             specific_volume: None,
         });
     }

@@ -26,9 +26,8 @@ pub fn run(args: &PlanArgs) -> Result<(), Error> {
     let mut inputs: Vec<InputFile> = Vec::new();
     let mut series: Vec<PlanSeries> = Vec::new();
     for path in &reports {
-        let (value, input) = super::read_report_json(path, args.read.max_input_mb)?;
-        let name = input.path.clone();
-        series.extend(thetaseek::report::plan::plan_series_from_json(&value).map_err(|e| InputError::file(&name, e))?);
+        let (report, input) = super::read_report(path, args.read.max_input_mb)?;
+        series.extend(report.series.iter().map(thetaseek::report::plan::plan_series));
         inputs.push(input);
     }
     if !data.is_empty() {

@@ -27,7 +27,7 @@ use sha2::{Digest, Sha256};
 pub const SCHEMA_VERSION: u32 = 3;
 
 /// The whole report.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
 pub struct Report {
     /// Report layout version.
     pub schema_version: u32,
@@ -47,7 +47,7 @@ pub struct Report {
 }
 
 /// One input file.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
 pub struct InputFile {
     /// Path as given on the command line.
     pub path: String,
@@ -68,7 +68,7 @@ impl InputFile {
 }
 
 /// Settings that shaped the results.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
 pub struct ReportSettings {
     /// `auto`, `linear`, `quadratic` or `sqrt`.
     pub virial: crate::virial::FormChoice,
@@ -81,8 +81,10 @@ pub struct ReportSettings {
     /// Solvent density for head columns, g/mL.
     pub solvent_density_g_per_ml: Option<f64>,
     /// Gas constant used, J/(mol K).
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub gas_constant_j_per_mol_k: f64,
     /// Confidence level of the θ intervals.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub confidence: f64,
     /// Bootstrap replicates (0 = off).
     pub bootstrap_replicates: usize,
@@ -93,13 +95,14 @@ pub struct ReportSettings {
     /// V1 for every series without its own, mL/mol.
     pub solvent_molar_volume_ml_per_mol: Option<f64>,
     /// |A2| tolerance of the stability advice, mol mL/g².
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub a2_tolerance_mol_ml_per_g2: f64,
     /// `full` (every reading and every candidate form) or `fits` (per-temperature results only).
     pub report_detail: Detail,
 }
 
 /// How much of each fit the report holds.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, serde::Deserialize)]
 #[serde(rename_all = "snake_case")]
 pub enum Detail {
     /// Every reading with its fitted value and residual, and every candidate form; the JSON
@@ -133,7 +136,7 @@ impl ReportSettings {
 }
 
 /// One series.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
 pub struct SeriesReport {
     /// Series name.
     pub name: String,
@@ -166,12 +169,12 @@ pub struct SeriesReport {
     #[serde(skip)]
     pub fit_warnings: usize,
     /// Readings excluded in the `exclude` column, with their reasons (absent when none).
-    #[serde(skip_serializing_if = "Vec::is_empty")]
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub excluded_readings: Vec<ExcludedReport>,
 }
 
 /// A reading the scientist excluded, in report units (null where the cell held no number).
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
 pub struct ExcludedReport {
     /// Line (or sheet row) in its file.
     pub line: usize,
@@ -201,9 +204,10 @@ impl From<&crate::dataset::ExcludedReading> for ExcludedReport {
 }
 
 /// A skipped temperature.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
 pub struct SkippedReport {
     /// Temperature, K.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub temperature_k: f64,
     /// Readings at it.
     pub n_points: usize,
@@ -212,7 +216,7 @@ pub struct SkippedReport {
 }
 
 /// One warning: a stable code and a sentence for people.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
 pub struct WarningReport {
     /// Stable machine-readable code.
     pub code: String,
@@ -231,11 +235,13 @@ impl From<&FitWarning> for WarningReport {
 }
 
 /// One temperature's fit, in report units.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
 pub struct FitReport {
     /// Temperature, K.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub temperature_k: f64,
     /// Temperature, °C.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub temperature_c: f64,
     /// Readings used.
     pub n_points: usize,
@@ -244,26 +250,32 @@ pub struct FitReport {
     /// Why that form.
     pub virial_form_reason: String,
     /// Under `--virial auto`, each virial family with its AICc over all of the series' readings (absent at detail `fits`).
-    #[serde(skip_serializing_if = "Option::is_none")]
+    #[serde(default, skip_serializing_if = "Option::is_none")]
     pub virial_candidates: Option<Vec<Candidate>>,
     /// Whether per-point SDs weighted the fit.
     pub weighted: bool,
     /// Number-average molar mass Mn, g/mol.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub mn_g_per_mol: f64,
     /// SE of Mn, g/mol: on the residual variance pooled over the series' temperatures (where no
     /// SDs were given), with the share of the series' form choice.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub mn_se_g_per_mol: f64,
     /// Second virial coefficient A2, mol mL/g².
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub a2_mol_ml_per_g2: f64,
     /// SE of A2, mol mL/g².
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub a2_se_mol_ml_per_g2: f64,
     /// Third virial coefficient A3, mol mL²/g³ (null unless the quadratic form was used).
     pub a3_mol_ml2_per_g3: Option<f64>,
     /// SE of A3, mol mL²/g³.
     pub a3_se_mol_ml2_per_g3: Option<f64>,
     /// Intercept 1/Mn of the reduced pressure, mol/g.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub inverse_mn_mol_per_g: f64,
     /// Covariance of (1/Mn, A2), mol² mL/g³.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub cov_inverse_mn_a2_mol2_ml_per_g3: f64,
     /// Residual degrees of freedom of this temperature's fit.
     pub dof: usize,
@@ -275,26 +287,31 @@ pub struct FitReport {
     /// Residual SD of the unweighted reduced pressure, mol/g (null when weighted or for sqrt).
     pub residual_sd_mol_per_g: Option<f64>,
     /// Coefficient of determination on the form's own response.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub r_squared: f64,
     /// Diagnostics.
     pub warnings: Vec<WarningReport>,
     /// Every reading with its fitted value and residual (absent at detail `fits`).
-    #[serde(skip_serializing_if = "Option::is_none")]
+    #[serde(default, skip_serializing_if = "Option::is_none")]
     pub points: Option<Vec<PointReport>>,
 }
 
 /// One reading in a fit.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
 pub struct PointReport {
     /// Line in its input file.
     pub line: usize,
     /// c, g/mL.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub concentration_g_per_ml: f64,
     /// Π, Pa.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub pressure_pa: f64,
     /// Π/(cRT), mol/g.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub reduced_pressure_mol_per_g: f64,
     /// Fitted Π/(cRT), mol/g.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub fitted_mol_per_g: f64,
     /// Internally studentised residual (on the fitted form's own scale).
     pub studentized_residual: Option<f64>,

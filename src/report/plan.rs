@@ -154,38 +154,3 @@ pub fn plan_series(s: &SeriesReport) -> PlanSeries {
         line: t.and_then(|t| t.line.clone()),
     }
 }
-
-/// From the `series` of a JSON report that `thetaseek analyze` wrote.
-pub fn plan_series_from_json(report: &serde_json::Value) -> Result<Vec<PlanSeries>, String> {
-    let series = report
-        .get("series")
-        .and_then(|s| s.as_array())
-        .ok_or("no 'series' list: is this a report written by thetaseek analyze?")?;
-    series
-        .iter()
-        .map(|s| {
-            let name = s.get("name").and_then(|n| n.as_str()).ok_or("a series has no 'name'")?.to_string();
-            let theta = s.get("theta").filter(|t| !t.is_null());
-            // A missing or null key is None; a present one must have the right type.
-            let get = |key: &str| theta.and_then(|t| t.get(key)).filter(|v| !v.is_null()).cloned();
-            fn typed<T: serde::de::DeserializeOwned>(
-                v: Option<serde_json::Value>,
-                what: &str,
-            ) -> Result<Option<T>, String> {
-                v.map(|v| serde_json::from_value(v).map_err(|e| format!("{what}: {e}"))).transpose()
-            }
-            Ok(PlanSeries {
-                solvent: s.get("solvent").and_then(|v| v.as_str()).map_or_else(|| name.clone(), str::to_string),
-                theta_k: typed(get("theta_k"), "theta_k")?,
-                ci_low_k: typed(get("ci_low_k"), "ci_low_k")?,
-                ci_high_k: typed(get("ci_high_k"), "ci_high_k")?,
-                ci_kind: typed(get("ci_kind"), "ci_kind")?.unwrap_or(IntervalKind::None),
-                crossing: typed(get("crossing"), "crossing")?.unwrap_or(Crossing::None),
-                sense: typed(get("sense"), "sense")?,
-                reason: typed(get("reason"), "reason")?,
-                line: typed(get("line"), &format!("series '{name}': line"))?,
-                series: name,
-            })
-        })
-        .collect()
-}

@@ -5,7 +5,7 @@ use crate::units::{kelvin_to_celsius, G_PER_MOL_PER_KG_PER_MOL};
 use serde::Serialize;
 
 /// θ and everything around it.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
 pub struct ThetaReport {
     /// Headline θ, K (null when there is none).
     pub theta_k: Option<f64>,
@@ -24,6 +24,7 @@ pub struct ThetaReport {
     /// Why that interval is the headline.
     pub ci_reason: String,
     /// Confidence level.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub confidence: f64,
     /// `bracketed`, `extrapolated` or `none`.
     pub crossing: Crossing,
@@ -63,11 +64,13 @@ pub struct ThetaReport {
 }
 
 /// One sign change of A2 (or 1/2 − χ) between neighbouring measured temperatures.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
 pub struct SignChangeReport {
     /// θ, K: zero of the line in 1/T through the two bracketing temperatures.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub theta_k: f64,
     /// θ, °C.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub theta_c: f64,
     /// SE, K.
     pub se_k: Option<f64>,
@@ -80,18 +83,20 @@ pub struct SignChangeReport {
 }
 
 /// One temperature's value in the across-temperature fit.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
 pub struct ThetaPointReport {
     /// T, K.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub temperature_k: f64,
     /// A2 (mol mL/g²) or 1/2 − χ, as `line.quantity` says.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub value: f64,
     /// The SE that weighted it (pooled across temperatures for unweighted fits).
     pub se: Option<f64>,
 }
 
 /// Fieller's interval.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
 pub struct FiellerReport {
     /// Shape.
     pub kind: IntervalKind,
@@ -100,13 +105,14 @@ pub struct FiellerReport {
     /// K (null where unbounded).
     pub high_k: Option<f64>,
     /// Critical value used.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub critical_value: f64,
     /// Degrees of freedom of t (null: normal quantile).
     pub dof: Option<usize>,
 }
 
 /// Bootstrap percentile interval.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
 pub struct BootstrapReport {
     /// Replicates asked for.
     pub replicates: usize,
@@ -123,21 +129,26 @@ pub struct BootstrapReport {
 }
 
 /// The joint fit.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
 pub struct JointReport {
     /// θ, K.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub theta_k: f64,
     /// SE, K.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub se_k: f64,
     /// Shared Mn, g/mol.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub mn_g_per_mol: f64,
     /// SE, g/mol.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub mn_se_g_per_mol: f64,
     /// Joint θ minus two-stage θ, K.
     pub difference_from_two_stage_k: Option<f64>,
     /// Readings − parameters.
     pub dof: usize,
     /// Weighted residual SD.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub residual_sd: f64,
     /// Whether a convergence test was met.
     pub converged: bool,
@@ -146,32 +157,40 @@ pub struct JointReport {
 }
 
 /// The Mn consistency check.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
 pub struct MnConsistencyReport {
     /// Weighted mean Mn, g/mol.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub mean_mn_g_per_mol: f64,
     /// Its SE, g/mol.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub mean_mn_se_g_per_mol: f64,
     /// χ² of one common Mn.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub chi2: f64,
     /// Degrees of freedom.
     pub dof: usize,
     /// p-value.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub p_value: f64,
     /// p < 0.01.
     pub drift: bool,
 }
 
 /// How tightly the temperature must be held at θ.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
 pub struct StabilityReport {
     /// dA2/dT at θ, mol mL/(g² K).
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub da2_dt_at_theta_mol_ml_per_g2_k: f64,
     /// SE.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub da2_dt_se_mol_ml_per_g2_k: f64,
     /// The |A2| tolerance, mol mL/g².
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub a2_tolerance_mol_ml_per_g2: f64,
     /// ± K around θ that keeps |A2| under the tolerance.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub plus_minus_k: f64,
 }
 

@@ -12,26 +12,30 @@ use serde::Serialize;
 pub const MIN_FRACTIONS: usize = 3;
 
 /// The critical-temperature route's result.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
 pub struct CriticalRoute {
     /// θ, K.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub theta_k: f64,
     /// SE of θ (delta method), K.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub se_k: f64,
     /// Interval for θ from the intercept's t interval, K (null where unbounded).
     pub ci_low_k: Option<f64>,
     /// Upper end, K (null where unbounded).
     pub ci_high_k: Option<f64>,
     /// ψ1 from this route.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub psi1: f64,
     /// SE of ψ1.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub psi1_se: f64,
     /// Fractions used.
     pub fractions: usize,
     /// Residual degrees of freedom.
     pub dof: usize,
     /// What this route measures.
-    pub note: &'static str,
+    pub note: String,
 }
 
 /// Fits the Shultz–Flory line to (M kg/mol, Tc K) pairs.
@@ -68,7 +72,7 @@ pub fn critical_route(fractions: &[(f64, f64)], volumes: Volumes, confidence: f6
         psi1_se: var_psi1.max(0.0).sqrt(),
         fractions: fractions.len(),
         dof: fit.dof,
-        note: "θ here is the infinite-molar-mass limit of phase separation; ψ1 from this route often differs from the dilute-solution one",
+        note: "θ here is the infinite-molar-mass limit of phase separation; ψ1 from this route often differs from the dilute-solution one".to_string(),
     })
 }
 

@@ -251,14 +251,19 @@ pub struct FittedLine {
     /// `second_virial` (mol mL/g²) or `half_minus_chi` (dimensionless).
     pub quantity: crate::dataset::Quantity,
     /// a (value at T → ∞).
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub a: f64,
     /// b, value × K.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub b_k: f64,
     /// Var(a).
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub var_a: f64,
     /// Cov(a, b), value² K.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub cov_ab_k: f64,
     /// Var(b), value² K².
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub var_b_k2: f64,
     /// Reduced χ² of the line on the per-temperature SEs as given.
     pub reduced_chi2: Option<f64>,

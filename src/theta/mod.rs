@@ -92,7 +92,7 @@ pub enum IntervalKind {
 }
 
 /// An interval for θ, K.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, serde::Deserialize)]
 pub struct Interval {
     /// Shape.
     pub kind: IntervalKind,
@@ -177,7 +177,7 @@ impl std::fmt::Display for IntervalMethod {
 }
 
 /// θ from one model.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
 pub struct ModelTheta {
     /// The model.
     pub name: Model,
@@ -191,9 +191,10 @@ pub struct ModelTheta {
 
 /// One place where A2 (or 1/2 − χ) changes sign between measured temperatures, for series
 /// whose A2(T) is not monotonic and so has two θ.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, serde::Deserialize)]
 pub struct SignChange {
     /// θ, K: the zero of the straight line in 1/T through the two bracketing temperatures.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub theta_k: f64,
     /// Its SE by the delta method, K (null without per-temperature SEs).
     pub se_k: Option<f64>,
@@ -204,7 +205,7 @@ pub struct SignChange {
 }
 
 /// Bootstrap summary.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
 pub struct BootstrapSummary {
     /// Replicates asked for.
     pub replicates: usize,
@@ -221,17 +222,21 @@ pub struct BootstrapSummary {
 }
 
 /// Are the Mn values at different temperatures one Mn?
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
 pub struct MnConsistency {
     /// Weighted mean Mn (w = 1/SE²), kg/mol.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub mean_kg_per_mol: f64,
     /// Its SE, kg/mol.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub mean_se_kg_per_mol: f64,
     /// χ² = Σ w (Mn_i − mean)².
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub chi2: f64,
     /// n − 1.
     pub dof: usize,
     /// P(χ²_dof ≥ observed).
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub p_value: f64,
 }
 
@@ -239,47 +244,60 @@ pub struct MnConsistency {
 pub const MN_DRIFT_P: f64 = 0.01;
 
 /// The Flory–Krigbaum / Flory–Huggins parameters.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
 pub struct FloryParameters {
     /// ψ1 (entropy of dilution parameter) and its SE.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub psi1: f64,
     /// SE of ψ1.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub psi1_se: f64,
     /// κ1 at θ (= ψ1).
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub kappa1_at_theta: f64,
     /// Per measured temperature.
     pub temperatures: Vec<FloryAtTemperature>,
 }
 
 /// Flory parameters at one temperature.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
 pub struct FloryAtTemperature {
     /// T, K.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub temperature_k: f64,
     /// κ1(T) = ψ1 θ/T and its SE.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub kappa1: f64,
     /// SE.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub kappa1_se: f64,
     /// χ(T) = 1/2 − ψ1(1 − θ/T) from the model, and its SE.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub chi_model: f64,
     /// SE.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub chi_model_se: f64,
     /// χ = 1/2 − A2 V1/v̄² from this temperature's own A2 (or the χ given), and its SE.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub chi_measured: f64,
     /// SE (null when the input gave none).
     pub chi_measured_se: Option<f64>,
 }
 
 /// How A2 changes near θ.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
 pub struct Stability {
     /// dA2/dT at θ, mol m³/kg² per K.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub da2_dt_at_theta: f64,
     /// SE.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub da2_dt_se: f64,
     /// |A2| tolerance used.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub a2_tolerance: f64,
     /// ± kelvin around θ that keeps |A2| under the tolerance.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub plus_minus_k: f64,
 }
 

@@ -14,8 +14,10 @@ pub struct RouteTheta {
     /// `osmometry`, `a2_table`, `chi_table` or `critical_temperatures`.
     pub route: Route,
     /// θ, K.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub theta_k: f64,
     /// SE, K.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub se_k: f64,
     /// Interval, K.
     pub ci_low_k: Option<f64>,
@@ -31,8 +33,10 @@ pub struct RouteDifference {
     /// Second route.
     pub b: Route,
     /// θ_a − θ_b, K.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub difference_k: f64,
     /// (θ_a − θ_b)/√(SE_a² + SE_b²).
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub z: f64,
 }
 
@@ -46,12 +50,16 @@ pub struct RouteComparison {
     /// Pairwise differences.
     pub differences: Vec<RouteDifference>,
     /// Inverse-variance weighted θ, K.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub combined_theta_k: f64,
     /// Its SE, K.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub combined_se_k: f64,
     /// χ² of one common θ, on routes − 1 degrees of freedom.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub chi2: f64,
     /// Its p-value.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub p_value: f64,
     /// p < 0.01: the routes disagree; the combined value should not be used as it is.
     pub disagree: bool,

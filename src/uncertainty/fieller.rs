@@ -10,7 +10,7 @@
 use serde::Serialize;
 
 /// The shape of a Fieller set.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, serde::Deserialize)]
 #[serde(rename_all = "snake_case")]
 pub enum FiellerSet {
     /// [low, high].

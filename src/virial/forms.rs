@@ -12,7 +12,7 @@ use crate::units::GAS_CONSTANT_J_PER_MOL_K;
 use serde::Serialize;
 
 /// A per-temperature virial form.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize, PartialOrd, Ord)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize, serde::Deserialize, PartialOrd, Ord)]
 #[serde(rename_all = "snake_case")]
 pub enum VirialForm {
     /// y = 1/Mn + A2 c.

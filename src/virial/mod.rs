@@ -64,7 +64,7 @@ pub const QUADRATIC_AICC_MARGIN: f64 = 2.0;
 pub const LOW_MN_KG_PER_MOL: f64 = 20.0;
 
 /// Something worth a second look in one temperature's fit.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
 #[serde(tag = "code", rename_all = "snake_case")]
 pub enum FitWarning {
     /// Fewer than four distinct concentrations.
@@ -166,7 +166,7 @@ impl fmt::Display for FitWarning {
 }
 
 /// One form's score in the automatic choice.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
 pub struct Candidate {
     /// The form.
     pub form: VirialForm,
@@ -208,9 +208,10 @@ pub struct TemperatureFit {
 }
 
 /// Why a temperature was not fitted.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
 pub struct SkippedTemperature {
     /// Temperature, K.
+    #[serde(deserialize_with = "crate::json_numbers::nan_if_null")]
     pub temperature_k: f64,
     /// Readings at it.
     pub n_points: usize,
