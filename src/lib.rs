@@ -1,13 +1,21 @@
 //! thetaseek: polymer solution thermodynamics from dilute-solution series.
 //!
-//! The pipeline, one module per stage:
-//! [`input`] reads CSV bytes (polars) and converts every value to SI ([`units`]) →
-//! [`dataset`] groups readings into series and temperatures →
-//! [`virial`] fits Mn and A2 at each temperature ([`regression`] does the least squares) →
-//! [`analysis`] runs that for every series in parallel →
-//! [`report`] turns results into the JSON report, the CSV table and the terminal table, and
-//! [`plot`] draws the figures from the report.
-//! File I/O lives only in the binary's `commands` and in [`output`].
+//! The pipeline, one stage per module, each using only the stages above it:
+//!
+//! 1. [`input`] reads CSV files and workbooks (polars, calamine) and converts every value to SI
+//!    ([`units`]) → [`dataset::Dataset`], every series of every route.
+//! 2. [`virial`] fits Mn and A2 at each temperature, [`scattering`] the Zimm fits →
+//!    [`virial::TemperatureFit`].
+//! 3. [`theta`] fits the across-temperature models, finds θ with its interval
+//!    ([`uncertainty`]), the Flory parameters ([`thermo`]) and compares the routes;
+//!    [`analysis`] runs it all for every series in parallel → [`analysis::SeriesResult`].
+//! 4. [`plan`], [`design`] and [`safety`] advise on solvents, temperatures and next runs.
+//! 5. [`report`] turns results into report units (JSON both ways, CSV tables, terminal text) →
+//!    [`report::Report`]; [`plot`] draws figures from it and [`html`] puts both in one page.
+//!
+//! Below every stage: [`numerics`] (least squares, the root finder, AICc), [`dataset`]'s
+//! types, [`units`], [`error`], [`progress`]. File I/O lives only in the binary's `commands`
+//! and in [`output`].
 
 #![deny(clippy::float_cmp)]
 #![warn(missing_docs)]

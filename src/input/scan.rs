@@ -13,7 +13,7 @@ pub struct RecordLine {
     /// The 1-based field in which text follows a closing quote (`"4.00"x`), if any: malformed
     /// quoting, which the CSV reader would refuse with a byte offset only.
     pub stray_quote: Option<usize>,
-    /// The 1-based field at which the record passes [`MAX_RECORD_BYTES`], if it does.
+    /// The 1-based field at which the record passes `MAX_RECORD_BYTES`, if it does.
     pub too_long: Option<usize>,
     /// The 1-based field whose opening quote is never closed (the record runs to the end of
     /// the file), if any.
