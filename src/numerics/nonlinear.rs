@@ -7,8 +7,10 @@
 //! theory", in Numerical Analysis, Dundee 1977, Springer LNM 630), with D the running maximum of
 //! J's column norms and λ updated from the gain ratio (Nielsen 1999, IMM-REP-1999-05).
 //! Covariance at the optimum: s² (JᵀJ)⁻¹ = s² R⁻¹R⁻ᵀ from the QR of J, s² = S/(n − p).
-//! Householder QR on plain column-major buffers: no matrix library, a few allocations per step.
+//! The QR is the project's one ([`GivensQr`]): J's rows and then the damping rows are rotated
+//! in, so the stacked matrix is never formed.
 
+use super::GivensQr;
 use argmin::core::{
     Error as ArgminError, Executor, IterState, Jacobian, Operator, Problem, Solver, State, TerminationReason,
     TerminationStatus, KV,
@@ -61,6 +63,12 @@ pub enum NlsError {
         /// Parameters.
         parameters: usize,
     },
+    /// More parameters than [`MAX_NONLINEAR_PARAMETERS`].
+    #[error("{parameters} parameters: at most {MAX_NONLINEAR_PARAMETERS} are fitted")]
+    TooManyParameters {
+        /// Parameters.
+        parameters: usize,
+    },
     /// The Jacobian at the solution is rank deficient: parameters are not identifiable.
     #[error("the parameters are not identifiable from these data (singular Jacobian)")]
     Singular,
@@ -84,97 +92,45 @@ impl<M: LeastSquaresProblem + ?Sized> Operator for Adapter<'_, M> {
     }
 }
 
-/// The solver's Jacobian: column-major with p spare rows under the n of J, where a step puts
-/// its damping √λ D.
+/// The solver's Jacobian, column-major.
 impl<M: LeastSquaresProblem + ?Sized> Jacobian for Adapter<'_, M> {
     type Param = Vec<f64>;
     type Jacobian = Vec<f64>;
     fn jacobian(&self, beta: &Self::Param) -> Result<Self::Jacobian, ArgminError> {
-        let (p, m) = (beta.len(), self.model.residual_count() + beta.len());
-        let mut a = vec![0.0; m * p];
-        self.model.jacobian_columns(beta, &mut a, m);
+        let n = self.model.residual_count();
+        let mut a = vec![0.0; n * beta.len()];
+        self.model.jacobian_columns(beta, &mut a, n);
         Ok(a)
     }
 }
 
-/// The QR factorisation of an m×p matrix by Householder reflections, in place, column-major so
-/// that every reflection works on contiguous columns (Golub & Van Loan 2013, "Matrix
-/// Computations", §5.2.1). R is left in the upper triangle; Q is never formed.
-struct HouseholderQr {
-    m: usize,
+/// Most parameters a nonlinear fit takes (NIST's Thurber has 7; the joint θ fit 3).
+pub const MAX_NONLINEAR_PARAMETERS: usize = 8;
+
+/// The QR of `rows` rows (row `i` of a column-major n×p matrix `a`, times `scale` per column),
+/// then of the damping rows `damping[k]` e_k; `rhs` gives each row's right-hand side.
+fn factorise(
+    a: &[f64],
+    n: usize,
     p: usize,
-    a: Vec<f64>,
-}
-
-fn dot(a: &[f64], b: &[f64]) -> f64 {
-    a.iter().zip(b).map(|(x, y)| x * y).sum()
-}
-
-// Triangular solves read best with explicit indices.
-#[allow(clippy::needless_range_loop)]
-impl HouseholderQr {
-    /// Factorises `a` (m×p, column-major), applying Qᵀ to `b` (length m, or empty) as it goes.
-    fn new(mut a: Vec<f64>, m: usize, p: usize, b: &mut [f64]) -> Self {
-        for k in 0..p {
-            let (left, right) = a.split_at_mut((k + 1) * m);
-            let v = &mut left[k * m + k..];
-            let norm = dot(v, v).sqrt();
-            if norm == 0.0 {
-                continue;
-            }
-            let alpha = if v[0] > 0.0 { -norm } else { norm };
-            v[0] -= alpha;
-            let v_norm2 = dot(v, v);
-            let reflect = |x: &mut [f64]| {
-                let f = 2.0 * dot(v, x) / v_norm2;
-                x.iter_mut().zip(v.iter()).for_each(|(x, v)| *x -= f * v);
-            };
-            for column in right.chunks_exact_mut(m) {
-                reflect(&mut column[k..]);
-            }
-            if !b.is_empty() {
-                reflect(&mut b[k..]);
-            }
-            v[0] = alpha;
+    column_scale: &[f64],
+    rhs: impl Fn(usize) -> f64,
+    damping: &[f64],
+) -> GivensQr<MAX_NONLINEAR_PARAMETERS> {
+    let mut qr = GivensQr::<MAX_NONLINEAR_PARAMETERS>::new(p);
+    for i in 0..n {
+        let mut row = [0.0; MAX_NONLINEAR_PARAMETERS];
+        for (k, x) in row.iter_mut().enumerate().take(p) {
+            *x = a[k * n + i] / column_scale[k];
         }
-        HouseholderQr { m, p, a }
+        qr.add_row(row, rhs(i));
     }
-
-    fn r(&self, i: usize, j: usize) -> f64 {
-        self.a[j * self.m + i]
+    for (k, d) in damping.iter().enumerate() {
+        let mut row = [0.0; MAX_NONLINEAR_PARAMETERS];
+        row[k] = *d;
+        qr.add_row(row, 0.0);
     }
-
-    /// x = R⁻¹ (Qᵀb)[..p] (non-finite where R is singular).
-    fn solve(&self, qtb: &[f64]) -> Vec<f64> {
-        let p = self.p;
-        let mut x = vec![0.0; p];
-        for i in (0..p).rev() {
-            let tail: f64 = (i + 1..p).map(|j| self.r(i, j) * x[j]).sum();
-            x[i] = (qtb[i] - tail) / self.r(i, i);
-        }
-        x
-    }
-
-    /// (RᵀR)⁻¹ = R⁻¹R⁻ᵀ, p×p row-major.
-    fn inverse_gram(&self) -> Vec<f64> {
-        let p = self.p;
-        // R⁻¹ column by column (upper triangular), row-major.
-        let mut inv = vec![0.0; p * p];
-        for col in 0..p {
-            for i in (0..=col).rev() {
-                let unit = if i == col { 1.0 } else { 0.0 };
-                let tail: f64 = (i + 1..=col).map(|j| self.r(i, j) * inv[j * p + col]).sum();
-                inv[i * p + col] = (unit - tail) / self.r(i, i);
-            }
-        }
-        let mut out = vec![0.0; p * p];
-        for i in 0..p {
-            for j in 0..p {
-                out[i * p + j] = (i.max(j)..p).map(|k| inv[i * p + k] * inv[j * p + k]).sum();
-            }
-        }
-        out
-    }
+    qr
 }
 
 /// The damped Gauss–Newton solver (argmin [`Solver`]).
@@ -225,15 +181,14 @@ where
         let beta = state.get_param().ok_or_else(|| ArgminError::msg("no parameters"))?;
         let r = state.get_residuals().ok_or_else(|| ArgminError::msg("no residuals"))?;
         let cost = state.get_cost();
-        // J column-major, m = n + p rows: J above, zeros where the damping goes.
+        // J column-major, n rows.
         let j = problem.jacobian(beta)?;
         if !finite_all(&j) || !finite_all(r) {
             self.done = Some("non-finite residuals or Jacobian");
             return Ok((state, None));
         }
         let (p, n) = (beta.len(), r.len());
-        let m = n + p;
-        let column = |k: usize| &j[k * m..k * m + n];
+        let column = |k: usize| &j[k * n..k * n + n];
         // Column norms of J and the gradient Jᵀr.
         let norms: Vec<f64> = (0..p).map(|k| norm_squared(column(k)).sqrt()).collect();
         let gradient: Vec<f64> = (0..p).map(|k| column(k).iter().zip(r).fold(0.0, |g, (v, ri)| g + v * ri)).collect();
@@ -247,14 +202,11 @@ where
             self.done = Some("gradient vanished");
             return Ok((state, None));
         }
-        // Stacked system [J; √λ D] step = [−r; 0], solved by QR (of a copy: J is needed below).
-        let mut a = j.clone();
+        // The stacked system [J; √λ D] step = [−r; 0], rotated into R a row at a time.
         let root_lambda = self.lambda.sqrt();
-        for (k, d) in scale.iter().enumerate() {
-            a[k * m + n + k] = root_lambda * d;
-        }
-        let mut rhs: Vec<f64> = r.iter().map(|v| -v).chain(std::iter::repeat_n(0.0, p)).collect();
-        let step = HouseholderQr::new(a, m, p, &mut rhs).solve(&rhs);
+        let damping: Vec<f64> = scale.iter().map(|d| root_lambda * d).collect();
+        let ones = vec![1.0; p];
+        let step = factorise(&j, n, p, &ones, |i| -r[i], &damping).solve()[..p].to_vec();
         if !finite_all(&step) {
             self.lambda *= self.nu;
             self.nu *= 2.0;
@@ -264,7 +216,7 @@ where
         let candidate: Vec<f64> = beta.iter().zip(&step).map(|(b, s)| b + s).collect();
         let r_new = problem.apply(&candidate)?;
         let cost_new = norm_squared(&r_new);
-        let linear: f64 = (0..n).map(|i| ((0..p).map(|k| j[k * m + i] * step[k]).sum::<f64>() + r[i]).powi(2)).sum();
+        let linear: f64 = (0..n).map(|i| ((0..p).map(|k| j[k * n + i] * step[k]).sum::<f64>() + r[i]).powi(2)).sum();
         let predicted = cost - linear;
         let rho = if predicted > 0.0 { (cost - cost_new) / predicted } else { -1.0 };
         let scaled_norm = |v: &[f64]| v.iter().zip(&scale).map(|(x, d)| (x * d).powi(2)).sum::<f64>().sqrt();
@@ -318,6 +270,9 @@ pub fn fit_nonlinear_with<M: LeastSquaresProblem + ?Sized>(
     if n < p {
         return Err(NlsError::TooFewPoints { points: n, parameters: p });
     }
+    if p > MAX_NONLINEAR_PARAMETERS {
+        return Err(NlsError::TooManyParameters { parameters: p });
+    }
     let result = Executor::new(Adapter { model }, solver)
         .configure(|s| s.param(start.to_vec()).max_iters(max_iters))
         .run()
@@ -363,20 +318,18 @@ fn covariance_at<M: LeastSquaresProblem + ?Sized>(
     if scale.iter().any(|s| *s <= 0.0) {
         return Err(NlsError::Singular);
     }
-    for (column, s) in j.chunks_exact_mut(n).zip(&scale) {
-        column.iter_mut().for_each(|v| *v /= s);
-    }
-    let qr = HouseholderQr::new(j, n, p, &mut []);
-    if (0..p).any(|k| qr.r(k, k).abs() <= 1e-13 * (n as f64)) {
+    let qr = factorise(&j, n, p, &scale, |_| 0.0, &[]);
+    if (0..p).any(|k| qr.diagonal(k).abs() <= 1e-13 * (n as f64)) {
         return Err(NlsError::Singular);
     }
     let unscaled = qr.inverse_gram();
-    if !finite_all(&unscaled) {
+    if !unscaled.iter().take(p).all(|row| finite_all(&row[..p])) {
         return Err(NlsError::Singular);
     }
     let dof = n - p;
     let s2 = if dof > 0 { rss / dof as f64 } else { f64::NAN };
-    let covariance: Vec<f64> = (0..p * p).map(|k| s2 * unscaled[k] / (scale[k / p] * scale[k % p])).collect();
+    let covariance: Vec<f64> =
+        (0..p * p).map(|k| s2 * unscaled[k / p][k % p] / (scale[k / p] * scale[k % p])).collect();
     let standard_errors = (0..p).map(|k| covariance[k * p + k].sqrt()).collect();
     Ok((covariance, standard_errors, dof, s2.sqrt()))
 }
