@@ -139,13 +139,13 @@ pub fn analyze_html(report: &Report, figures: &[Figure], date: &str) -> String {
                 let interval = match (t.ci_low_k, t.ci_high_k) {
                     (Some(lo), Some(hi)) => format!("{lo:.2}–{hi:.2} K ({})", escape(t.ci_method.name())),
                     (Some(lo), None) => format!("above {lo:.2} K, no upper bound"),
-                    _ => format!("{:?}", t.ci_kind).to_lowercase(),
+                    _ => t.ci_kind.name().to_string(),
                 };
                 let _ = writeln!(
                     b,
                     "<div>± {} K · interval {interval}</div>\n<div>crossing: {}{} · model: {}</div>",
                     opt(t.se_k, 2),
-                    format!("{:?}", t.crossing).to_lowercase(),
+                    t.crossing.name(),
                     t.extrapolated_by_k.map_or(String::new(), |e| format!(" by {e:.1} K")),
                     escape(t.model.name())
                 );

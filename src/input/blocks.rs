@@ -18,8 +18,7 @@ use std::collections::HashMap;
 use std::io::Read;
 
 /// Bytes read per block of a large osmometry file: a streamed campaign holds a few blocks'
-/// readings at a time. On a 20 000-series campaign 256 kB ran as fast as 1 and 4 MB, at a
-/// 57 MB peak instead of 79 and 130.
+/// readings at a time (the size was chosen by measurement, docs/performance.md).
 pub const BLOCK_BYTES: usize = 256 << 10;
 
 /// Reads one CSV from `source`: an osmometry file larger than `block_bytes` a block at a

@@ -105,11 +105,7 @@ pub fn draw_a2_temperature(
         }
         chart
             .draw_series(std::iter::once(PathElement::new(vec![(th, y_lo), (th, y_hi)], INK.stroke_width(2))))?
-            .label(format!(
-                "θ = {th:.2} K ({:.2} °C), {}",
-                kelvin_to_celsius(th),
-                format!("{:?}", theta.crossing).to_lowercase()
-            ))
+            .label(format!("θ = {th:.2} K ({:.2} °C), {}", kelvin_to_celsius(th), theta.crossing.name()))
             .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 18, y)], INK.stroke_width(2)));
         chart.draw_series(std::iter::once(Text::new("θ", (th, y_hi - (y_hi - y_lo) * 0.02), ink_text(18))))?;
     }

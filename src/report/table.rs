@@ -1,8 +1,8 @@
 //! The results as CSV tables: one row per fitted temperature, or one row per series, the unit
 //! in every header.
 //!
-//! Written a field at a time into one buffer (a campaign writes 10⁵ rows; building a polars
-//! frame per chunk took three times as long). The text follows RFC 4180 as polars' writer
+//! Written a field at a time into one buffer (a campaign writes 10⁵ rows; see
+//! docs/performance.md for why not a polars frame). The text follows RFC 4180 as polars' writer
 //! does (a test compares the two): a field holding a comma, quote or line break is quoted with
 //! its quotes doubled, an empty text is `""`, a missing value is empty; numbers in their
 //! shortest round-trip form.
@@ -205,8 +205,8 @@ pub fn series_table_rows_csv(
         for value in values {
             line.number(theta.and_then(value));
         }
-        line.text(&theta.map_or("none".into(), |t| format!("{:?}", t.ci_kind).to_lowercase()));
-        line.text(&theta.map_or("none".into(), |t| format!("{:?}", t.crossing).to_lowercase()));
+        line.text(&theta.map_or("none".into(), |t| t.ci_kind.name().to_string()));
+        line.text(&theta.map_or("none".into(), |t| t.crossing.name().to_string()));
         line.number(theta.and_then(|t| t.mn_consistency.as_ref().map(|m| m.mean_mn_g_per_mol)));
         line.count(s.warnings.len() + s.fit_warnings);
         line.text(s.reason.as_deref().or_else(|| theta.and_then(|t| t.reason.as_deref())).unwrap_or_default());

@@ -36,13 +36,12 @@ pub fn theta_line(t: &super::ThetaReport) -> String {
                     format!("{level} CI {lo:.2}–{hi:.2} K ({})", t.ci_method)
                 }
                 (_, Some(lo), None) => format!("{level} CI above {lo:.2} K, no upper bound ({})", t.ci_method),
-                (kind, _, _) => format!("{level} CI {kind:?} ({})", t.ci_method).to_lowercase(),
+                (kind, _, _) => format!("{level} CI {} ({})", kind.name(), t.ci_method),
             };
-            let sense =
-                t.sense.map_or(String::new(), |s| format!(", {s:?}-type").to_uppercase().replace("-TYPE", "-type"));
+            let sense = t.sense.map_or(String::new(), |s| format!(", {}-type", s.label()));
             let crossing = match t.extrapolated_by_k {
                 Some(b) => format!("extrapolated {b:.1} K beyond the data"),
-                None => format!("{:?}", t.crossing).to_lowercase(),
+                None => t.crossing.name().to_string(),
             };
             format!(
                 "θ = {:.2} °C = {k:.2}{se} K, {interval}, {crossing}{sense}, model {}",

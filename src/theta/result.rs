@@ -45,6 +45,17 @@ pub enum Crossing {
     None,
 }
 
+impl Crossing {
+    /// The name reports use.
+    pub fn name(self) -> &'static str {
+        match self {
+            Crossing::Bracketed => "bracketed",
+            Crossing::Extrapolated => "extrapolated",
+            Crossing::None => "none",
+        }
+    }
+}
+
 /// Which way solvent quality runs with temperature.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, serde::Deserialize)]
 #[serde(rename_all = "snake_case")]
@@ -53,6 +64,24 @@ pub enum Sense {
     Ucst,
     /// A2 falls as T rises (ψ1 < 0): poor above θ, phase separation on heating.
     Lcst,
+}
+
+impl Sense {
+    /// The name reports use.
+    pub fn name(self) -> &'static str {
+        match self {
+            Sense::Ucst => "ucst",
+            Sense::Lcst => "lcst",
+        }
+    }
+
+    /// The usual abbreviation: UCST or LCST.
+    pub fn label(self) -> &'static str {
+        match self {
+            Sense::Ucst => "UCST",
+            Sense::Lcst => "LCST",
+        }
+    }
 }
 
 /// Shape of the headline interval.
@@ -67,6 +96,18 @@ pub enum IntervalKind {
     Exclusive,
     /// No interval (no θ).
     None,
+}
+
+impl IntervalKind {
+    /// The name reports use.
+    pub fn name(self) -> &'static str {
+        match self {
+            IntervalKind::Bounded => "bounded",
+            IntervalKind::Unbounded => "unbounded",
+            IntervalKind::Exclusive => "exclusive",
+            IntervalKind::None => "none",
+        }
+    }
 }
 
 /// An interval for θ, K.
