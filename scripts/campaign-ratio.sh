@@ -20,7 +20,7 @@ floor=$(for _ in 1 2 3 4 5; do ./target/release/examples/csv-floor "$work/campai
 run_analyze() {
   start=$(date +%s.%N)
   /usr/bin/time -f "%M" -o "$work/mem" ./target/release/thetaseek analyze "$work/campaign.csv" \
-    --bootstrap 0 --report "$work/r.json" --table "$work/t.csv" -q
+    --bootstrap 0 --report-detail fits --report "$work/r.json" --table "$work/t.csv" -q
   end=$(date +%s.%N)
   cat "$work/mem" >> "$work/mems"
   awk -v a="$start" -v b="$end" 'BEGIN { print b - a }'
