@@ -329,3 +329,49 @@ fn a_streamed_campaign_warns_when_one_molar_volume_covers_several_solvents() {
         "{warnings:?}"
     );
 }
+
+/// A series whose rows come back after the file has moved past it (here the first row of a
+/// large file moved to its end) is analysed with all its rows, from a file or from a pipe: the
+/// file is never read twice, so standard input works too (it was refused as empty before).
+#[test]
+fn a_series_that_comes_back_late_is_whole_even_through_a_pipe() {
+    let text = campaign(1200);
+    assert!(text.len() > 256 << 10, "the file must span several blocks");
+    let (header, rest) = text.split_once('\n').unwrap();
+    let (first, others) = rest.split_once('\n').unwrap();
+    let unsorted = format!("{header}\n{others}{first}\n");
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::write(dir.path().join("sorted.csv"), &text).unwrap();
+    std::fs::write(dir.path().join("unsorted.csv"), &unsorted).unwrap();
+    let run = |file: &str, stdin: Option<&str>| -> Value {
+        let mut command = thetaseek();
+        command.current_dir(dir.path()).args(["analyze", file, "--bootstrap", "0", "--report", "-", "-q"]);
+        command.args(["--report-detail", "fits"]);
+        let out = match stdin {
+            Some(bytes) => command.write_stdin(bytes.to_string()).output().unwrap(),
+            None => command.output().unwrap(),
+        };
+        assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+        serde_json::from_slice(&out.stdout).unwrap()
+    };
+    let sorted = run("sorted.csv", None);
+    let from_file = run("unsorted.csv", None);
+    let from_pipe = run("/dev/stdin", Some(&unsorted));
+    assert_eq!(from_file["series"], from_pipe["series"]);
+    assert_eq!(from_file["inputs"][0]["sha256"], from_pipe["inputs"][0]["sha256"]);
+    // The same series, every one with all its readings, as in the sorted file.
+    let by_name = |r: &Value| -> Vec<(String, usize)> {
+        let mut v: Vec<(String, usize)> = r["series"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|s| {
+                let n = s["fits"].as_array().unwrap().iter().map(|f| f["n_points"].as_u64().unwrap() as usize).sum();
+                (s["name"].as_str().unwrap().to_string(), n)
+            })
+            .collect();
+        v.sort();
+        v
+    };
+    assert_eq!(by_name(&from_file), by_name(&sorted));
+}

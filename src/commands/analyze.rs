@@ -51,19 +51,9 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
     check_destinations(args)?;
     let bar = Bar::new(0, args.quiet);
     let run = RunContext { args, options: &options, settings: &settings, table: table.as_ref(), bar: &bar };
-    let read = match read_into(&run, RunOutputs::open(args, &settings, report_settings.clone())?, Release::AsRead)? {
-        Read::Done(read) => read,
-        // A series came back after the file had moved past it: nothing was committed; the
-        // file is read again, this time holding every series to the end.
-        Read::SeriesReturned => {
-            match read_into(&run, RunOutputs::open(args, &settings, report_settings)?, Release::AtEnd)? {
-                Read::Done(read) => read,
-                Read::SeriesReturned => unreachable!("nothing is released before the end"),
-            }
-        }
-    };
+    let read = read_all(&run, &report_settings)?;
     bar.finish();
-    let Done { outputs, inputs, warnings, digest, refused } = *read;
+    let Done { outputs, inputs, warnings, digest, refused } = read;
     let finished = outputs.finish(inputs, warnings, digest, args.quiet)?;
     commit(args, finished)?;
     match refused {
@@ -90,7 +80,7 @@ enum Release {
     AtEnd,
 }
 
-/// How reading ended.
+/// How reading a file as it streams ended.
 enum Read<'a> {
     /// Every series analysed and written into the outputs.
     Done(Box<Done<'a>>),
@@ -108,33 +98,88 @@ struct Done<'a> {
     refused: usize,
 }
 
-/// Reads every input into `outputs`. One CSV file is read a block at a time and, at
-/// [`Release::AsRead`], each series is analysed once the file has moved past it, so a campaign
-/// never holds its dataset whole; several files (a series may continue in a later one) or a
-/// workbook are read whole first.
-fn read_into<'a>(run: &RunContext<'a>, mut outputs: RunOutputs<'a>, release: Release) -> Result<Read<'a>, Error> {
+/// Reads every input and analyses it into freshly opened outputs. One CSV file is read a block
+/// at a time, each series analysed once the file has moved past it, so a campaign never holds
+/// its dataset whole; several files (a series may continue in a later one) or a workbook are
+/// read whole first. The bytes of a streamed file are kept as they are read: if a series comes
+/// back after it was analysed, nothing has been committed, and the run goes on from those bytes
+/// and the rest of the file, holding every series to the end (the file is never read twice, so
+/// a pipe works too).
+fn read_all<'a>(run: &RunContext<'a>, report_settings: &ReportSettings) -> Result<Done<'a>, Error> {
     let args = run.args;
+    let open_outputs = || RunOutputs::open(args, run.settings, report_settings.clone());
     let streamable = args.files.len() == 1 && !thetaseek::input::is_workbook(&args.files[0].display().to_string());
     if !streamable {
         let loaded = load(&args.files, run.options, args.read.max_input_mb)?;
-        return Ok(Read::Done(Box::new(analyse_loaded(run, outputs, loaded, None)?)));
+        return analyse_loaded(run, open_outputs()?, loaded, false);
     }
     let path = &args.files[0];
     let name = path.display().to_string();
     let file = open_input(path, args.read.max_input_mb)?;
     let file_bytes = file.size();
-    let mut source = hashing(file);
-    let mut reader = match BlockReader::open(&name, 0, &mut source, run.options, BLOCK_BYTES)? {
-        Opened::Blocks(reader) => reader,
-        Opened::Whole(contents) => {
-            let mut loading = super::Loading::default();
-            loading.add(&name, &sha2::Digest::finalize(source.hasher), *contents);
-            return Ok(Read::Done(Box::new(analyse_loaded(run, outputs, loading.finish(), None)?)));
+    let mut source = Recording { inner: hashing(file), bytes: Some(Vec::new()) };
+    let done = match stream_file(run, &name, file_bytes, &mut source, open_outputs()?, Release::AsRead)? {
+        Read::Done(done) => done,
+        Read::SeriesReturned => {
+            let recorded = source.bytes.take().unwrap_or_default();
+            let mut replay = std::io::Read::chain(std::io::Cursor::new(recorded), &mut source);
+            match stream_file(run, &name, file_bytes, &mut replay, open_outputs()?, Release::AtEnd)? {
+                Read::Done(done) => done,
+                Read::SeriesReturned => unreachable!("nothing is released before the end"),
+            }
         }
     };
-    let mut warnings = unused_columns(&name, &reader.ignored_columns());
+    let mut done = *done;
+    if done.digest.is_some() {
+        let digest = InputFile::from_digest(&name, &sha2::Digest::finalize(source.inner.hasher)).sha256;
+        done.inputs[0].sha256 = digest.clone();
+        done.digest = Some(digest);
+    }
+    Ok(done)
+}
+
+/// A reader that keeps a copy of what it passes on (until `bytes` is taken).
+struct Recording<R> {
+    inner: R,
+    bytes: Option<Vec<u8>>,
+}
+
+impl<R: std::io::Read> std::io::Read for Recording<R> {
+    fn read(&mut self, buf: &mut [u8]) -> std::io::Result<usize> {
+        let n = self.inner.read(buf)?;
+        if let Some(bytes) = &mut self.bytes {
+            bytes.extend_from_slice(&buf[..n]);
+        }
+        Ok(n)
+    }
+}
+
+/// Reads one CSV file from `source` a block at a time into `outputs`, releasing each series to
+/// the analysis as `release` says. The first input's SHA-256 is left as a placeholder (the
+/// caller hashes the file).
+fn stream_file<'a>(
+    run: &RunContext<'a>,
+    name: &str,
+    file_bytes: u64,
+    source: &mut (dyn std::io::Read + Send),
+    mut outputs: RunOutputs<'a>,
+    release: Release,
+) -> Result<Read<'a>, Error> {
+    let mut reader = match BlockReader::open(name, 0, source, run.options, BLOCK_BYTES)? {
+        Opened::Blocks(reader) => reader,
+        Opened::Whole(contents) => {
+            // A small file, or not osmometry: read whole; its SHA-256 (a placeholder of zeros
+            // here) is patched in once the caller has hashed it.
+            let mut loading = super::Loading::default();
+            loading.add(name, &[0; 32], *contents);
+            let mut done = analyse_loaded(run, outputs, loading.finish(), true)?;
+            done.digest = Some(String::new());
+            return Ok(Read::Done(Box::new(done)));
+        }
+    };
+    let mut warnings = unused_columns(name, &reader.ignored_columns());
     // The file's SHA-256 is known only at its end: the report opens with zeros in its place.
-    let mut inputs = vec![InputFile { path: name.clone(), sha256: "0".repeat(64) }];
+    let mut inputs = vec![InputFile { path: name.to_string(), sha256: "0".repeat(64) }];
     inputs.extend(run.table.map(|t| t.input.clone()));
     outputs.begin(&inputs, true)?;
     let mut volumes = SolventVolumes::new(run);
@@ -171,18 +216,18 @@ fn read_into<'a>(run: &RunContext<'a>, mut outputs: RunOutputs<'a>, release: Rel
     drop(ready);
     warnings.extend(volumes.finish());
     outputs.add_refused(&contents.refused)?;
-    let digest = InputFile::from_digest(&name, &sha2::Digest::finalize(source.hasher)).sha256;
-    inputs[0].sha256 = digest.clone();
-    Ok(Read::Done(Box::new(Done { outputs, inputs, warnings, digest: Some(digest), refused: contents.refused.len() })))
+    let refused = contents.refused.len();
+    Ok(Read::Done(Box::new(Done { outputs, inputs, warnings, digest: Some(String::new()), refused })))
 }
 
 /// Analyses a dataset read whole: the osmometry series, then the other routes, then the
 /// series refused at reading.
+/// `hashed_later`: the first input's SHA-256 is a placeholder, patched in at the end.
 fn analyse_loaded<'a>(
     run: &RunContext<'a>,
     mut outputs: RunOutputs<'a>,
     mut loaded: Loaded,
-    digest: Option<String>,
+    hashed_later: bool,
 ) -> Result<Done<'a>, Error> {
     let mut volumes = SolventVolumes::new(run);
     if let Some(table) = run.table {
@@ -190,7 +235,7 @@ fn analyse_loaded<'a>(
             loaded.inputs.push(table.input.clone());
         }
     }
-    outputs.begin(&loaded.inputs, false)?;
+    outputs.begin(&loaded.inputs, hashed_later)?;
     let Loaded { inputs, mut dataset, mut warnings, refused } = loaded;
     run.bar.set_total(analysis::work_units(&dataset, run.settings));
     let solvents: std::collections::HashMap<String, String> = dataset.solvents.iter().cloned().collect();
@@ -210,7 +255,7 @@ fn analyse_loaded<'a>(
     outputs.add_refused(&refused)?;
     warnings.extend(volumes.finish());
     let _ = freeing.join();
-    Ok(Done { outputs, inputs, warnings, digest, refused: refused.len() })
+    Ok(Done { outputs, inputs, warnings, digest: None, refused: refused.len() })
 }
 
 /// Each series' solvent molar volume from the solvents table (a series' own columns win),
