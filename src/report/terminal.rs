@@ -371,7 +371,7 @@ mod tests {
 
     #[test]
     fn fuzz_found_plus_minus_overflowed_on_an_infinite_value() {
-        // tests/fuzz.rs: an infinite A2 made `exponent − se_exponent` overflow i32.
+        // tests/suite/fuzz.rs: an infinite A2 made `exponent − se_exponent` overflow i32.
         assert_eq!(plus_minus(f64::INFINITY, 1e-3), "inf ± 1.00e-3");
         assert_eq!(plus_minus(f64::NAN, 1.0), "NaN ± 1.00e0");
         assert!(plus_minus(1e300, 1e-300).starts_with("(1.000000 ± 0.000000)e300"));

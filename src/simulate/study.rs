@@ -1,7 +1,7 @@
 //! The coverage study: simulated osmometry series with known θ, Mn and A2, analysed as a user's
 //! file would be, to measure how often each interval holds the truth — overall and within each
 //! fifth of the Flory–Krigbaum line's reduced χ², which is where a user looking at one series
-//! stands. `examples/theta-coverage.rs` runs the full factorial design; `tests/theta.rs` runs a
+//! stands. `examples/theta-coverage.rs` runs the full factorial design; `tests/suite/theta.rs` runs a
 //! small version and asserts the stratified bounds.
 
 use super::{simulate, Noise, VirialTruth};

@@ -8,7 +8,7 @@ use thetaseek::numerics::linear::{fit, polynomial_design, Weights};
 use thetaseek::virial::{fit_form, Readings, VirialForm};
 
 fn cases() -> Vec<Value> {
-    let doc: Value = serde_json::from_str(include_str!("data/numpy_fits.json")).unwrap();
+    let doc: Value = serde_json::from_str(include_str!("../data/numpy_fits.json")).unwrap();
     assert!(doc["numpy_version"].as_str().is_some());
     doc["cases"].as_array().unwrap().clone()
 }

@@ -9,8 +9,7 @@ use std::fmt::Write;
 use thetaseek::thermo::flory_krigbaum_a2;
 use thetaseek::units::{optical_constant, scattering_vector};
 
-mod common;
-use common::{json_stdout, parse_html, thetaseek};
+use crate::common::{json_stdout, parse_html, thetaseek};
 
 const N0: f64 = 1.33;
 const LAMBDA: f64 = 633e-9;

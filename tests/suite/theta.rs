@@ -48,7 +48,7 @@ const REALISTIC: Noise = Noise { absolute_pa: 0.3, relative: 0.003 };
 fn theta_and_fieller_match_an_independent_numpy_scipy_calculation() {
     // Fixture: tests/data/fieller_theta.json from tests/fixtures/make_fieller_fixtures.py
     // (numpy lstsq/SVD in the a, b parametrisation, scipy.stats.t, numpy.roots).
-    let doc: Value = serde_json::from_str(include_str!("data/fieller_theta.json")).unwrap();
+    let doc: Value = serde_json::from_str(include_str!("../data/fieller_theta.json")).unwrap();
     for case in doc["cases"].as_array().unwrap() {
         let f = |k: &str| -> Vec<f64> { case[k].as_array().unwrap().iter().map(|v| v.as_f64().unwrap()).collect() };
         let points: Vec<TemperaturePoint> = f("temperature_k")

@@ -1,8 +1,7 @@
 //! Issue #28, items 3, 4, 5 and 10: a run replaces all of its outputs or none, whatever
 //! stops it (a failed write, a signal), and writes devices, pipes and links deliberately.
 
-mod common;
-use common::{demo, thetaseek, write};
+use crate::common::{demo, thetaseek, write};
 use std::path::{Path, PathBuf};
 
 /// The names in a folder, sorted.
@@ -289,7 +288,7 @@ fn a_refused_osmometry_series_is_reported_as_osmometry_and_not_kept_as_another_r
         }
     }
     let input = write(dir.path(), "two.csv", &text);
-    let report = common::json_stdout(thetaseek().arg("analyze").arg(&input).args(["-q", "--report", "-"]));
+    let report = crate::common::json_stdout(thetaseek().arg("analyze").arg(&input).args(["-q", "--report", "-"]));
     let routes: Vec<&str> = report["series"].as_array().unwrap().iter().map(|s| s["route"].as_str().unwrap()).collect();
     assert_eq!(routes, ["osmometry", "osmometry"]);
 }

@@ -2,8 +2,7 @@
 //! noise around a small pressure), a reading far below zero is a slip, and a solution past its
 //! stability limit is named as such.
 
-mod common;
-use common::{json_stdout, thetaseek, write};
+use crate::common::{json_stdout, thetaseek, write};
 
 /// Π = RT c (1/Mn + A2 c), Mn = 400 kg/mol, with a little deterministic scatter; concentrations
 /// in g/L, pressures in Pa.
@@ -159,7 +158,7 @@ fn in_a_small_file_read_whole_a_bad_value_costs_its_series_too_and_the_series_ta
 #[test]
 fn a_reading_raised_by_a_quarter_in_the_demo_is_named_and_the_clean_demo_is_not_flagged() {
     let dir = tempfile::tempdir().unwrap();
-    let demo = std::fs::read_to_string(common::demo()).unwrap();
+    let demo = std::fs::read_to_string(crate::common::demo()).unwrap();
     let outliers = |text: &str| -> Vec<String> {
         let input = write(dir.path(), "d.csv", text);
         let report = json_stdout(thetaseek().arg("analyze").arg(&input).args(["-q", "--report", "-"]));
@@ -244,7 +243,7 @@ fn report_without_inputs(input: &std::path::Path, extra: &[&str], code: i32) -> 
 #[test]
 fn workbooks_give_the_csv_s_report_and_name_the_sheet_and_cell_of_a_refusal() {
     let books = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/workbooks");
-    let csv = report_without_inputs(&common::demo(), &[], 0);
+    let csv = report_without_inputs(&crate::common::demo(), &[], 0);
     for book in ["px40.xlsx", "px40.ods", "px40-text-numbers.xlsx", "px40-trailing.xlsx"] {
         assert!(report_without_inputs(&books.join(book), &[], 0) == csv, "{book} differs from the CSV");
     }
@@ -292,8 +291,8 @@ fn exported(text: &str, separator: char) -> String {
 #[test]
 fn semicolon_and_tab_exports_with_decimal_commas_give_the_comma_file_s_report() {
     let dir = tempfile::tempdir().unwrap();
-    let demo = std::fs::read_to_string(common::demo()).unwrap();
-    let csv = report_without_inputs(&common::demo(), &[], 0);
+    let demo = std::fs::read_to_string(crate::common::demo()).unwrap();
+    let csv = report_without_inputs(&crate::common::demo(), &[], 0);
     for separator in [';', '\t'] {
         let input = write(dir.path(), "export.csv", &exported(&demo, separator));
         assert!(report_without_inputs(&input, &[], 0) == csv, "separator {separator:?}");
@@ -363,7 +362,7 @@ fn headers_and_units_as_labs_write_them() {
 #[test]
 fn excluded_readings_are_kept_with_their_reasons_and_not_fitted() {
     let dir = tempfile::tempdir().unwrap();
-    let demo = std::fs::read_to_string(common::demo()).unwrap();
+    let demo = std::fs::read_to_string(crate::common::demo()).unwrap();
     let mut text = String::new();
     for line in demo.lines() {
         let reason = if line.starts_with("PX-40 in mirane,mirane,40.0,6.00,") {
@@ -431,7 +430,7 @@ fn excluded_readings_are_kept_with_their_reasons_and_not_fitted() {
         .count();
     assert!(svg.contains("excluded, not fitted") && hollow == 1, "{hollow} hollow circles");
     let html = std::fs::read_to_string(&html).unwrap();
-    common::parse_html(&html);
+    crate::common::parse_html(&html);
     assert!(html.contains("<h2>Excluded readings</h2>") && html.contains("membrane leak") && html.contains("spilled"));
     // The terminal names them.
     let terminal = String::from_utf8_lossy(&out.stderr);

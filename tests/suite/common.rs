@@ -1,5 +1,4 @@
-//! Helpers shared by the integration tests (each test file that needs them says `mod common;`).
-#![allow(dead_code)] // each test crate uses some of them
+//! Helpers shared by the integration tests.
 
 use assert_cmd::Command;
 use std::path::{Path, PathBuf};

@@ -7,8 +7,7 @@ use serde_json::Value;
 use std::fmt::Write;
 use thetaseek::units::GAS_CONSTANT_J_PER_MOL_K;
 
-mod common;
-use common::thetaseek;
+use crate::common::thetaseek;
 
 /// `n` simulated series (truth known): Mn 100 kg/mol, A2 = 2e-3 (1 − θ/T) mol m³/kg² with θ
 /// spread over 300–309 K, and a small deterministic ripple standing in for noise.

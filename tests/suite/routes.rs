@@ -5,8 +5,7 @@ use serde_json::Value;
 use std::path::Path;
 use thetaseek::thermo::{segment_ratio, shultz_flory_tc};
 
-mod common;
-use common::{parse_html, thetaseek};
+use crate::common::{parse_html, thetaseek};
 
 /// Critical temperatures of invented PX-40 fractions in mirane from the demo's truth
 /// (θ = 307.65 K, ψ1 = 0.35, v̄ = 0.92 mL/g, V1 = 105 mL/mol), shifted by `shift` K.

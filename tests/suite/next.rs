@@ -12,8 +12,7 @@ use thetaseek::thermo::flory_krigbaum_a2;
 use thetaseek::theta::{a2_points, ThetaSettings};
 use thetaseek::units::GAS_CONSTANT_J_PER_MOL_K;
 
-mod common;
-use common::thetaseek;
+use crate::common::thetaseek;
 
 const C: [f64; 5] = [2.0, 4.0, 6.0, 8.0, 10.0];
 const THETA: f64 = 305.0;
@@ -219,7 +218,7 @@ use thetaseek::input::SolventProperties;
 use thetaseek::safety::{SafeWindow, SeparatesOn};
 
 proptest! {
-    #![proptest_config(common::proptest_config(64))]
+    #![proptest_config(crate::common::proptest_config(64))]
 
     /// Whatever the data, the thermostat, the solvent's liquid range and the sample's critical
     /// temperature, `next` never recommends (nor lists) a temperature outside the window.

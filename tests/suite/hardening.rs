@@ -1,8 +1,7 @@
 //! Hostile conditions end to end: determinism across runs and thread counts, an interrupt
 //! mid-run, resource limits, and large or odd files that must finish or be refused cleanly.
 
-mod common;
-use common::{demo, thetaseek};
+use crate::common::{demo, thetaseek};
 
 #[test]
 fn the_same_input_and_seed_give_byte_identical_reports_on_one_thread_or_two() {

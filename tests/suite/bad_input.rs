@@ -3,8 +3,7 @@
 
 use std::path::Path;
 
-mod common;
-use common::thetaseek;
+use crate::common::thetaseek;
 
 /// (file, line, column, value) as the message names them; `None` where the file has no such
 /// thing to name (an empty file has no line; a ragged row has no single value).

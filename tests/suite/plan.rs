@@ -6,14 +6,13 @@ use serde_json::Value;
 use std::path::{Path, PathBuf};
 use thetaseek::thermo::{expansion_argument, expansion_factor, flory_cm, segment_ratio, shultz_flory_tc};
 
-mod common;
-use common::{json_stdout, thetaseek, write};
+use crate::common::{json_stdout, thetaseek, write};
 
 #[test]
 fn shultz_flory_and_the_expansion_factor_match_scipy() {
     // Fixture: tests/data/plan_fixtures.json from tests/fixtures/make_plan_fixtures.py
     // (the same equations, solved with scipy.optimize.brentq).
-    let doc: Value = serde_json::from_str(include_str!("data/plan_fixtures.json")).unwrap();
+    let doc: Value = serde_json::from_str(include_str!("../data/plan_fixtures.json")).unwrap();
     for case in doc["cases"].as_array().unwrap() {
         let f = |k: &str| case[k].as_f64().unwrap();
         let x = segment_ratio(f("molar_mass_kg_per_mol"), f("specific_volume_m3_per_kg"), f("molar_volume_m3_per_mol"));

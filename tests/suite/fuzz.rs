@@ -13,8 +13,6 @@ use thetaseek::input::{read_file, read_solvents, ReadOptions};
 use thetaseek::report::{render_terminal, series_table_csv, table_csv, to_json, Report, ReportSettings, SeriesFilter};
 use thetaseek::theta::ThetaSettings;
 
-mod common;
-
 /// Everything `thetaseek analyze` does after reading the file, in memory. The file is also
 /// read a block of 48 bytes at a time (the path of files above 4 MB): that too must end in a
 /// result or a refusal, and where both reads succeed they must agree.
@@ -70,7 +68,7 @@ fn pipeline(bytes: &[u8]) {
         assert!(roxmltree::Document::parse(&figure.svg).is_ok(), "{} is not well-formed", figure.file_name);
     }
     let html = thetaseek::html::analyze_html(&report, &figures, "2026-01-01");
-    common::parse_html(&html);
+    crate::common::parse_html(&html);
 }
 
 const VALID: &str = "# a comment\n\
@@ -230,7 +228,7 @@ fn apply(text: &mut Vec<u8>, m: &Mutation) {
 }
 
 proptest! {
-    #![proptest_config(common::proptest_config(200))]
+    #![proptest_config(crate::common::proptest_config(200))]
 
     #[test]
     fn arbitrary_bytes_never_panic(bytes in proptest::collection::vec(any::<u8>(), 0..4096)) {

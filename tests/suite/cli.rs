@@ -2,8 +2,7 @@
 
 use serde_json::Value;
 
-mod common;
-use common::{demo, json_stdout, thetaseek, write};
+use crate::common::{demo, json_stdout, thetaseek, write};
 
 const SMALL: &str = "temperature (C),concentration (g/L),pressure (Pa)\n\
     25,2,26.9\n25,4,53.0\n25,6,78.6\n25,8,103.9\n\

@@ -4,8 +4,7 @@
 
 use std::path::{Path, PathBuf};
 
-mod common;
-use common::{parse_html, thetaseek};
+use crate::common::{parse_html, thetaseek};
 
 fn root() -> PathBuf {
     PathBuf::from(env!("CARGO_MANIFEST_DIR"))

@@ -17,8 +17,6 @@ use thetaseek::thermo::flory_krigbaum_a2;
 use thetaseek::theta::ThetaSettings;
 use thetaseek::virial::{FormChoice, VirialForm};
 
-mod common;
-
 /// Rows "series,T,c,Π" of simulated series (θ, ψ1 per series), seeded.
 fn rows(seed: u64, series: &[(f64, f64)]) -> Vec<String> {
     let mut rng = ChaCha8Rng::seed_from_u64(seed);
@@ -75,7 +73,7 @@ fn numbers(r: &Report) -> Vec<f64> {
 }
 
 proptest! {
-    #![proptest_config(common::proptest_config(24))]
+    #![proptest_config(crate::common::proptest_config(24))]
 
     #[test]
     fn row_order_does_not_change_any_result(seed in 0u64..1000, shuffle in 0u64..1000, theta in 285.0f64..330.0) {

@@ -5,7 +5,7 @@
 use thetaseek::numerics::linear::{fit, polynomial_design, Weights};
 
 fn norris() -> (Vec<f64>, Vec<f64>) {
-    let text = include_str!("data/nist/Norris.dat");
+    let text = include_str!("../data/nist/Norris.dat");
     // The header says: data on lines 61 to 96, columns y then x.
     let (mut x, mut y) = (Vec::new(), Vec::new());
     for line in text.lines().skip(60).take(36) {
