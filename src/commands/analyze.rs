@@ -101,10 +101,10 @@ struct Done<'a> {
 /// Reads every input and analyses it into freshly opened outputs. One CSV file is read a block
 /// at a time, each series analysed once the file has moved past it, so a campaign never holds
 /// its dataset whole; several files (a series may continue in a later one) or a workbook are
-/// read whole first. The bytes of a streamed file are kept as they are read: if a series comes
-/// back after it was analysed, nothing has been committed, and the run goes on from those bytes
-/// and the rest of the file, holding every series to the end (the file is never read twice, so
-/// a pipe works too).
+/// read whole first. A copy of a streamed file's bytes is kept as they are read (on disk, in an
+/// anonymous temporary file): if a series comes back after it was analysed, nothing has been
+/// committed, and the run goes on from that copy and the rest of the file, holding every series
+/// to the end (the file itself is read once, so a pipe works too).
 fn read_all<'a>(run: &RunContext<'a>, report_settings: &ReportSettings) -> Result<Done<'a>, Error> {
     let args = run.args;
     let open_outputs = || RunOutputs::open(args, run.settings, report_settings.clone());
@@ -117,12 +117,13 @@ fn read_all<'a>(run: &RunContext<'a>, report_settings: &ReportSettings) -> Resul
     let name = path.display().to_string();
     let file = open_input(path, args.read.max_input_mb)?;
     let file_bytes = file.size();
-    let mut source = Recording { inner: hashing(file), bytes: Some(Vec::new()) };
+    let copy_failed = |source| Error::Io { action: "cannot keep a copy of", path: path.clone(), source };
+    let mut source = Recording::new(hashing(file)).map_err(copy_failed)?;
     let done = match stream_file(run, &name, file_bytes, &mut source, open_outputs()?, Release::AsRead)? {
         Read::Done(done) => done,
         Read::SeriesReturned => {
-            let recorded = source.bytes.take().unwrap_or_default();
-            let mut replay = std::io::Read::chain(std::io::Cursor::new(recorded), &mut source);
+            let recorded = source.replay().map_err(copy_failed)?;
+            let mut replay = std::io::Read::chain(recorded, &mut source);
             match stream_file(run, &name, file_bytes, &mut replay, open_outputs()?, Release::AtEnd)? {
                 Read::Done(done) => done,
                 Read::SeriesReturned => unreachable!("nothing is released before the end"),
@@ -138,17 +139,32 @@ fn read_all<'a>(run: &RunContext<'a>, report_settings: &ReportSettings) -> Resul
     Ok(done)
 }
 
-/// A reader that keeps a copy of what it passes on (until `bytes` is taken).
+/// A reader that keeps a copy of what it passes on in an anonymous temporary file (no memory,
+/// and nothing left behind however the run ends), until [`Recording::replay`] takes it.
 struct Recording<R> {
     inner: R,
-    bytes: Option<Vec<u8>>,
+    copy: Option<std::io::BufWriter<std::fs::File>>,
+}
+
+impl<R> Recording<R> {
+    fn new(inner: R) -> std::io::Result<Self> {
+        Ok(Recording { inner, copy: Some(std::io::BufWriter::with_capacity(1 << 20, tempfile::tempfile()?)) })
+    }
+
+    /// What was read so far, from its start; nothing more is copied.
+    fn replay(&mut self) -> std::io::Result<std::fs::File> {
+        let mut file =
+            self.copy.take().map_or_else(tempfile::tempfile, |c| c.into_inner().map_err(|e| e.into_error()))?;
+        std::io::Seek::rewind(&mut file)?;
+        Ok(file)
+    }
 }
 
 impl<R: std::io::Read> std::io::Read for Recording<R> {
     fn read(&mut self, buf: &mut [u8]) -> std::io::Result<usize> {
         let n = self.inner.read(buf)?;
-        if let Some(bytes) = &mut self.bytes {
-            bytes.extend_from_slice(&buf[..n]);
+        if let Some(copy) = &mut self.copy {
+            std::io::Write::write_all(copy, &buf[..n])?;
         }
         Ok(n)
     }
