@@ -117,12 +117,16 @@ fn read_all<'a>(run: &RunContext<'a>, report_settings: &ReportSettings) -> Resul
     let name = path.display().to_string();
     let file = open_input(path, args.read.max_input_mb)?;
     let file_bytes = file.size();
-    let copy_failed = |source| Error::Io { action: "cannot keep a copy of", path: path.clone(), source };
-    let mut source = Recording::new(hashing(file)).map_err(copy_failed)?;
+    let mut source = Recording::new(hashing(file));
     let done = match stream_file(run, &name, file_bytes, &mut source, open_outputs()?, Release::AsRead)? {
         Read::Done(done) => done,
         Read::SeriesReturned => {
-            let recorded = source.replay().map_err(copy_failed)?;
+            let recorded = source.replay().ok_or_else(|| {
+                Error::Input(thetaseek::error::InputError::file(
+                    &name,
+                    "a series' rows come back after other series, and no temporary copy of the file could be kept to read it whole (set TMPDIR to a writable folder, or sort the file by series)",
+                ))
+            })?;
             let mut replay = std::io::Read::chain(recorded, &mut source);
             match stream_file(run, &name, file_bytes, &mut replay, open_outputs()?, Release::AtEnd)? {
                 Read::Done(done) => done,
@@ -140,23 +144,26 @@ fn read_all<'a>(run: &RunContext<'a>, report_settings: &ReportSettings) -> Resul
 }
 
 /// A reader that keeps a copy of what it passes on in an anonymous temporary file (no memory,
-/// and nothing left behind however the run ends), until [`Recording::replay`] takes it.
+/// and nothing left behind however the run ends), until [`Recording::replay`] takes it. Where
+/// no temporary file can be written the copy is given up, and only a file whose series come
+/// back late is refused for it.
 struct Recording<R> {
     inner: R,
     copy: Option<std::io::BufWriter<std::fs::File>>,
 }
 
 impl<R> Recording<R> {
-    fn new(inner: R) -> std::io::Result<Self> {
-        Ok(Recording { inner, copy: Some(std::io::BufWriter::with_capacity(1 << 20, tempfile::tempfile()?)) })
+    fn new(inner: R) -> Self {
+        let copy = tempfile::tempfile().ok().map(|file| std::io::BufWriter::with_capacity(1 << 20, file));
+        Recording { inner, copy }
     }
 
-    /// What was read so far, from its start; nothing more is copied.
-    fn replay(&mut self) -> std::io::Result<std::fs::File> {
-        let mut file =
-            self.copy.take().map_or_else(tempfile::tempfile, |c| c.into_inner().map_err(|e| e.into_error()))?;
-        std::io::Seek::rewind(&mut file)?;
-        Ok(file)
+    /// What was read so far, from its start (`None` when no copy could be kept); nothing more
+    /// is copied.
+    fn replay(&mut self) -> Option<std::fs::File> {
+        let mut file = self.copy.take()?.into_inner().ok()?;
+        std::io::Seek::rewind(&mut file).ok()?;
+        Some(file)
     }
 }
 
@@ -164,7 +171,9 @@ impl<R: std::io::Read> std::io::Read for Recording<R> {
     fn read(&mut self, buf: &mut [u8]) -> std::io::Result<usize> {
         let n = self.inner.read(buf)?;
         if let Some(copy) = &mut self.copy {
-            std::io::Write::write_all(copy, &buf[..n])?;
+            if std::io::Write::write_all(copy, &buf[..n]).is_err() {
+                self.copy = None;
+            }
         }
         Ok(n)
     }

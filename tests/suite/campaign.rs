@@ -373,4 +373,18 @@ fn a_series_that_comes_back_late_is_whole_even_through_a_pipe() {
         v
     };
     assert_eq!(by_name(&from_file), by_name(&sorted));
+    // Without a writable temporary folder the copy cannot be kept: the unsorted file is refused
+    // with the way out, the sorted one is analysed as usual.
+    for (file, code) in [("unsorted.csv", 65), ("sorted.csv", 0)] {
+        let out = thetaseek()
+            .current_dir(dir.path())
+            .env("TMPDIR", dir.path().join("no-such-folder"))
+            .args(["analyze", file, "--bootstrap", "0", "-q", "--report-detail", "fits"])
+            .output()
+            .unwrap();
+        assert_eq!(out.status.code(), Some(code), "{file}: {}", String::from_utf8_lossy(&out.stderr));
+        if code != 0 {
+            assert!(String::from_utf8_lossy(&out.stderr).contains("sort the file by series"));
+        }
+    }
 }
