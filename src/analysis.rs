@@ -294,6 +294,23 @@ pub fn analyze_with_progress(dataset: &Dataset, settings: &Settings, progress: &
     results
 }
 
+/// Everything computed for a run: every series of every route, and the routes compared.
+#[derive(Debug, Clone, PartialEq)]
+pub struct RunResults {
+    /// One result per series, in the dataset's order ([`analyze`]).
+    pub series: Vec<SeriesResult>,
+    /// θ of one pair by several routes, compared ([`compare_routes`]).
+    pub routes: Vec<RouteComparison>,
+}
+
+/// The whole run in one call: [`analyze_with_progress`] and the routes' comparison. (`analyze`
+/// on the command line feeds the same per-series calls a chunk at a time.)
+pub fn analyze_run(dataset: &Dataset, settings: &Settings, progress: &dyn Progress) -> RunResults {
+    let series = analyze_with_progress(dataset, settings, progress);
+    let routes = compare_result_routes(&series);
+    RunResults { series, routes }
+}
+
 /// The routes' comparison of a run's results ([`compare_routes`]).
 pub fn compare_result_routes(results: &[SeriesResult]) -> Vec<RouteComparison> {
     let entries: Vec<(&str, Option<RouteTheta>)> = results.iter().map(|r| (r.name.as_str(), r.route_theta())).collect();

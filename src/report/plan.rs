@@ -33,7 +33,7 @@ pub struct PlanReportSettings {
     /// v̄, mL/g.
     pub polymer_specific_volume_ml_per_g: Option<f64>,
     /// `unperturbed`, `target_a2` or `target_expansion`.
-    pub goal: &'static str,
+    pub goal: GoalName,
     /// Target A2, mol mL/g².
     pub target_a2_mol_ml_per_g2: Option<f64>,
     /// Target α.
@@ -50,13 +50,25 @@ pub struct PlanReportSettings {
     pub critical_margin_k: f64,
 }
 
+/// The plan's goal as the report names it (its target value in its own key).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum GoalName {
+    /// T = θ.
+    Unperturbed,
+    /// A given A2.
+    TargetA2,
+    /// A given expansion factor.
+    TargetExpansion,
+}
+
 impl PlanReport {
     /// Wraps a plan with its inputs and settings.
     pub fn new(inputs: Vec<InputFile>, settings: &PlanSettings, plan: Plan) -> Self {
         let (goal, target_a2, target_expansion) = match settings.goal {
-            Goal::Unperturbed => ("unperturbed", None, None),
-            Goal::TargetA2(a) => ("target_a2", Some(a), None),
-            Goal::TargetExpansion(x) => ("target_expansion", None, Some(x)),
+            Goal::Unperturbed => (GoalName::Unperturbed, None, None),
+            Goal::TargetA2(a) => (GoalName::TargetA2, Some(a), None),
+            Goal::TargetExpansion(x) => (GoalName::TargetExpansion, None, Some(x)),
         };
         PlanReport {
             schema_version: super::SCHEMA_VERSION,

@@ -97,13 +97,14 @@ fn the_report_written_series_by_series_is_the_report_written_whole() {
         theta: thetaseek::theta::ThetaSettings { bootstrap_replicates: 0, ..Default::default() },
         ..Default::default()
     };
-    let results = thetaseek::analysis::analyze(&dataset, &settings);
+    let run = thetaseek::analysis::analyze_run(&dataset, &settings, &());
+    let results = run.series;
     for detail in [Detail::Fits, Detail::Full] {
         let report_settings =
             ReportSettings { report_detail: detail, ..ReportSettings::new(thetaseek::virial::FormChoice::Auto) };
         let inputs = vec![thetaseek::report::InputFile::new("c.csv", &bytes)];
         let mut report = Report::new(inputs, report_settings, vec!["a warning".into()], &results, &dataset);
-        report.routes = thetaseek::analysis::compare_result_routes(&results);
+        report.routes = run.routes.clone();
         let mut streamed = Vec::new();
         let mut stream = ReportStream::begin(&mut streamed, &report.inputs, &report.settings).unwrap();
         for s in &report.series {

@@ -131,3 +131,26 @@ fn a_report_read_back_through_its_types_is_written_again_byte_for_byte() {
         assert!(again == out, "{detail}: differs at byte {at}:\n{}\n---\n{}", around(&out), around(&again));
     }
 }
+
+/// One library call gives the run's results with the routes compared, as the command does.
+#[test]
+fn one_library_call_analyses_every_route_and_compares_them() {
+    use thetaseek::dataset::{Dataset, OtherRoutes};
+    let demo = std::fs::read(Path::new(env!("CARGO_MANIFEST_DIR")).join("data/px40-osmometry.csv")).unwrap();
+    let options = thetaseek::input::ReadOptions::default();
+    let osmometry = thetaseek::input::read_file("demo.csv", 0, &demo, &options).unwrap();
+    let critical = thetaseek::input::read_file("tc.csv", 1, fractions(0.0).as_bytes(), &options).unwrap();
+    let volumes: Vec<_> = osmometry.volumes.iter().chain(&critical.volumes).cloned().collect();
+    let routes = OtherRoutes { critical: critical.critical, scattering: Vec::new() };
+    let dataset = Dataset::new(osmometry.readings, &[], &[], routes, &volumes, &osmometry.solvents);
+    let settings = thetaseek::analysis::Settings {
+        volumes: Some(thetaseek::dataset::Volumes { specific_volume: 0.92e-3, molar_volume: 105e-6 }),
+        ..Default::default()
+    };
+    let run = thetaseek::analysis::analyze_run(&dataset, &settings, &());
+    assert_eq!(run.series.len(), 3, "two osmometry series and one of critical temperatures");
+    assert_eq!(run.routes.len(), 1);
+    let compared = &run.routes[0];
+    assert_eq!(compared.series, "PX-40 in mirane");
+    assert!(!compared.disagree && (compared.combined_theta_k - 307.65).abs() < 0.5, "{compared:?}");
+}
