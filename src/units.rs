@@ -113,6 +113,21 @@ macro_rules! unit_enum {
                 f.write_str(self.symbol())
             }
         }
+
+        /// Written as its canonical symbol.
+        impl serde::Serialize for $name {
+            fn serialize<S: serde::Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+                serializer.serialize_str(self.symbol())
+            }
+        }
+
+        /// Read from any accepted spelling.
+        impl<'de> serde::Deserialize<'de> for $name {
+            fn deserialize<D: serde::Deserializer<'de>>(deserializer: D) -> Result<Self, D::Error> {
+                let text = String::deserialize(deserializer)?;
+                text.parse().map_err(|e: UnknownUnit| serde::de::Error::custom(e.to_string()))
+            }
+        }
     };
 }
 

@@ -32,9 +32,9 @@ pub fn run(args: &AnalyzeArgs) -> Result<(), Error> {
         )));
     }
     let report_settings = ReportSettings {
-        temperature_unit: options.temperature_unit.map(|u| u.to_string()),
-        concentration_unit: options.concentration_unit.map(|u| u.to_string()),
-        pressure_unit: options.pressure_unit.map(|u| u.to_string()),
+        temperature_unit: options.temperature_unit,
+        concentration_unit: options.concentration_unit,
+        pressure_unit: options.pressure_unit,
         solvent_density_g_per_ml: args.read.solvent_density,
         confidence: args.confidence,
         bootstrap_replicates: args.bootstrap,

@@ -73,11 +73,11 @@ pub struct ReportSettings {
     /// `auto`, `linear`, `quadratic` or `sqrt`.
     pub virial: crate::virial::FormChoice,
     /// Unit assumed for headers without one, if given.
-    pub temperature_unit: Option<String>,
+    pub temperature_unit: Option<crate::units::TemperatureUnit>,
     /// Unit assumed for headers without one, if given.
-    pub concentration_unit: Option<String>,
+    pub concentration_unit: Option<crate::units::ConcentrationUnit>,
     /// Unit assumed for headers without one, if given.
-    pub pressure_unit: Option<String>,
+    pub pressure_unit: Option<crate::units::PressureUnit>,
     /// Solvent density for head columns, g/mL.
     pub solvent_density_g_per_ml: Option<f64>,
     /// Gas constant used, J/(mol K).
@@ -219,18 +219,14 @@ pub struct SkippedReport {
 #[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
 pub struct WarningReport {
     /// Stable machine-readable code.
-    pub code: String,
+    pub code: crate::virial::FitWarningCode,
     /// What it means and what to do.
     pub message: String,
 }
 
 impl From<&FitWarning> for WarningReport {
     fn from(w: &FitWarning) -> Self {
-        let code = serde_json::to_value(w)
-            .ok()
-            .and_then(|v| v.get("code").and_then(|c| c.as_str()).map(str::to_string))
-            .unwrap_or_default();
-        WarningReport { code, message: w.to_string() }
+        WarningReport { code: w.code(), message: w.to_string() }
     }
 }
 

@@ -133,8 +133,8 @@ pub fn table_rows_csv(out: &mut Vec<u8>, series_reports: &[super::SeriesReport],
             line.number(f.reduced_chi2);
             match f.warnings.as_slice() {
                 [] => line.text(""),
-                [one] => line.text(&one.code),
-                many => line.text(&many.iter().map(|w| w.code.as_str()).collect::<Vec<_>>().join(";")),
+                [one] => line.text(one.code.name()),
+                many => line.text(&many.iter().map(|w| w.code.name()).collect::<Vec<_>>().join(";")),
             }
             // Excluded readings of this temperature (grouped as readings are, to 0.05 K).
             line.count(

@@ -88,7 +88,7 @@ pub fn render_series(s: &super::SeriesReport) -> String {
             );
         }
         for f in &s.fits {
-            let codes: Vec<&str> = f.warnings.iter().map(|w| w.code.as_str()).collect();
+            let codes: Vec<&str> = f.warnings.iter().map(|w| w.code.name()).collect();
             let _ = writeln!(
                 out,
                 "  {:>7.2} {:>7.2} {:>3} {:>9} {:>24} {:>28}  {}",

@@ -126,6 +126,64 @@ pub enum FitWarning {
     PartialWeights,
 }
 
+/// Which [`FitWarning`], without its values: the stable code reports carry.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, serde::Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum FitWarningCode {
+    /// [`FitWarning::FewConcentrations`].
+    FewConcentrations,
+    /// [`FitWarning::Outlier`].
+    Outlier,
+    /// [`FitWarning::SeriesTruncation`].
+    SeriesTruncation,
+    /// [`FitWarning::LowMn`].
+    LowMn,
+    /// [`FitWarning::Curvature`].
+    Curvature,
+    /// [`FitWarning::FormFallback`].
+    FormFallback,
+    /// [`FitWarning::BelowZero`].
+    BelowZero,
+    /// [`FitWarning::FallingPressure`].
+    FallingPressure,
+    /// [`FitWarning::PartialWeights`].
+    PartialWeights,
+}
+
+impl FitWarningCode {
+    /// The code as reports and tables write it.
+    pub fn name(self) -> &'static str {
+        match self {
+            FitWarningCode::FewConcentrations => "few_concentrations",
+            FitWarningCode::Outlier => "outlier",
+            FitWarningCode::SeriesTruncation => "series_truncation",
+            FitWarningCode::LowMn => "low_mn",
+            FitWarningCode::Curvature => "curvature",
+            FitWarningCode::FormFallback => "form_fallback",
+            FitWarningCode::BelowZero => "below_zero",
+            FitWarningCode::FallingPressure => "falling_pressure",
+            FitWarningCode::PartialWeights => "partial_weights",
+        }
+    }
+}
+
+impl FitWarning {
+    /// Its code.
+    pub fn code(&self) -> FitWarningCode {
+        match self {
+            FitWarning::FewConcentrations { .. } => FitWarningCode::FewConcentrations,
+            FitWarning::Outlier { .. } => FitWarningCode::Outlier,
+            FitWarning::SeriesTruncation { .. } => FitWarningCode::SeriesTruncation,
+            FitWarning::LowMn { .. } => FitWarningCode::LowMn,
+            FitWarning::Curvature { .. } => FitWarningCode::Curvature,
+            FitWarning::FormFallback { .. } => FitWarningCode::FormFallback,
+            FitWarning::BelowZero { .. } => FitWarningCode::BelowZero,
+            FitWarning::FallingPressure { .. } => FitWarningCode::FallingPressure,
+            FitWarning::PartialWeights => FitWarningCode::PartialWeights,
+        }
+    }
+}
+
 impl fmt::Display for FitWarning {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match self {
@@ -726,4 +784,29 @@ fn significant_curvature(quadratic: &FormScore) -> Option<f64> {
     let t = a3 / se;
     let critical = crate::uncertainty::critical_value(0.95, Some(dof));
     (t.abs() > critical).then_some(t)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn each_warning_code_is_the_tag_its_warning_is_written_with() {
+        let every = [
+            FitWarning::FewConcentrations { n: 3 },
+            FitWarning::Outlier { concentration_g_per_ml: 0.01, studentized: 4.0, line: 9 },
+            FitWarning::SeriesTruncation { gamma2_c_max: 1.2 },
+            FitWarning::LowMn { mn_g_per_mol: 1.0e4 },
+            FitWarning::Curvature { a3_t: 3.0 },
+            FitWarning::FormFallback { requested: VirialForm::Sqrt, reason: "r".into() },
+            FitWarning::BelowZero { n: 1, lowest_pa: -0.1, line: 4 },
+            FitWarning::FallingPressure { from_concentration_g_per_ml: 0.01, lines: vec![5] },
+            FitWarning::PartialWeights,
+        ];
+        for w in &every {
+            let tag = serde_json::to_value(w).unwrap()["code"].clone();
+            assert_eq!(tag, w.code().name());
+            assert_eq!(serde_json::to_value(w.code()).unwrap(), tag);
+        }
+    }
 }
