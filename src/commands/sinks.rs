@@ -208,7 +208,7 @@ impl<'a> RunOutputs<'a> {
                     .enumerate()
                     .map(|(i, (s, solvent))| {
                         let result = analysis::analyze_series_with_progress(s, settings, first + i as u64, bar);
-                        analysed(&result, Some(s), solvent.clone(), detail, want_json, keep)
+                        prepared(&result, Some(s), solvent.clone(), detail, want_json, keep)
                     })
                     .collect()
             };
@@ -225,7 +225,7 @@ impl<'a> RunOutputs<'a> {
     pub fn add(&mut self, results: &[SeriesResult], solvent_of: impl Fn(&str) -> Option<String>) -> Result<(), Error> {
         let (want_json, keep) = (self.json.is_some(), self.kept.is_some());
         let detail = self.report_settings.report_detail;
-        let reports = results.iter().map(|r| analysed(r, None, solvent_of(&r.name), detail, want_json, keep)).collect();
+        let reports = results.iter().map(|r| prepared(r, None, solvent_of(&r.name), detail, want_json, keep)).collect();
         self.add_analysed(reports)
     }
 
@@ -357,7 +357,7 @@ impl<'a> RunOutputs<'a> {
 
 /// One result made ready for the outputs: its report at the run's detail, its JSON (when a
 /// report is written), its θ for the routes' comparison, its full report (for figures).
-fn analysed(
+fn prepared(
     result: &SeriesResult,
     series: Option<&Series>,
     solvent: Option<String>,
