@@ -109,20 +109,27 @@ pub fn render_series(s: &super::SeriesReport) -> String {
         if let Some(t) = &s.theta {
             let _ = writeln!(out, "  {}", theta_line(t));
         }
+        if let Some(words) = super::summary_line(s) {
+            let _ = writeln!(out, "  in words: {words}");
+        }
         if !s.light_scattering.is_empty() {
             let _ = writeln!(
                 out,
-                "  light scattering (weight averages): {:>7} {:>24} {:>28} {:>10} {:>6}",
+                "  light scattering (weight averages): {:>7} {:>24} {:>28} {:>12} {:>6}",
                 "T (K)", "Mw (g/mol)", "A2 (mol mL/g²)", "Rg (nm)", "α_s"
             );
             for f in &s.light_scattering {
                 let _ = writeln!(
                     out,
-                    "  {:>43.2} {:>24} {:>28} {:>10} {:>6}",
+                    "  {:>43.2} {:>24} {:>28} {:>12} {:>6}",
                     f.temperature_k,
                     plus_minus(f.mw_g_per_mol, f.mw_se_g_per_mol),
                     plus_minus(f.a2_mol_ml_per_g2, f.a2_se_mol_ml_per_g2),
-                    f.rg_nm.map_or("—".into(), |r| format!("{r:.1}")),
+                    match (f.rg_nm, f.rg_se_nm) {
+                        (Some(r), Some(se)) => format!("{r:.1} ± {se:.1}"),
+                        (Some(r), None) => format!("{r:.1}"),
+                        _ => "—".into(),
+                    },
                     f.expansion_factor.map_or("—".into(), |a| format!("{a:.3}"))
                 );
             }

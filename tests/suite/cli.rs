@@ -343,3 +343,36 @@ fn small_input_failures_say_what_they_are() {
     let out = thetaseek().arg("analyze").arg(&utf16).assert().code(65).get_output().clone();
     assert!(String::from_utf8_lossy(&out.stderr).contains("looks like UTF-16"));
 }
+
+/// Every series ends with its answer in words, and a weak answer says what to measure next.
+#[test]
+fn the_terminal_says_the_answer_in_words() {
+    let out = thetaseek()
+        .arg("analyze")
+        .arg(demo())
+        .args(["--polymer-specific-volume", "0.92", "--solvent-molar-volume", "105", "--bootstrap", "0"])
+        .output()
+        .unwrap();
+    let text = String::from_utf8_lossy(&out.stdout);
+    // The demo's mirane series (truth θ = 34.5 °C, ψ1 = 0.35): poor below θ, good above it.
+    let words = text.lines().find(|l| l.contains("in words: θ = 34.")).unwrap_or_else(|| panic!("{text}"));
+    assert!(words.contains("between the measured temperatures") && words.contains("ψ1 = 0.3"), "{words}");
+    assert!(words.contains("poor at 20, 25, 30 °C") && words.contains("good at 40, 45, 50 °C"), "{words}");
+    assert!(!words.contains("Next:"), "a bracketed θ with a bounded interval needs no next step: {words}");
+    // Only the mirane readings above θ: θ extrapolated, and the line says where to measure.
+    let demo_text = std::fs::read_to_string(demo()).unwrap();
+    let above: String = demo_text
+        .lines()
+        .filter(|l| {
+            l.starts_with("series")
+                || (l.starts_with("PX-40 in mirane") && l.split(',').nth(2).is_some_and(|t| t >= "40"))
+        })
+        .map(|l| format!("{l}\n"))
+        .collect();
+    let dir = tempfile::tempdir().unwrap();
+    let file = write(dir.path(), "above.csv", &above);
+    let out = thetaseek().arg("analyze").arg(&file).args(["--bootstrap", "0"]).output().unwrap();
+    let text = String::from_utf8_lossy(&out.stdout);
+    let words = text.lines().find(|l| l.contains("in words:")).unwrap_or_else(|| panic!("{text}"));
+    assert!(words.contains("Next: θ lies outside the data"), "{words}");
+}
