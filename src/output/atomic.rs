@@ -98,8 +98,12 @@ impl AtomicFile {
 
 impl Drop for AtomicFile {
     fn drop(&mut self) {
-        // Uncommitted, tempfile removes the file itself; either way it is no longer in progress.
-        in_progress().retain(|p| *p != self.temp_path);
+        // Uncommitted, tempfile removes the file itself, under the list's lock so that a signal
+        // never finds the file present but no longer listed; either way it is no longer in
+        // progress.
+        let mut listed = in_progress();
+        drop(self.temp.take());
+        listed.retain(|p| *p != self.temp_path);
     }
 }
 

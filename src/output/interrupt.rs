@@ -35,7 +35,10 @@ pub fn clean_up_on_signals() {
         std::thread::spawn(move || {
             if let Some(signal) = signals.forever().next() {
                 let _renames_done = committing();
-                for path in in_progress().iter() {
+                // Held until the process ends: no temporary file is made (or given up) after
+                // the list is read.
+                let listed = in_progress();
+                for path in listed.iter() {
                     let _ = std::fs::remove_file(path);
                 }
                 std::process::exit(128 + signal);
