@@ -1,11 +1,18 @@
-//! Writes the invented demo dataset `data/px40-osmometry.csv`.
+//! Writes the invented demo datasets `data/px40-osmometry.csv` and `data/px40-viscometry.csv`.
 //!
 //! Scenario (invented, no real material): a fictional resin "PX-40" measured by membrane
 //! osmometry in two fictional solvents, "mirane" and "ostrol", at temperatures around each
 //! θ. Truth: Flory–Krigbaum A2(T) = (v̄²/V1) ψ1 (1 − θ/T), Stockmayer–Casassa curvature
 //! (g = 1/4) in good solvent, noise σ_Π = 0.3 Pa + 0.3 % of Π, fixed seed.
 //!
-//! Run: `cargo run --example make-demo` (rewrites the file).
+//! Viscometry (invented): four fractions of the same resin and the whole resin (whose molar
+//! mass the run takes from the osmotic Mn) in mirane at five temperatures, flow times in a
+//! capillary viscometer; truth [η] = Kθ M^½ α_η³, α_η³ = 1 + 3.0 (1 − θ_η/T) (M/150 kg/mol)^½
+//! (first order in the excluded volume, so the Stockmayer–Fixman lines are straight), θ_η =
+//! 33.5 °C (a viscometric θ a kelvin from the osmotic one, as it often is), Kθ = 0.075
+//! mL mol^½ g^-3/2, Huggins-exact dilution series, flow-time noise 0.05 s.
+//!
+//! Run: `cargo run --example make-demo` (rewrites both files).
 
 use rand::SeedableRng;
 use rand_chacha::ChaCha8Rng;
@@ -74,6 +81,63 @@ fn main() {
         }
     }
     let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("data/px40-osmometry.csv");
+    std::fs::write(&path, csv).expect("data/ is writable");
+    eprintln!("wrote {}", path.display());
+    write_viscometry(MN_G_PER_MOL, &mut rng);
+}
+
+/// The viscometry demo: flow times of four fractions and the whole resin in mirane.
+fn write_viscometry(whole_resin_g_per_mol: f64, rng: &mut ChaCha8Rng) {
+    use rand_distr::{Distribution, Normal};
+    use thetaseek::simulate::viscometry::{Expansion, ViscometryTruth};
+    let temperatures_c = [25.0, 30.0, 35.0, 40.0, 45.0];
+    let fractions: [(&str, Option<f64>, f64); 5] = [
+        ("PX-40 F1", Some(52_000.0), 52_000.0),
+        ("PX-40 F2", Some(98_000.0), 98_000.0),
+        ("PX-40 in mirane", None, whole_resin_g_per_mol),
+        ("PX-40 F3", Some(320_000.0), 320_000.0),
+        ("PX-40 F4", Some(610_000.0), 610_000.0),
+    ];
+    let truth = ViscometryTruth {
+        theta_k: 33.5 + CELSIUS_OFFSET_K,
+        // 0.075 mL mol^½ g^-3/2 → SI (÷ 10^1.5).
+        k_theta: 0.075 / 10f64.powf(1.5),
+        expansion: Expansion::FirstOrder { z: 3.0 },
+        reference_molar_mass: 150.0,
+        huggins_at_theta: 0.5,
+        molar_masses: Vec::new(),
+        temperatures_k: Vec::new(),
+        reduced_concentrations: Vec::new(),
+    };
+    let noise = Normal::new(0.0, 0.05).expect("a finite SD");
+    let mut csv = String::from(
+        "# INVENTED DEMO DATA: fractions of the fictional resin PX-40 in the fictional solvent mirane.\n\
+         # Made by `cargo run --example make-demo`: [eta] = K_theta M^0.5 (1 + 3.0 (1 - theta/T) (M/150000)^0.5),\n\
+         # theta = 33.5 C, K_theta = 0.075 mL mol^0.5 g^-1.5, Huggins dilution series, flow-time noise 0.05 s.\n\
+         # The whole resin's row has no molar mass: the run takes the osmotic Mn of series 'PX-40 in mirane'.\n\
+         series,solvent,fraction,molar mass (g/mol),temperature (C),concentration (g/dL),flow time (s)\n",
+    );
+    for &t_c in &temperatures_c {
+        let t_k = t_c + CELSIUS_OFFSET_K;
+        // The solvent's flow time falls as it warms (an invented Arrhenius-like trend).
+        let t0 = 120.0 * (1200.0 * (1.0 / t_k - 1.0 / 298.15)).exp();
+        for _ in 0..3 {
+            let _ = writeln!(csv, "PX-40 in mirane,mirane,,,{t_c:.1},0,{:.2}", t0 + noise.sample(rng));
+        }
+        for (name, molar_mass, m_g) in fractions {
+            let eta = truth.intrinsic(m_g * 1e-3, t_k);
+            let kh = truth.huggins(t_k);
+            for u in [0.2, 0.3, 0.4, 0.5, 0.6] {
+                // c in kg/m³ → g/dL (÷ 10), rounded as a balance would give it.
+                let c_g_dl = ((u / eta) / 10.0 * 1e4).round() / 1e4;
+                let x = eta * c_g_dl * 10.0;
+                let t = t0 * (1.0 + x + kh * x * x) + noise.sample(rng);
+                let mass = molar_mass.map_or(String::new(), |m| format!("{m:.0}"));
+                let _ = writeln!(csv, "PX-40 in mirane,mirane,{name},{mass},{t_c:.1},{c_g_dl:.4},{t:.2}");
+            }
+        }
+    }
+    let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("data/px40-viscometry.csv");
     std::fs::write(&path, csv).expect("data/ is writable");
     eprintln!("wrote {}", path.display());
 }

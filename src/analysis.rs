@@ -3,8 +3,10 @@
 //! straight to θ, critical temperatures to the Shultz–Flory line. Series run in parallel.
 //! Pure computation: no files, no printing.
 
+use crate::chain_dimensions::UnperturbedDimensions;
 use crate::dataset::{
-    CriticalSeries, Dataset, Quantity, Route, ScatteringRow, ScatteringSeries, Series, TabulatedSeries, Volumes,
+    CriticalSeries, Dataset, Quantity, Route, ScatteringRow, ScatteringSeries, Series, TabulatedSeries,
+    ViscometrySeries, Volumes,
 };
 use crate::progress::Progress;
 use crate::scattering::{self, ScatteringFit};
@@ -16,6 +18,7 @@ use crate::virial::{
     choose_noise, choose_series_forms, fit_temperature, flag_outliers, pool_standard_errors, FormChoice, PressureNoise,
     SkippedTemperature, TemperatureFit, VirialForm,
 };
+use crate::viscometry::{analyze_viscometry, KnownMolarMass, ViscometryResult, ViscometrySettings};
 use rayon::prelude::*;
 use serde::Serialize;
 
@@ -23,7 +26,8 @@ use serde::Serialize;
 /// other routes, and for each osmometry series one plus its bootstrap replicates.
 pub fn work_units(dataset: &Dataset, settings: &Settings) -> u64 {
     osmometry_work_units(dataset.series.len(), settings)
-        + (dataset.tabulated.len() + dataset.critical.len() + dataset.scattering.len()) as u64
+        + (dataset.tabulated.len() + dataset.critical.len() + dataset.scattering.len() + dataset.viscometry.len())
+            as u64
 }
 
 /// Units of work of `series` osmometry series.
@@ -40,11 +44,18 @@ pub struct Settings {
     pub theta: ThetaSettings,
     /// v̄ and V1 for every series that does not give its own.
     pub volumes: Option<Volumes>,
+    /// The viscometry route's constants (Φ0, the repeat unit).
+    pub viscometry: ViscometrySettings,
 }
 
 impl Default for Settings {
     fn default() -> Self {
-        Settings { virial: FormChoice::Auto, theta: ThetaSettings::default(), volumes: None }
+        Settings {
+            virial: FormChoice::Auto,
+            theta: ThetaSettings::default(),
+            volumes: None,
+            viscometry: ViscometrySettings::default(),
+        }
     }
 }
 
@@ -97,12 +108,19 @@ pub struct SeriesResult {
     pub critical: Option<CriticalRoute>,
     /// Per-temperature Zimm fits of a light-scattering series.
     pub scattering: Vec<ScatteringFit>,
+    /// The viscometry route's results.
+    pub viscometry: Option<ViscometryResult>,
+    /// ⟨r²⟩0/M where this series measured it (viscometry, or light scattering at θ).
+    pub dimensions: Option<UnperturbedDimensions>,
 }
 
 impl SeriesResult {
-    /// This series' θ for the routes' comparison: the headline θ with its SE, or the
-    /// Shultz–Flory θ.
+    /// This series' θ for the routes' comparison: the headline θ with its SE, the
+    /// Shultz–Flory θ, or the viscometric θ.
     pub fn route_theta(&self) -> Option<RouteTheta> {
+        if let Some(v) = &self.viscometry {
+            return v.route_theta();
+        }
         match (&self.theta, &self.critical) {
             (Some(t), _) => Some(RouteTheta {
                 route: self.route,
@@ -135,7 +153,30 @@ impl SeriesResult {
             reason: None,
             critical: None,
             scattering: Vec::new(),
+            viscometry: None,
+            dimensions: None,
         }
+    }
+
+    /// The molar mass this series measured, for viscometry fractions named like it: the
+    /// inverse-variance mean of the osmotic Mn, or of the light-scattering Mw, over temperatures.
+    pub fn known_molar_mass(&self) -> Option<KnownMolarMass> {
+        let values: Vec<(f64, f64)> = match self.route {
+            Route::Osmometry => self.fits.iter().map(|f| (f.fit.mn(), f.mn_se())).collect(),
+            // Report units (g/mol) back to kg/mol.
+            Route::LightScattering => {
+                self.scattering.iter().map(|f| (f.mw_g_per_mol * 1e-3, f.mw_se_g_per_mol * 1e-3)).collect()
+            }
+            _ => return None,
+        };
+        let usable: Vec<(f64, f64)> =
+            values.into_iter().filter(|(m, se)| m.is_finite() && *m > 0.0 && se.is_finite() && *se > 0.0).collect();
+        if usable.is_empty() {
+            return None;
+        }
+        let w_sum: f64 = usable.iter().map(|(_, se)| 1.0 / (se * se)).sum();
+        let mean = usable.iter().map(|(m, se)| m / (se * se)).sum::<f64>() / w_sum;
+        Some(KnownMolarMass { name: self.name.clone(), molar_mass: mean, route: self.route })
     }
 }
 
@@ -209,6 +250,8 @@ pub fn analyze_series_with_progress(
         reason: None,
         critical: None,
         scattering: Vec::new(),
+        viscometry: None,
+        dimensions: None,
     }
 }
 
@@ -248,9 +291,10 @@ pub fn analyze_scattering(series: &ScatteringSeries, settings: &Settings) -> Ser
     // the line's lack-of-fit test where the points scatter more.
     let theta =
         theta_from_points(&scattering::points(&fits), SeBasis::Known, Quantity::SecondVirial, volumes, &settings.theta);
-    if let Some(t) = theta.theta_k {
+    let dimensions = theta.theta_k.and_then(|t| {
         scattering::set_expansion(&mut fits, t);
-    }
+        scattering::unperturbed_dimensions(&fits, t, settings.viscometry.repeat_unit.as_ref())
+    });
     let empty = SeriesResult::empty(&series.name, Route::LightScattering, Quantity::SecondVirial);
     if fits.is_empty() {
         return SeriesResult {
@@ -259,12 +303,34 @@ pub fn analyze_scattering(series: &ScatteringSeries, settings: &Settings) -> Ser
             ..empty
         };
     }
-    SeriesResult { theta: Some(theta), scattering: fits, ..empty }
+    SeriesResult { theta: Some(theta), scattering: fits, dimensions, ..empty }
+}
+
+/// A viscometry series: [η] per fraction and temperature, the lines across fractions, the
+/// viscometric θ and the unperturbed dimensions; fractions without a molar mass take one from
+/// `known` (other routes' series of the same name).
+pub fn analyze_viscometry_series(
+    series: &ViscometrySeries,
+    known: &[KnownMolarMass],
+    settings: &Settings,
+) -> SeriesResult {
+    let viscometry_settings = ViscometrySettings { confidence: settings.theta.confidence, ..settings.viscometry };
+    let empty = SeriesResult::empty(&series.name, Route::Viscometry, Quantity::SecondVirial);
+    match analyze_viscometry(series, known, &viscometry_settings) {
+        Ok((result, dimensions)) => SeriesResult { viscometry: Some(result), dimensions, ..empty },
+        Err(reason) => SeriesResult { status: Status::Refused, reason: Some(reason), ..empty },
+    }
 }
 
 /// Every series of the routes other than osmometry, in parallel, in the dataset's order:
-/// tables, then critical temperatures, then light scattering.
-pub fn analyze_other_routes(dataset: &Dataset, settings: &Settings, progress: &dyn Progress) -> Vec<SeriesResult> {
+/// tables, critical temperatures, light scattering, then viscometry (whose fractions may take
+/// their molar mass from `known`, the osmometry series' Mn, or from the light-scattering Mw).
+pub fn analyze_other_routes(
+    dataset: &Dataset,
+    settings: &Settings,
+    progress: &dyn Progress,
+    known: &[KnownMolarMass],
+) -> Vec<SeriesResult> {
     let done = |r: SeriesResult| {
         progress.advance(1);
         r
@@ -273,6 +339,11 @@ pub fn analyze_other_routes(dataset: &Dataset, settings: &Settings, progress: &d
         dataset.tabulated.par_iter().map(|s| done(analyze_tabulated(s, settings))).collect();
     results.extend(dataset.critical.par_iter().map(|s| done(analyze_critical(s, settings))).collect::<Vec<_>>());
     results.extend(dataset.scattering.par_iter().map(|s| done(analyze_scattering(s, settings))).collect::<Vec<_>>());
+    let mut known = known.to_vec();
+    known.extend(results.iter().filter_map(SeriesResult::known_molar_mass));
+    results.extend(
+        dataset.viscometry.par_iter().map(|s| done(analyze_viscometry_series(s, &known, settings))).collect::<Vec<_>>(),
+    );
     results
 }
 
@@ -290,7 +361,8 @@ pub fn analyze_with_progress(dataset: &Dataset, settings: &Settings, progress: &
         .enumerate()
         .map(|(i, s)| analyze_series_with_progress(s, settings, i as u64, progress))
         .collect();
-    results.extend(analyze_other_routes(dataset, settings, progress));
+    let known: Vec<KnownMolarMass> = results.iter().filter_map(SeriesResult::known_molar_mass).collect();
+    results.extend(analyze_other_routes(dataset, settings, progress, &known));
     results
 }
 

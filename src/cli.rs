@@ -222,6 +222,22 @@ pub struct ReadArgs {
     /// `--column temperature="Temp (°C)"` (repeatable; the unit in brackets is still read).
     #[arg(long = "column", value_name = "NAME=HEADER")]
     pub columns: Vec<String>,
+
+    /// Viscometry: the Flory–Fox constant Φ0 in mol⁻¹, for ⟨r²⟩0/M = (Kθ/Φ0)^(2/3).
+    #[arg(long, value_name = "PER_MOL", default_value_t = thetaseek::chain_dimensions::DEFAULT_FLORY_FOX_PER_MOL, value_parser = parse_positive)]
+    pub flory_fox_constant: f64,
+
+    /// Molar mass of the polymer's repeat unit in g/mol: adds the characteristic ratio C∞.
+    #[arg(long, value_name = "G_PER_MOL", value_parser = parse_positive)]
+    pub repeat_unit_molar_mass: Option<f64>,
+
+    /// Backbone bonds per repeat unit, for C∞ (2 for a vinyl polymer).
+    #[arg(long, value_name = "COUNT", default_value_t = 2.0, value_parser = parse_positive)]
+    pub backbone_bonds: f64,
+
+    /// Backbone bond length in nm, for C∞ (0.154 nm, a carbon–carbon single bond).
+    #[arg(long, value_name = "NM", default_value_t = 0.154, value_parser = parse_positive)]
+    pub bond_length: f64,
 }
 
 /// Virial form used at each temperature.

@@ -21,6 +21,7 @@
 #![warn(missing_docs)]
 
 pub mod analysis;
+pub mod chain_dimensions;
 pub mod dataset;
 pub mod design;
 pub mod error;
@@ -42,3 +43,4 @@ pub mod theta;
 pub mod uncertainty;
 pub mod units;
 pub mod virial;
+pub mod viscometry;

@@ -227,3 +227,48 @@ pub fn set_expansion(fits: &mut [ScatteringFit], theta_k: f64) {
         }
     }
 }
+
+/// ⟨r²⟩0/M = 6 Rg²(θ)/Mw (SI, m² mol/kg) from the temperatures with angles that bracket θ:
+/// Rg² interpolated linearly in T, Mw the inverse-variance mean over every temperature. The SE
+/// propagates both Rg SEs (the interpolation weights) and the Mw SE. Rg is a z-average and Mw a
+/// weight average: for a polydisperse sample the ratio overstates ⟨r²⟩0/M (the words say so).
+pub fn unperturbed_dimensions(
+    fits: &[ScatteringFit],
+    theta_k: f64,
+    repeat_unit: Option<&crate::chain_dimensions::RepeatUnit>,
+) -> Option<crate::chain_dimensions::UnperturbedDimensions> {
+    let with_rg: Vec<(f64, f64, f64)> =
+        fits.iter().filter_map(|f| Some((f.temperature_k, f.rg_nm? * 1e-9, f.rg_se_nm? * 1e-9))).collect();
+    let w = with_rg.windows(2).find(|w| w[0].0 <= theta_k && theta_k <= w[1].0)?;
+    let f = (theta_k - w[0].0) / (w[1].0 - w[0].0);
+    let (r0, r1) = (w[0].1, w[1].1);
+    let rg2 = (1.0 - f) * r0 * r0 + f * r1 * r1;
+    // SE of Rg² from each Rg: d(Rg²) = 2 Rg dRg, weighted by the interpolation.
+    let rg2_se = ((1.0 - f) * 2.0 * r0 * w[0].2).hypot(f * 2.0 * r1 * w[1].2);
+    let mws: Vec<(f64, f64)> = fits
+        .iter()
+        .filter(|f| f.mw_g_per_mol.is_finite() && f.mw_se_g_per_mol > 0.0)
+        .map(|f| (f.mw_g_per_mol * 1e-3, f.mw_se_g_per_mol * 1e-3))
+        .collect();
+    if mws.is_empty() {
+        return None;
+    }
+    let w_sum: f64 = mws.iter().map(|(_, s)| 1.0 / (s * s)).sum();
+    let mw = mws.iter().map(|(m, s)| m / (s * s)).sum::<f64>() / w_sum;
+    let mw_se = w_sum.sqrt().recip();
+    let rg = rg2.sqrt();
+    let (value, se) = crate::chain_dimensions::r2_over_m_from_radius(rg, rg2_se / (2.0 * rg), mw, mw_se);
+    Some(crate::chain_dimensions::UnperturbedDimensions::new(
+        (value, Some(se)),
+        crate::dataset::Route::LightScattering,
+        format!(
+            "6 Rg²/Mw at θ ({:.2} °C), Rg² interpolated between {:.2} and {:.2} °C (z-average Rg over weight-average Mw: high for a broad sample)",
+            crate::units::kelvin_to_celsius(theta_k),
+            crate::units::kelvin_to_celsius(w[0].0),
+            crate::units::kelvin_to_celsius(w[1].0)
+        ),
+        theta_k,
+        None,
+        repeat_unit,
+    ))
+}

@@ -164,7 +164,7 @@ pub fn kelvin_to_celsius(t_k: f64) -> f64 {
 /// 273.15 has no exact binary form, so a bare shift turns 275.41 K into 2.2600000000000477 °C
 /// and 2.26 °C into 275.40999999999997 K; a reader of the report should see 2.26 and 275.41.
 /// One nanokelvin is far below any thermostat's resolution, so no result moves measurably.
-fn round_to_nanokelvin(t: f64) -> f64 {
+pub fn round_to_nanokelvin(t: f64) -> f64 {
     (t * 1.0e9).round() / 1.0e9
 }
 
@@ -382,6 +382,47 @@ impl AngleUnit {
         value * self.factor()
     }
 }
+
+unit_enum!(
+    /// Flow (efflux) time of a capillary viscometer.
+    TimeUnit, "flow time", "s", {
+        /// Second.
+        Second => "s", ["sec", "seconds"], 1.0;
+        /// Minute = 60 s (SI brochure table 8).
+        Minute => "min", [], 60.0;
+    }
+);
+
+impl TimeUnit {
+    /// Value in this unit → s.
+    pub fn to_si(self, value: f64) -> f64 {
+        value * self.factor()
+    }
+}
+
+unit_enum!(
+    /// Intrinsic viscosity [η] (a reciprocal concentration).
+    IntrinsicViscosityUnit, "intrinsic viscosity", "m3/kg", {
+        /// mL/g = cm³/g = 10⁻³ m³/kg.
+        MillilitrePerGram => "mL/g", ["cm3/g", "cc/g"], 1.0e-3;
+        /// dL/g = 100 mL/g = 10⁻¹ m³/kg.
+        DecilitrePerGram => "dL/g", [], 1.0e-1;
+        /// L/g = 1 m³/kg.
+        LitrePerGram => "L/g", [], 1.0;
+        /// m³/kg.
+        CubicMetrePerKilogram => "m3/kg", [], 1.0;
+    }
+);
+
+impl IntrinsicViscosityUnit {
+    /// Value in this unit → m³/kg.
+    pub fn to_si(self, value: f64) -> f64 {
+        value * self.factor()
+    }
+}
+
+/// Intrinsic viscosity: report unit (mL/g) per SI unit (m³/kg).
+pub const ML_PER_G_PER_M3_PER_KG: f64 = 1.0e3;
 
 /// Optical constant of light scattering, K = 4π² n0² (dn/dc)² / (N_A λ0⁴), mol m²/kg², from n0,
 /// dn/dc in m³/kg and λ0 (vacuum wavelength) in m.

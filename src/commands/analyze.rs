@@ -4,6 +4,7 @@ use super::sinks::{Finished, RunOutputs};
 use super::{check_outputs, hashing, load, open_input, unused_columns, Bar, Loaded, PendingOutput};
 use crate::cli::{AnalyzeArgs, DetailArg, ReadArgs, VirialArg};
 use thetaseek::analysis::{self, Settings};
+use thetaseek::chain_dimensions::RepeatUnit;
 use thetaseek::dataset::{Series, Volumes};
 use thetaseek::error::Error;
 use thetaseek::input::{BlockReader, Opened, ReadOptions, BLOCK_BYTES};
@@ -13,6 +14,7 @@ use thetaseek::report::{Detail, InputFile, ReportSettings};
 use thetaseek::theta::ThetaSettings;
 use thetaseek::units::{ConcentrationUnit, PressureUnit, TemperatureUnit};
 use thetaseek::virial::{FormChoice, VirialForm};
+use thetaseek::viscometry::ViscometrySettings;
 
 /// Runs the subcommand: one path for every size of input. The input yields series as it is
 /// read ([`read_into`]), [`RunOutputs`] analyses them a chunk at a time and writes the JSON and
@@ -275,7 +277,7 @@ fn analyse_loaded<'a>(
     outputs.analyse(&series, run.bar)?;
     // Freeing 10⁵ small vectors takes tens of milliseconds: done beside the rest of the run.
     let freeing = std::thread::spawn(move || drop(series));
-    let others = analysis::analyze_other_routes(&dataset, run.settings, run.bar);
+    let others = analysis::analyze_other_routes(&dataset, run.settings, run.bar, outputs.known_molar_masses());
     outputs.add(&others, solvent_of)?;
     outputs.add_refused(&refused)?;
     warnings.extend(volumes.finish());
@@ -462,7 +464,21 @@ fn settings(args: &AnalyzeArgs) -> Result<Settings, Error> {
             virial,
         },
         volumes,
+        viscometry: viscometry_settings(&args.read, args.confidence),
     })
+}
+
+/// The viscometry route's constants from the command line (g/mol → kg/mol, nm → m).
+pub(crate) fn viscometry_settings(read: &ReadArgs, confidence: f64) -> ViscometrySettings {
+    ViscometrySettings {
+        confidence,
+        flory_fox_per_mol: read.flory_fox_constant,
+        repeat_unit: read.repeat_unit_molar_mass.map(|m| RepeatUnit {
+            molar_mass: m * 1e-3,
+            bonds: read.backbone_bonds,
+            bond_length_m: read.bond_length * 1e-9,
+        }),
+    }
 }
 
 pub(crate) fn read_options(args: &ReadArgs) -> Result<ReadOptions, Error> {

@@ -347,6 +347,7 @@ impl Loading {
         self.solvents.extend(contents.solvents);
         self.other_routes.critical.extend(contents.critical);
         self.other_routes.scattering.extend(contents.scattering);
+        self.other_routes.viscometry.extend(contents.viscometry);
         self.refused.extend(contents.refused);
     }
 

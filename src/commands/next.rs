@@ -70,6 +70,7 @@ pub fn run(args: &NextArgs) -> Result<(), Error> {
             virial: super::analyze::virial_choice(args.read.virial),
             theta: ThetaSettings { confidence: args.confidence, bootstrap_replicates: 0, ..ThetaSettings::default() },
             volumes: None,
+            viscometry: super::analyze::viscometry_settings(&args.read, args.confidence),
         };
         let results = analysis::analyze(&dataset, &settings);
         for (series, result) in dataset.series.iter().zip(&results) {

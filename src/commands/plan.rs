@@ -39,6 +39,7 @@ pub fn run(args: &PlanArgs) -> Result<(), Error> {
             virial: super::analyze::virial_choice(args.read.virial),
             theta: ThetaSettings { confidence: args.confidence, bootstrap_replicates: 0, ..ThetaSettings::default() },
             volumes: None,
+            viscometry: super::analyze::viscometry_settings(&args.read, args.confidence),
         };
         let results = analysis::analyze(&dataset, &analysis_settings);
         let report = Report::new(

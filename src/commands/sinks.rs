@@ -17,6 +17,7 @@ use thetaseek::report::{
     self, Detail, InputFile, Report, ReportSettings, ReportStream, SeriesFilter, SeriesReport, Tally,
 };
 use thetaseek::theta::RouteTheta;
+use thetaseek::viscometry::KnownMolarMass;
 
 /// Series analysed and written together (one chunk is written while the next is analysed):
 /// enough to keep both cores busy, few enough that the two chunks in flight stay a few
@@ -114,6 +115,8 @@ struct Analysed {
     json: Vec<u8>,
     route: Option<RouteTheta>,
     full: Option<SeriesReport>,
+    /// The series' Mn (or Mw), for viscometry fractions named like it.
+    known: Option<KnownMolarMass>,
 }
 
 /// Every output of one `analyze` run, open and being written.
@@ -136,6 +139,8 @@ pub struct RunOutputs<'a> {
     kept: Option<Vec<SeriesReport>>,
     /// Each series' θ, for the routes' comparison.
     route_thetas: Vec<(String, Option<RouteTheta>)>,
+    /// The molar masses the series measured, for the viscometry route.
+    known: Vec<KnownMolarMass>,
     /// Series analysed so far (each one's bootstrap seed follows its index).
     analysed: u64,
     /// The last chunk analysed, written while the next one is analysed.
@@ -164,6 +169,7 @@ impl<'a> RunOutputs<'a> {
             terminal: (full && !args.quiet).then(String::new),
             kept: (args.figures.is_some() || args.html.is_some()).then(Vec::new),
             route_thetas: Vec::new(),
+            known: Vec::new(),
             analysed: 0,
             pending: None,
             stdout_taken,
@@ -188,6 +194,11 @@ impl<'a> RunOutputs<'a> {
             }
         }
         Ok(())
+    }
+
+    /// The molar masses measured by the series written so far (osmometry Mn).
+    pub fn known_molar_masses(&self) -> &[KnownMolarMass] {
+        &self.known
     }
 
     /// Series analysed so far.
@@ -215,6 +226,8 @@ impl<'a> RunOutputs<'a> {
             let previous = self.pending.take();
             let (written, reports) = rayon::join(|| previous.map_or(Ok(()), |p| self.emit(p)), analyse);
             written?;
+            // Known before the chunk is written: the other routes run before the last write.
+            self.known.extend(reports.iter().filter_map(|a| a.known.clone()));
             self.pending = Some(reports);
             self.analysed += chunk.len() as u64;
         }
@@ -239,7 +252,7 @@ impl<'a> RunOutputs<'a> {
                 let report = SeriesReport::refused_input(r);
                 let json = if want_json { report::series_json(&report, detail) } else { Vec::new() };
                 let full = keep.then(|| report.clone());
-                Analysed { report, json, route: None, full }
+                Analysed { report, json, route: None, full, known: None }
             })
             .collect();
         self.add_analysed(reports)
@@ -376,7 +389,7 @@ fn prepared(
     };
     report.solvent = solvent;
     let json = if want_json { report::series_json(&report, detail) } else { Vec::new() };
-    Analysed { report, json, route: result.route_theta(), full }
+    Analysed { report, json, route: result.route_theta(), full, known: result.known_molar_mass() }
 }
 
 /// What a finished run still has to write: files to commit, and what to draw and print.

@@ -51,6 +51,18 @@ pub enum Role {
     Angle,
     /// Why a reading is excluded (empty: it is used).
     Exclude,
+    /// Flow (efflux) time of a solution in a capillary viscometer.
+    FlowTime,
+    /// Flow time of the pure solvent in the same viscometer.
+    SolventFlowTime,
+    /// Relative viscosity η/η0 of a solution.
+    RelativeViscosity,
+    /// Intrinsic viscosity [η] already extrapolated to zero concentration.
+    IntrinsicViscosity,
+    /// Standard deviation of [η].
+    IntrinsicViscositySd,
+    /// Name of a fraction within a series (viscometry).
+    Fraction,
 }
 
 impl Role {
@@ -81,6 +93,12 @@ impl Role {
             Role::RayleighRatio => "rayleigh ratio",
             Role::Angle => "angle",
             Role::Exclude => "exclude",
+            Role::FlowTime => "flow time",
+            Role::SolventFlowTime => "solvent flow time",
+            Role::RelativeViscosity => "relative viscosity",
+            Role::IntrinsicViscosity => "intrinsic viscosity",
+            Role::IntrinsicViscositySd => "intrinsic viscosity sd",
+            Role::Fraction => "fraction",
         }
     }
 
@@ -144,6 +162,16 @@ const NAMES: &[(&str, Role)] = &[
     ("exclude", Role::Exclude),
     ("excluded", Role::Exclude),
     ("exclusion", Role::Exclude),
+    ("flow time", Role::FlowTime),
+    ("efflux time", Role::FlowTime),
+    ("solvent flow time", Role::SolventFlowTime),
+    ("solvent efflux time", Role::SolventFlowTime),
+    ("relative viscosity", Role::RelativeViscosity),
+    ("viscosity ratio", Role::RelativeViscosity),
+    ("intrinsic viscosity", Role::IntrinsicViscosity),
+    ("limiting viscosity number", Role::IntrinsicViscosity),
+    ("intrinsic viscosity sd", Role::IntrinsicViscositySd),
+    ("fraction", Role::Fraction),
 ];
 
 /// A header cell that looks like `role` under another name (`Temp (°C)`, `Conc (g/dL)`,

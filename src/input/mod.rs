@@ -6,11 +6,12 @@
 //!
 //! The kind of file is recognised from its columns: `pressure` or `head` → osmometry
 //! readings; `a2` → A2 already fitted at each temperature; `chi` → χ at each temperature;
-//! `critical temperature` → fractions; `kc/r` or `rayleigh ratio` → light scattering.
+//! `critical temperature` → fractions; `kc/r` or `rayleigh ratio` → light scattering;
+//! `flow time`, `relative viscosity` or `intrinsic viscosity` → viscometry.
 //!
 //! Files: `checks` (bytes before parsing) → `scan` (records and line numbers) →
 //! `table` (polars' text columns, each value parsed and checked) → one reader per kind of
-//! file (`osmometry`, `tabulated`, `critical`, `light_scattering`; `solvents` for the
+//! file (`osmometry`, `tabulated`, `critical`, `light_scattering`, `viscometry`; `solvents` for the
 //! solvents table); `blocks` reads a large osmometry file a block at a time, `workbook`
 //! and `separators` turn spreadsheets and `;`/tab files into the same CSV text, `columns`
 //! recognises header cells and their units.
@@ -26,6 +27,7 @@ mod separators;
 mod solvents;
 mod table;
 mod tabulated;
+mod viscometry;
 mod workbook;
 
 pub use blocks::{read_source, BlockReader, Opened, BLOCK_BYTES};
@@ -42,6 +44,7 @@ pub use solvents::{read_solvents, SolventProperties};
 pub use table::map_columns;
 use table::*;
 use tabulated::*;
+use viscometry::*;
 
 use crate::dataset::{CriticalRow, Quantity, ScatteringRow, TemperaturePoint, Volumes};
 use crate::dataset::{ExcludedReading, GroupedReadings, Measurement, Origin, TabulatedRow};
@@ -135,6 +138,8 @@ pub struct FileContents {
     pub critical: Vec<CriticalRow>,
     /// Static light-scattering readings.
     pub scattering: Vec<ScatteringRow>,
+    /// Viscometry rows (flow times already turned into relative viscosities).
+    pub viscometry: Vec<crate::dataset::ViscometryRow>,
     /// Header cells that were not recognised and so were not used.
     pub ignored_columns: Vec<String>,
     /// Series refused for a value, in the order they were met.
@@ -232,6 +237,8 @@ fn read_table(mut table: Table, options: &ReadOptions) -> Result<FileContents, I
         read_critical(&table)?
     } else if table.has(Role::KcOverR) || table.has(Role::RayleighRatio) {
         read_scattering(&table, options)?
+    } else if table.has(Role::FlowTime) || table.has(Role::RelativeViscosity) || table.has(Role::IntrinsicViscosity) {
+        read_viscometry(&table, options)?
     } else {
         return Err(InputError::at(
             name,

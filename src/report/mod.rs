@@ -160,7 +160,8 @@ pub struct SeriesReport {
     pub skipped_temperatures: Vec<SkippedReport>,
     /// The θ analysis (null for refused series).
     pub theta: Option<ThetaReport>,
-    /// `osmometry`, `a2_table`, `chi_table` or `critical_temperatures`.
+    /// `osmometry`, `a2_table`, `chi_table`, `critical_temperatures`, `light_scattering` or
+    /// `viscometry`.
     pub route: Route,
     /// The Shultz–Flory result of a critical-temperature series.
     pub critical: Option<crate::theta::CriticalRoute>,
@@ -173,6 +174,13 @@ pub struct SeriesReport {
     /// Readings excluded in the `exclude` column, with their reasons (absent when none).
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub excluded_readings: Vec<ExcludedReport>,
+    /// The viscometry route's results: [η] per fraction and temperature, the Mark–Houwink
+    /// and Stockmayer–Fixman lines, the viscometric θ (absent for other routes).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub viscometry: Option<crate::viscometry::ViscometryResult>,
+    /// ⟨r²⟩0/M where this series measured it (viscometry, or light scattering with angles at θ).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub unperturbed_dimensions: Option<crate::chain_dimensions::UnperturbedDimensions>,
 }
 
 /// A reading the scientist excluded, in report units (null where the cell held no number).
@@ -400,6 +408,8 @@ impl SeriesReport {
             light_scattering: Vec::new(),
             fit_warnings: 0,
             excluded_readings: Vec::new(),
+            viscometry: None,
+            unperturbed_dimensions: None,
         }
     }
 
@@ -435,13 +445,16 @@ impl SeriesReport {
         if let Some(t) = &result.theta {
             warnings.extend(t.warnings.iter().cloned());
         }
+        if let Some(v) = &result.viscometry {
+            warnings.extend(v.warnings.iter().cloned());
+        }
         // A light-scattering series without a fitted temperature shows no θ (its warnings say why).
         let theta = result
             .theta
             .as_ref()
             .filter(|_| result.route != Route::LightScattering || !result.scattering.is_empty())
             .map(|t| ThetaReport::new(t, result.quantity));
-        let fit_warnings = result.fits.iter().map(|f| f.warnings.len()).sum();
+        let fit_warnings: usize = result.fits.iter().map(|f| f.warnings.len()).sum();
         SeriesReport {
             name: result.name.clone(),
             reading_noise: result.noise,
@@ -455,8 +468,11 @@ impl SeriesReport {
             route: result.route,
             critical: result.critical.clone(),
             light_scattering: result.scattering.clone(),
-            fit_warnings,
+            fit_warnings: fit_warnings
+                + result.viscometry.as_ref().map_or(0, |v| v.dilutions.iter().map(|d| d.warnings.len()).sum()),
             excluded_readings,
+            viscometry: result.viscometry.clone(),
+            unperturbed_dimensions: result.dimensions.clone(),
         }
     }
 
@@ -481,7 +497,9 @@ impl SeriesReport {
 
 /// A series that needs a look: refused, partial, without a bracketed θ, or with warnings.
 pub fn needs_attention(s: &SeriesReport) -> bool {
+    let viscometric = s.viscometry.as_ref().map(|v| v.viscometric_theta.as_ref().map(|t| t.crossing));
     let bracketed = match (&s.theta, &s.critical) {
+        _ if viscometric.is_some() => viscometric.flatten() == Some(crate::theta::Crossing::Bracketed),
         (Some(t), _) => t.crossing == crate::theta::Crossing::Bracketed,
         // The Shultz–Flory route has no crossing: its θ is a limit.
         (None, Some(_)) => true,

@@ -82,7 +82,7 @@ fn header(out: &mut Vec<u8>, names: &[&str]) {
     line.end();
 }
 
-const TABLE_HEADER: [&str; 16] = [
+const TABLE_HEADER: [&str; 27] = [
     "series",
     "series status",
     "temperature (K)",
@@ -99,9 +99,25 @@ const TABLE_HEADER: [&str; 16] = [
     "reduced chi2",
     "warnings",
     "excluded readings",
+    "fraction",
+    "molar mass (g/mol)",
+    "intrinsic viscosity (mL/g)",
+    "intrinsic viscosity se (mL/g)",
+    "huggins constant",
+    "kraemer constant",
+    "mark-houwink exponent",
+    "mark-houwink exponent se",
+    "mark-houwink K (mL/g)",
+    "k theta (mL mol^0.5/g^1.5)",
+    "viscosity expansion factor",
 ];
 
-/// Renders the table: series, temperature, form, Mn, A2, A3 with SEs, dof, reduced χ², warnings.
+/// Columns of the table only viscometry rows fill.
+const VISCOMETRY_COLUMNS: usize = 11;
+
+/// Renders the table: series, temperature, form, Mn, A2, A3 with SEs, dof, reduced χ², warnings;
+/// a viscometry series gives one row per fraction and temperature ([η], kH, kK, and the
+/// temperature's Mark–Houwink a and K and Stockmayer–Fixman Kθ).
 pub fn table_csv(report: &Report) -> Vec<u8> {
     let mut out = Vec::new();
     table_rows_csv(&mut out, &report.series, true);
@@ -143,8 +159,46 @@ pub fn table_rows_csv(out: &mut Vec<u8>, series_reports: &[super::SeriesReport],
                     .filter(|e| e.temperature_k.is_some_and(|t| (t - f.temperature_k).abs() < 0.05))
                     .count(),
             );
+            (0..VISCOMETRY_COLUMNS).for_each(|_| line.number(None));
             line.end();
         }
+        if let Some(v) = &s.viscometry {
+            viscometry_rows(out, s, v);
+        }
+    }
+}
+
+/// One row per fraction and temperature of a viscometry series.
+fn viscometry_rows(out: &mut Vec<u8>, s: &super::SeriesReport, v: &crate::viscometry::ViscometryResult) {
+    for d in &v.dilutions {
+        let at = v.temperatures.iter().find(|t| (t.temperature_k - d.temperature_k).abs() < 1e-9);
+        let mut line = Line::new(out);
+        line.text(&s.name);
+        line.text(s.status.name());
+        line.number(Some(d.temperature_k));
+        line.number(Some(d.temperature_c));
+        line.count(d.n_readings);
+        // Virial form, Mn, A2, A3 (with SEs): osmometry's columns.
+        (0..7).for_each(|_| line.number(None));
+        match d.se_dof {
+            Some(dof) => line.count(dof),
+            None => line.number(None),
+        }
+        line.number(None);
+        line.text(&d.warnings.iter().map(|w| w.code.as_str()).collect::<Vec<_>>().join(";"));
+        line.count(0);
+        line.text(&d.fraction);
+        line.number(v.fractions.iter().find(|f| f.name == d.fraction).and_then(|f| f.molar_mass_g_per_mol));
+        line.number(Some(d.intrinsic_viscosity_ml_per_g));
+        line.number(d.intrinsic_viscosity_se_ml_per_g);
+        line.number(d.huggins_constant);
+        line.number(d.kraemer_constant);
+        line.number(at.and_then(|t| t.mark_houwink_exponent));
+        line.number(at.and_then(|t| t.mark_houwink_exponent_se));
+        line.number(at.and_then(|t| t.mark_houwink_k_ml_per_g));
+        line.number(at.and_then(|t| t.k_theta_ml_mol_half_per_g_three_halves));
+        line.number(d.viscosity_expansion_factor);
+        line.end();
     }
 }
 
@@ -157,7 +211,7 @@ pub enum SeriesFilter {
     NeedsAttention,
 }
 
-const SERIES_TABLE_HEADER: [&str; 13] = [
+const SERIES_TABLE_HEADER: [&str; 15] = [
     "series",
     "status",
     "theta (K)",
@@ -171,6 +225,8 @@ const SERIES_TABLE_HEADER: [&str; 13] = [
     "warnings",
     "reason",
     "excluded readings",
+    "route",
+    "unperturbed r2/M (nm2 mol/g)",
 ];
 
 /// One row per series: θ (K and °C), interval, crossing, weighted-mean Mn, warnings count.
@@ -197,20 +253,34 @@ pub fn series_table_rows_csv(
     };
     for s in series_reports.iter().filter(keep) {
         let theta = s.theta.as_ref();
+        let viscometric = s.viscometry.as_ref().and_then(|v| v.viscometric_theta.as_ref());
         let mut line = Line::new(out);
         line.text(&s.name);
         line.text(s.status.name());
-        let values: [fn(&super::ThetaReport) -> Option<f64>; 5] =
-            [|t| t.theta_k, |t| t.theta_c, |t| t.se_k, |t| t.ci_low_k, |t| t.ci_high_k];
-        for value in values {
-            line.number(theta.and_then(value));
+        match viscometric {
+            Some(v) => {
+                for value in [Some(v.theta_k), Some(v.theta_c), v.se_k, v.interval.low_k, v.interval.high_k] {
+                    line.number(value);
+                }
+                line.text(v.interval.kind.name());
+                line.text(v.crossing.name());
+            }
+            None => {
+                let values: [fn(&super::ThetaReport) -> Option<f64>; 5] =
+                    [|t| t.theta_k, |t| t.theta_c, |t| t.se_k, |t| t.ci_low_k, |t| t.ci_high_k];
+                for value in values {
+                    line.number(theta.and_then(value));
+                }
+                line.text(&theta.map_or("none".into(), |t| t.ci_kind.name().to_string()));
+                line.text(&theta.map_or("none".into(), |t| t.crossing.name().to_string()));
+            }
         }
-        line.text(&theta.map_or("none".into(), |t| t.ci_kind.name().to_string()));
-        line.text(&theta.map_or("none".into(), |t| t.crossing.name().to_string()));
         line.number(theta.and_then(|t| t.mn_consistency.as_ref().map(|m| m.mean_mn_g_per_mol)));
         line.count(s.warnings.len() + s.fit_warnings);
         line.text(s.reason.as_deref().or_else(|| theta.and_then(|t| t.reason.as_deref())).unwrap_or_default());
         line.count(s.excluded_readings.len());
+        line.text(s.route.name());
+        line.number(s.unperturbed_dimensions.as_ref().map(|d| d.unperturbed_r2_over_m_nm2_mol_per_g));
         line.end();
     }
 }

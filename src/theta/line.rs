@@ -51,6 +51,41 @@ pub enum LineVariance {
 /// it to 98–99 %; 0.10 holds every fifth within 92–95 %.
 pub const LACK_OF_FIT_P: f64 = 0.10;
 
+/// How far a weighted line's covariance rests on its points' SEs: the rule of
+/// [`InverseTemperatureLine::fit`], shared by every line fitted to values with SEs (the
+/// viscometry route's Mark–Houwink and Stockmayer–Fixman lines too).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct LineScatter {
+    /// Σw e²/dof with w = 1/SE² (null without SEs or dof).
+    pub reduced_chi2: Option<f64>,
+    /// P of a scatter at least this large if the SEs are right.
+    pub lack_of_fit_p: Option<f64>,
+    /// Which covariance was taken.
+    pub variance: LineVariance,
+    /// Factor on the SEs' covariance.
+    pub scale: f64,
+    /// Degrees of freedom of the quantile (None: normal).
+    pub dof: Option<usize>,
+}
+
+impl LineScatter {
+    /// The rule: without SEs the line's own scatter (t on its dof); with SEs, their covariance
+    /// and quantile (`basis`), scaled up by the reduced χ² only when the scatter exceeds them
+    /// at p < [`LACK_OF_FIT_P`] (then t on the line's dof). `rss_weighted` is Σw e².
+    pub fn judge(weighted: bool, rss_weighted: f64, line_dof: usize, basis: SeBasis) -> Self {
+        let reduced_chi2 = (weighted && line_dof > 0).then(|| rss_weighted / line_dof as f64);
+        let lack_of_fit_p = reduced_chi2.and_then(|r| scatter_p_value(r, line_dof, basis.dof()));
+        let (variance, scale, dof) = match (weighted, lack_of_fit_p) {
+            (false, _) => (LineVariance::Unweighted, 1.0, Some(line_dof)),
+            (true, Some(p)) if p < LACK_OF_FIT_P => {
+                (LineVariance::ScaledByScatter, reduced_chi2.unwrap_or(1.0), Some(line_dof))
+            }
+            (true, _) => (LineVariance::StandardErrors, 1.0, basis.dof()),
+        };
+        LineScatter { reduced_chi2, lack_of_fit_p, variance, scale, dof }
+    }
+}
+
 /// A weighted straight line of A2 (or 1/2 − χ) against 1/T.
 #[derive(Debug, Clone, PartialEq)]
 pub struct InverseTemperatureLine {
@@ -106,15 +141,8 @@ impl InverseTemperatureLine {
         let weight = |i: usize| weights.as_ref().map_or(1.0, |w| w[i]);
         let fit = linear::fit_core(n, 2, |i| linear::polynomial_row(u[i], 2), |i| points[i].value, weight, kind)?;
         let line_dof = fit.dof;
-        let reduced_chi2 = (weights.is_some() && line_dof > 0).then(|| fit.rss_weighted / line_dof as f64);
-        let lack_of_fit_p = reduced_chi2.and_then(|r| scatter_p_value(r, line_dof, basis.dof()));
-        let (variance, scale, dof) = match (weights.is_some(), lack_of_fit_p) {
-            (false, _) => (LineVariance::Unweighted, 1.0, Some(line_dof)),
-            (true, Some(p)) if p < LACK_OF_FIT_P => {
-                (LineVariance::ScaledByScatter, reduced_chi2.unwrap_or(1.0), Some(line_dof))
-            }
-            (true, _) => (LineVariance::StandardErrors, 1.0, basis.dof()),
-        };
+        let LineScatter { reduced_chi2, lack_of_fit_p, variance, scale, dof } =
+            LineScatter::judge(weights.is_some(), fit.rss_weighted, line_dof, basis);
         Ok(InverseTemperatureLine {
             x_centre,
             alpha: fit.coefficients[0],

@@ -20,7 +20,9 @@ pub use critical::{critical_route, CriticalRoute};
 pub use curved::CurvedFit;
 use flory::*;
 pub use joint::{joint_fit, JointFit};
-pub use line::{scatter_p_value, FittedLine, InverseTemperatureLine, LineVariance, SeBasis, ThetaSet, LACK_OF_FIT_P};
+pub use line::{
+    scatter_p_value, FittedLine, InverseTemperatureLine, LineScatter, LineVariance, SeBasis, ThetaSet, LACK_OF_FIT_P,
+};
 pub use mn_check::{mn_consistency, MnConsistency, MN_DRIFT_P};
 pub use result::*;
 pub use routes::{compare_routes, RouteComparison, RouteDifference, RouteTheta, DISAGREE_P};

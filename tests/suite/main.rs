@@ -26,3 +26,4 @@ mod routes;
 mod theta;
 mod unit_invariance;
 mod units;
+mod viscometry;

@@ -141,7 +141,7 @@ fn one_library_call_analyses_every_route_and_compares_them() {
     let osmometry = thetaseek::input::read_file("demo.csv", 0, &demo, &options).unwrap();
     let critical = thetaseek::input::read_file("tc.csv", 1, fractions(0.0).as_bytes(), &options).unwrap();
     let volumes: Vec<_> = osmometry.volumes.iter().chain(&critical.volumes).cloned().collect();
-    let routes = OtherRoutes { critical: critical.critical, scattering: Vec::new() };
+    let routes = OtherRoutes { critical: critical.critical, scattering: Vec::new(), viscometry: Vec::new() };
     let dataset = Dataset::new(osmometry.readings, &[], &[], routes, &volumes, &osmometry.solvents);
     let settings = thetaseek::analysis::Settings {
         volumes: Some(thetaseek::dataset::Volumes { specific_volume: 0.92e-3, molar_volume: 105e-6 }),

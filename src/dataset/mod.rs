@@ -1,6 +1,10 @@
 //! Measurements in the internal SI system, grouped into series and temperatures.
 //! Nothing here knows about files or polars: the input module produces these.
 
+mod viscometry;
+
+pub use viscometry::{ViscometryRow, ViscometrySeries, ViscosityValue};
+
 use serde::Serialize;
 use std::collections::HashMap;
 
@@ -65,6 +69,9 @@ pub enum Route {
     CriticalTemperatures,
     /// Static light scattering (Zimm fits per temperature).
     LightScattering,
+    /// Dilute-solution capillary viscometry of fractions (Mark–Houwink exponent per
+    /// temperature; the viscometric θ where it is ½).
+    Viscometry,
 }
 
 impl Route {
@@ -76,6 +83,7 @@ impl Route {
             Route::ChiTable => "chi_table",
             Route::CriticalTemperatures => "critical_temperatures",
             Route::LightScattering => "light_scattering",
+            Route::Viscometry => "viscometry",
         }
     }
 }
@@ -270,7 +278,7 @@ pub struct ScatteringSeries {
 }
 
 /// Every series of a run, by route, with v̄/V1 attached: osmometry, tabulated A2 and χ,
-/// critical temperatures and light scattering.
+/// critical temperatures, light scattering and viscometry.
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct Dataset {
     /// Osmometry series, first-seen order.
@@ -281,6 +289,8 @@ pub struct Dataset {
     pub critical: Vec<CriticalSeries>,
     /// Light-scattering series, first-seen order.
     pub scattering: Vec<ScatteringSeries>,
+    /// Viscometry series, first-seen order.
+    pub viscometry: Vec<ViscometrySeries>,
     /// The solvent of each series that names one: (series, solvent).
     pub solvents: Vec<(String, String)>,
 }
@@ -333,12 +343,19 @@ impl Dataset {
                 }),
             }
         }
-        Dataset { series, tabulated, critical, scattering, solvents: solvents.to_vec() }
+        let mut viscometry: Vec<ViscometrySeries> = Vec::new();
+        for row in routes.viscometry {
+            match viscometry.iter_mut().find(|s| s.name == row.series) {
+                Some(s) => s.rows.push(row),
+                None => viscometry.push(ViscometrySeries { name: row.series.clone(), rows: vec![row] }),
+            }
+        }
+        Dataset { series, tabulated, critical, scattering, viscometry, solvents: solvents.to_vec() }
     }
 
     /// Series of every route.
     pub fn len(&self) -> usize {
-        self.series.len() + self.tabulated.len() + self.critical.len() + self.scattering.len()
+        self.series.len() + self.tabulated.len() + self.critical.len() + self.scattering.len() + self.viscometry.len()
     }
 
     /// True when no route holds a series.
@@ -347,7 +364,7 @@ impl Dataset {
     }
 }
 
-/// Rows of the routes read as rows (critical temperatures, light scattering), for
+/// Rows of the routes read as rows (critical temperatures, light scattering, viscometry), for
 /// [`Dataset::new`] to group.
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct OtherRoutes {
@@ -355,6 +372,8 @@ pub struct OtherRoutes {
     pub critical: Vec<CriticalRow>,
     /// Light-scattering readings.
     pub scattering: Vec<ScatteringRow>,
+    /// Viscometry rows.
+    pub viscometry: Vec<ViscometryRow>,
 }
 
 /// Groups tabulated rows into series (first-seen order), temperatures ascending.

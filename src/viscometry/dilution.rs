@@ -1,0 +1,215 @@
+//! One fraction at one temperature: the intrinsic viscosity from the dilution series.
+//!
+//! Huggins ηsp/c = [η] + kH [η]² c and Kraemer ln ηrel/c = [η] + kK [η]² c, fitted together with
+//! one intercept [η] (weights c² and (ηrel c)²: a constant error in ηrel, as from flow times read
+//! to a fixed precision). Both lines come from the same readings, so their errors are one error
+//! seen twice: the covariance is propagated from each reading's ηrel (first order), with the
+//! error variance from the Huggins line's residuals (n − 2 degrees of freedom, t quantile).
+//! The two lines cannot both be straight (ln(1 + x) is not x): the shared intercept's distance to
+//! the farther of the two lines' own intercepts (its truncation, were either line exact) is added
+//! to its variance, so that the SE also covers the model (measured in `tests/suite/viscometry.rs`).
+//! One concentration gives the Solomon–Ciută estimate [η] = √(2 (ηsp − ln ηrel))/c, no SE.
+//! SI inside: c in kg/m³, [η] in m³/kg.
+
+use crate::numerics::linear::{self, Weights};
+use serde::{Deserialize, Serialize};
+
+/// kH − kK departs from ½ by more than this (and by more than 2.58 SE) → a warning. The
+/// identity holds to first order in [η]c; over the usual working range the truncation alone
+/// moves it by up to ~0.1 (measured in `tests/suite/viscometry.rs`), so 0.2 (common practice
+/// reads larger departures as association, adsorption on the capillary, or a wrong solvent time).
+pub const HUGGINS_KRAEMER_TOLERANCE: f64 = 0.2;
+
+/// The usual working range of ηrel at the highest concentration (common practice: below ~1.2
+/// the flow-time differences are too small for a precise [η]; above ~2 the lines curve).
+pub const RELATIVE_VISCOSITY_RANGE: (f64, f64) = (1.2, 2.0);
+
+/// What limits one dilution series' [η]; the code goes into tables, the sentence to people.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct DilutionWarning {
+    /// Stable code: `relative_viscosity_range`, `huggins_kraemer_departure`, `single_point`,
+    /// `no_scatter`.
+    pub code: String,
+    /// What it means and what to do.
+    pub message: String,
+}
+
+fn warning(code: &str, message: String) -> DilutionWarning {
+    DilutionWarning { code: code.into(), message }
+}
+
+/// How [η] was obtained.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum DilutionMethod {
+    /// Huggins and Kraemer lines with one intercept.
+    HugginsKraemer,
+    /// One concentration: the Solomon–Ciută single-point estimate (no SE).
+    SolomonCiuta,
+    /// Given in the file.
+    Given,
+}
+
+impl DilutionMethod {
+    /// People's name.
+    pub fn label(self) -> &'static str {
+        match self {
+            DilutionMethod::HugginsKraemer => "Huggins and Kraemer lines",
+            DilutionMethod::SolomonCiuta => "Solomon–Ciută single point",
+            DilutionMethod::Given => "given",
+        }
+    }
+}
+
+/// The result of one dilution series, SI.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Dilution {
+    /// [η], m³/kg.
+    pub intrinsic: f64,
+    /// SE of [η], m³/kg (None: not estimable).
+    pub se: Option<f64>,
+    /// Degrees of freedom behind the SE (None: known).
+    pub se_dof: Option<usize>,
+    /// Method.
+    pub method: DilutionMethod,
+    /// kH and its SE.
+    pub huggins: Option<(f64, Option<f64>)>,
+    /// kK and its SE.
+    pub kraemer: Option<(f64, Option<f64>)>,
+    /// kH − kK and its SE.
+    pub huggins_minus_kraemer: Option<(f64, Option<f64>)>,
+    /// Readings (c kg/m³, ηrel).
+    pub readings: Vec<(f64, f64)>,
+    /// Why the result is weak.
+    pub warnings: Vec<DilutionWarning>,
+}
+
+/// Solomon–Ciută: [η] = √(2 (ηsp − ln ηrel))/c, m³/kg from c in kg/m³.
+pub fn solomon_ciuta(concentration: f64, relative_viscosity: f64) -> f64 {
+    (2.0 * (relative_viscosity - 1.0 - relative_viscosity.ln())).sqrt() / concentration
+}
+
+/// Fits one dilution series: readings (c kg/m³, ηrel > 1); `None` without readings.
+pub fn fit_dilution(readings: &[(f64, f64)]) -> Option<Dilution> {
+    let mut distinct: Vec<f64> = readings.iter().map(|r| r.0).collect();
+    distinct.sort_by(f64::total_cmp);
+    distinct.dedup_by(|a, b| (*a - *b).abs() <= 1e-9 * b.abs());
+    let mut warnings = Vec::new();
+    let highest = readings.iter().max_by(|a, b| a.0.total_cmp(&b.0))?.1;
+    let (low, high) = RELATIVE_VISCOSITY_RANGE;
+    if highest > high {
+        warnings.push(warning("relative_viscosity_range", format!(
+            "ηrel reaches {highest:.2} at the highest concentration, above the usual {high}: the lines may curve there; dilute further"
+        )));
+    } else if highest < low {
+        warnings.push(warning("relative_viscosity_range", format!(
+            "ηrel is only {highest:.3} at the highest concentration, below the usual {low}: flow times differ too little for a precise [η]; measure more concentrated solutions"
+        )));
+    }
+    if distinct.len() == 1 {
+        let (c, r) = readings.iter().fold((0.0, 0.0), |(c, r), x| (c + x.0, r + x.1));
+        let n = readings.len() as f64;
+        warnings.push(warning(
+            "single_point",
+            "one concentration: the Solomon–Ciută single-point estimate, without an SE".into(),
+        ));
+        return Some(Dilution {
+            intrinsic: solomon_ciuta(c / n, r / n),
+            se: None,
+            se_dof: None,
+            method: DilutionMethod::SolomonCiuta,
+            huggins: None,
+            kraemer: None,
+            huggins_minus_kraemer: None,
+            readings: readings.to_vec(),
+            warnings,
+        });
+    }
+    let n = readings.len();
+    // Rows: Huggins (1, c, 0) then Kraemer (1, 0, c).
+    let mut design = Vec::with_capacity(6 * n);
+    let mut y = Vec::with_capacity(2 * n);
+    let mut w = Vec::with_capacity(2 * n);
+    for &(c, r) in readings {
+        design.extend([1.0, c, 0.0]);
+        y.push((r - 1.0) / c);
+        w.push(c * c);
+    }
+    for &(c, r) in readings {
+        design.extend([1.0, 0.0, c]);
+        y.push(r.ln() / c);
+        w.push((r * c).powi(2));
+    }
+    let joint = linear::fit(&design, 3, &y, Some(&w), Weights::Absolute).ok()?;
+    let (eta, b_h, b_k) = (joint.coefficients[0], joint.coefficients[1], joint.coefficients[2]);
+    // σ² of ηrel from the Huggins line alone (its residuals in ηrel: c × residual).
+    let huggins_design: Vec<f64> = readings.iter().flat_map(|&(c, _)| [1.0, c]).collect();
+    let huggins_line = linear::fit(&huggins_design, 2, &y[..n], Some(&w[..n]), Weights::Relative).ok()?;
+    let sigma2 = (huggins_line.dof > 0).then(|| huggins_line.rss_weighted / huggins_line.dof as f64);
+    let kraemer_design: Vec<f64> = readings.iter().flat_map(|&(c, _)| [1.0, c]).collect();
+    let kraemer_line = linear::fit(&kraemer_design, 2, &y[n..], Some(&w[n..]), Weights::Relative).ok()?;
+    let truncation = (eta - huggins_line.coefficients[0]).abs().max((eta - kraemer_line.coefficients[0]).abs());
+    // d β / d ηrel_i = G (c_i (1 + ηrel_i), c_i², ηrel_i c_i²), G = (Xᵀ W X)⁻¹.
+    let g = |i: usize, j: usize| joint.cov(i, j);
+    let mut cov = [[0.0; 3]; 3];
+    for &(c, r) in readings {
+        let v = [c * (1.0 + r), c * c, r * c * c];
+        let d: Vec<f64> = (0..3).map(|i| (0..3).map(|j| g(i, j) * v[j]).sum()).collect();
+        for i in 0..3 {
+            for j in 0..3 {
+                cov[i][j] += d[i] * d[j];
+            }
+        }
+    }
+    let cov = sigma2.map(|s2| cov.map(|row| row.map(|x| x * s2)));
+    // k = b/[η]²: gradient (−2b/[η]³, 1/[η]²) in ([η], b).
+    let constant = |b: f64, col: usize| {
+        let k = b / (eta * eta);
+        let se = cov.map(|v| {
+            let (de, db) = (-2.0 * b / eta.powi(3), 1.0 / (eta * eta));
+            (de * de * v[0][0] + 2.0 * de * db * v[0][col] + db * db * v[col][col]).max(0.0).sqrt()
+        });
+        (k, se)
+    };
+    let huggins = constant(b_h, 1);
+    let kraemer = constant(b_k, 2);
+    let difference = {
+        let d = (b_h - b_k) / (eta * eta);
+        let se = cov.map(|v| {
+            let (de, dh, dk) = (-2.0 * (b_h - b_k) / eta.powi(3), 1.0 / (eta * eta), -1.0 / (eta * eta));
+            let grad = [de, dh, dk];
+            let mut var = 0.0;
+            for i in 0..3 {
+                for j in 0..3 {
+                    var += grad[i] * grad[j] * v[i][j];
+                }
+            }
+            var.max(0.0).sqrt()
+        });
+        (d, se)
+    };
+    let departure = (difference.0 - 0.5).abs();
+    if departure > HUGGINS_KRAEMER_TOLERANCE && difference.1.is_none_or(|se| departure > 2.58 * se) {
+        warnings.push(warning("huggins_kraemer_departure", format!(
+            "kH − kK = {:.2}, not the ½ the two lines share in dilute solution: look for association, adsorption on the capillary wall, or a wrong solvent flow time",
+            difference.0
+        )));
+    }
+    if sigma2.is_none() {
+        warnings.push(warning(
+            "no_scatter",
+            "two concentrations: no scatter is left to estimate an SE from; measure a third".into(),
+        ));
+    }
+    Some(Dilution {
+        intrinsic: eta,
+        se: cov.map(|v| (v[0][0].max(0.0) + truncation * truncation).sqrt()),
+        se_dof: sigma2.map(|_| huggins_line.dof),
+        method: DilutionMethod::HugginsKraemer,
+        huggins: Some(huggins),
+        kraemer: Some(kraemer),
+        huggins_minus_kraemer: Some(difference),
+        readings: readings.to_vec(),
+        warnings,
+    })
+}

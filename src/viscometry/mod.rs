@@ -1,0 +1,464 @@
+//! The viscometry route: dilute-solution capillary viscometry of several fractions at several
+//! temperatures, from flow times to the chain's unperturbed dimensions.
+//!
+//! Per fraction and temperature, [η] from the Huggins and Kraemer lines ([`dilution`]); per
+//! temperature, across fractions, the Mark–Houwink–Sakurada line ln [η] = ln K + a ln M and the
+//! Stockmayer–Fixman line [η]/M^{1/2} = Kθ + B' M^{1/2} ([`line`]); across temperatures, the
+//! viscometric θ where a(T) = ½ (fitted as a − ½ = a' + b'/T, like A2, with Fieller's interval:
+//! an approximate criterion, since a passes ½ only near θ and not exactly at it); then Kθ at θ,
+//! ⟨r²⟩0/M by Flory–Fox ([`crate::chain_dimensions`]), the viscosity expansion factor
+//! α_η³ = [η]/(Kθ M^{1/2}) and d ln⟨r²⟩0/dT. SI inside; [`ViscometryResult`] is in report units.
+
+pub mod dilution;
+pub mod line;
+mod result;
+
+pub use dilution::{fit_dilution, solomon_ciuta, Dilution, DilutionMethod, DilutionWarning};
+pub use result::*;
+
+use crate::chain_dimensions::{r2_over_m_from_k_theta, RepeatUnit, UnperturbedDimensions, NM2_MOL_PER_G_PER_SI};
+use crate::dataset::{Route, ViscometrySeries, ViscosityValue, TEMPERATURE_GROUPING_K};
+use crate::theta::{Crossing, InverseTemperatureLine, ThetaSet};
+use crate::units::{kelvin_to_celsius, ML_PER_G_PER_M3_PER_KG};
+use line::{basis_of, Line};
+
+/// Settings of the viscometry route.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct ViscometrySettings {
+    /// Confidence level of the intervals.
+    pub confidence: f64,
+    /// Flory–Fox constant Φ0, mol⁻¹.
+    pub flory_fox_per_mol: f64,
+    /// The repeat unit, for C∞.
+    pub repeat_unit: Option<RepeatUnit>,
+}
+
+impl Default for ViscometrySettings {
+    fn default() -> Self {
+        ViscometrySettings {
+            confidence: 0.95,
+            flory_fox_per_mol: crate::chain_dimensions::DEFAULT_FLORY_FOX_PER_MOL,
+            repeat_unit: None,
+        }
+    }
+}
+
+/// A molar mass another route of the run measured for a series of this name (the osmotic Mn,
+/// the light-scattering Mw), for fractions given without one.
+#[derive(Debug, Clone, PartialEq)]
+pub struct KnownMolarMass {
+    /// The series name (matched against a fraction's name).
+    pub name: String,
+    /// Molar mass, kg/mol.
+    pub molar_mass: f64,
+    /// The route that measured it.
+    pub route: Route,
+}
+
+/// Kθ report unit (mL mol^{1/2} g^{-3/2}) per SI unit (m³ mol^{1/2} kg^{-3/2}): 10³ / 10^{3/2}.
+const K_THETA_REPORT_PER_SI: f64 = 31.622_776_601_683_793;
+
+/// One fraction as the analysis sees it.
+struct Fraction {
+    name: String,
+    molar_mass: Option<f64>,
+    source: String,
+}
+
+/// Everything the route computes for one series, and the dimensions it measured.
+pub fn analyze_viscometry(
+    series: &ViscometrySeries,
+    known: &[KnownMolarMass],
+    settings: &ViscometrySettings,
+) -> Result<(ViscometryResult, Option<UnperturbedDimensions>), String> {
+    let mut warnings = Vec::new();
+    let fractions = fractions_of(series, known, &mut warnings);
+    let temperatures = temperatures_of(series);
+    // [η] of each fraction at each temperature.
+    let mut dilutions: Vec<(usize, usize, Dilution)> = Vec::new();
+    for (fi, fraction) in fractions.iter().enumerate() {
+        for (ti, &t) in temperatures.iter().enumerate() {
+            let rows: Vec<&crate::dataset::ViscometryRow> = series
+                .rows
+                .iter()
+                .filter(|r| r.fraction_key() == fraction.name && (r.temperature_k - t).abs() <= TEMPERATURE_GROUPING_K)
+                .collect();
+            let relative: Vec<(f64, f64)> = rows
+                .iter()
+                .filter_map(|r| match r.value {
+                    ViscosityValue::Relative { concentration, relative_viscosity } => {
+                        Some((concentration, relative_viscosity))
+                    }
+                    ViscosityValue::Intrinsic { .. } => None,
+                })
+                .collect();
+            let given: Vec<(f64, Option<f64>)> = rows
+                .iter()
+                .filter_map(|r| match r.value {
+                    ViscosityValue::Intrinsic { value, sd } => Some((value, sd)),
+                    ViscosityValue::Relative { .. } => None,
+                })
+                .collect();
+            let fitted = if !relative.is_empty() {
+                fit_dilution(&relative)
+            } else if !given.is_empty() {
+                Some(given_dilution(&given))
+            } else {
+                None
+            };
+            if let Some(d) = fitted {
+                dilutions.push((fi, ti, d));
+            }
+        }
+    }
+    // Per temperature, across fractions with a molar mass.
+    let mut per_temperature = Vec::new();
+    for (ti, &t) in temperatures.iter().enumerate() {
+        let points: Vec<(f64, &Dilution)> = dilutions
+            .iter()
+            .filter(|(_, i, _)| *i == ti)
+            .filter_map(|(f, _, d)| fractions[*f].molar_mass.map(|m| (m, d)))
+            .collect();
+        per_temperature.push(TemperatureLines::fit(t, &points));
+    }
+    let with_mark_houwink: Vec<&TemperatureLines> =
+        per_temperature.iter().filter(|p| p.mark_houwink.is_some()).collect();
+    if with_mark_houwink.is_empty() {
+        warnings.push("no temperature has three fractions with a molar mass: no Mark–Houwink exponent".into());
+    }
+    let theta = viscometric_theta(&with_mark_houwink, settings.confidence, &mut warnings);
+    // Kθ: directly at θ where a temperature lies there, else the Stockmayer–Fixman intercept
+    // at the temperature nearest θ (or the middle one).
+    let target = theta.as_ref().map(|t| t.theta_k);
+    let direct = target.and_then(|theta| k_theta_at(theta, &temperatures, &dilutions, &fractions));
+    let nearest_sf = nearest_stockmayer_fixman(&per_temperature, target);
+    let (k_theta, k_theta_se, method, at_k) = match (&direct, nearest_sf) {
+        (Some(d), _) => (
+            d.k_theta,
+            d.se,
+            format!(
+                "Kθ = [η]/M^½ at the viscometric θ ({:.2} °C), interpolated between the measured temperatures (Flory–Fox)",
+                kelvin_to_celsius(d.temperature_k)
+            ),
+            d.temperature_k,
+        ),
+        (None, Some(p)) => {
+            let (k, se) = p.stockmayer_fixman.as_ref().map(|l| l.at(0.0)).expect("chosen for its line");
+            (
+                k,
+                (p.stockmayer_fixman_se_known).then_some(se),
+                format!("Stockmayer–Fixman intercept at {:.2} °C (Flory–Fox)", kelvin_to_celsius(p.temperature_k)),
+                p.temperature_k,
+            )
+        }
+        (None, None) => (f64::NAN, None, String::new(), f64::NAN),
+    };
+    let dimensions = (k_theta.is_finite() && k_theta > 0.0).then(|| {
+        UnperturbedDimensions::new(
+            r2_over_m_from_k_theta(k_theta, k_theta_se, settings.flory_fox_per_mol),
+            Route::Viscometry,
+            method,
+            at_k,
+            Some(settings.flory_fox_per_mol),
+            settings.repeat_unit.as_ref(),
+        )
+    });
+    if dimensions.is_none() {
+        warnings.push(
+            "no Kθ: the unperturbed dimensions need two or more fractions with a molar mass at one temperature".into(),
+        );
+    }
+    let coefficient = temperature_coefficient(&per_temperature);
+    let result = ViscometryResult::assemble(Assembly {
+        fractions: &fractions,
+        temperatures: &temperatures,
+        dilutions: &dilutions,
+        per_temperature: &per_temperature,
+        theta,
+        direct,
+        k_theta: (k_theta.is_finite() && k_theta > 0.0).then_some(k_theta),
+        coefficient,
+        settings,
+        warnings,
+    });
+    if result.dilutions.is_empty() {
+        return Err("no fraction had a usable dilution series".into());
+    }
+    Ok((result, dimensions))
+}
+
+/// A fraction whose [η] was given: the mean of its rows, SE √(Σ sd²)/n when every row has one.
+fn given_dilution(given: &[(f64, Option<f64>)]) -> Dilution {
+    let n = given.len() as f64;
+    let sds: Option<Vec<f64>> = given.iter().map(|g| g.1).collect();
+    Dilution {
+        intrinsic: given.iter().map(|g| g.0).sum::<f64>() / n,
+        se: sds.map(|s| s.iter().map(|x| x * x).sum::<f64>().sqrt() / n),
+        se_dof: None,
+        method: DilutionMethod::Given,
+        huggins: None,
+        kraemer: None,
+        huggins_minus_kraemer: None,
+        readings: Vec::new(),
+        warnings: Vec::new(),
+    }
+}
+
+fn fractions_of(series: &ViscometrySeries, known: &[KnownMolarMass], warnings: &mut Vec<String>) -> Vec<Fraction> {
+    let mut out: Vec<Fraction> = Vec::new();
+    for row in &series.rows {
+        let name = row.fraction_key();
+        match out.iter_mut().find(|f| f.name == name) {
+            Some(f) => match (f.molar_mass, row.molar_mass) {
+                (None, Some(m)) => {
+                    f.molar_mass = Some(m);
+                    f.source = "molar mass column".into();
+                }
+                (Some(a), Some(b)) if (a - b).abs() > 1e-9 * a => warnings.push(format!(
+                    "fraction '{name}': line {} gives another molar mass ({:.0} g/mol); the first one is used",
+                    row.line,
+                    b * 1e3
+                )),
+                _ => {}
+            },
+            None => out.push(Fraction {
+                name: name.clone(),
+                molar_mass: row.molar_mass,
+                source: if row.molar_mass.is_some() { "molar mass column".into() } else { String::new() },
+            }),
+        }
+    }
+    for f in &mut out {
+        if f.molar_mass.is_some() {
+            continue;
+        }
+        // Mn from osmometry before Mw from light scattering: [η] follows the viscosity average,
+        // which lies between them, nearer Mw; say which one was used.
+        let found =
+            known
+                .iter()
+                .filter(|k| k.name == f.name)
+                .min_by_key(|k| if k.route == Route::LightScattering { 0 } else { 1 });
+        match found {
+            Some(k) => {
+                f.molar_mass = Some(k.molar_mass);
+                f.source = match k.route {
+                    Route::LightScattering => format!("light-scattering Mw of series '{}'", k.name),
+                    _ => format!("osmotic Mn of series '{}'", k.name),
+                };
+            }
+            None => warnings.push(format!(
+                "fraction '{}' has no molar mass (no column, and no series of that name in another route): left out of the lines across fractions",
+                f.name
+            )),
+        }
+    }
+    out
+}
+
+fn temperatures_of(series: &ViscometrySeries) -> Vec<f64> {
+    let mut t: Vec<f64> = series.rows.iter().map(|r| r.temperature_k).collect();
+    t.sort_by(f64::total_cmp);
+    let mut groups: Vec<Vec<f64>> = Vec::new();
+    for x in t {
+        match groups.last_mut() {
+            Some(g) if (x - g[0]).abs() <= TEMPERATURE_GROUPING_K => g.push(x),
+            _ => groups.push(vec![x]),
+        }
+    }
+    groups.iter().map(|g| crate::units::round_to_nanokelvin(g.iter().sum::<f64>() / g.len() as f64)).collect()
+}
+
+/// The lines across fractions at one temperature.
+struct TemperatureLines {
+    temperature_k: f64,
+    n_fractions: usize,
+    /// ln [η] against ln M (SI): slope a, intercept ln K.
+    mark_houwink: Option<Line>,
+    /// [η]/M^{1/2} against M^{1/2} (SI): intercept Kθ.
+    stockmayer_fixman: Option<Line>,
+    /// Whether the Stockmayer–Fixman SEs are meaningful (the [η] had SEs or the line had dof).
+    stockmayer_fixman_se_known: bool,
+}
+
+impl TemperatureLines {
+    fn fit(temperature_k: f64, points: &[(f64, &Dilution)]) -> Self {
+        let basis = basis_of(points.iter().map(|(_, d)| d.se_dof));
+        let x: Vec<f64> = points.iter().map(|(m, _)| m.ln()).collect();
+        let y: Vec<f64> = points.iter().map(|(_, d)| d.intrinsic.ln()).collect();
+        let se: Vec<Option<f64>> = points.iter().map(|(_, d)| d.se.map(|s| s / d.intrinsic)).collect();
+        let mark_houwink = (points.len() >= 3).then(|| Line::fit(&x, &y, &se, basis).ok()).flatten();
+        let x: Vec<f64> = points.iter().map(|(m, _)| m.sqrt()).collect();
+        let y: Vec<f64> = points.iter().map(|(m, d)| d.intrinsic / m.sqrt()).collect();
+        let se: Vec<Option<f64>> = points.iter().map(|(m, d)| d.se.map(|s| s / m.sqrt())).collect();
+        let stockmayer_fixman = Line::fit(&x, &y, &se, basis).ok();
+        let se_known = stockmayer_fixman
+            .as_ref()
+            .is_some_and(|l| l.variance() != crate::theta::LineVariance::Unweighted || l.n > 2);
+        TemperatureLines {
+            temperature_k,
+            n_fractions: points.len(),
+            mark_houwink,
+            stockmayer_fixman,
+            stockmayer_fixman_se_known: se_known,
+        }
+    }
+}
+
+/// a(T) − ½ = a' + b'/T across the temperatures with a Mark–Houwink exponent.
+fn exponent_line(lines: &[&TemperatureLines]) -> Option<InverseTemperatureLine> {
+    let points: Vec<crate::dataset::TemperaturePoint> = lines
+        .iter()
+        .filter_map(|p| {
+            let l = p.mark_houwink.as_ref()?;
+            Some(crate::dataset::TemperaturePoint {
+                temperature_k: p.temperature_k,
+                value: l.beta - 0.5,
+                se: Some(l.slope_se()),
+            })
+        })
+        .collect();
+    let basis = basis_of(lines.iter().filter_map(|p| p.mark_houwink.as_ref()).map(|l| l.dof()));
+    InverseTemperatureLine::fit(&points, basis).ok()
+}
+
+fn viscometric_theta(lines: &[&TemperatureLines], confidence: f64, warnings: &mut Vec<String>) -> Option<ThetaFit> {
+    if lines.len() < 2 {
+        if !lines.is_empty() {
+            warnings
+                .push("one temperature with a Mark–Houwink exponent: no viscometric θ (measure at two or more)".into());
+        }
+        return None;
+    }
+    let line = exponent_line(lines)?;
+    let theta_k = line.theta_k()?;
+    let (t_min, t_max) = (lines[0].temperature_k, lines[lines.len() - 1].temperature_k);
+    Some(ThetaFit {
+        theta_k,
+        se_k: line.theta_se_k(),
+        set: line.fieller_theta(confidence),
+        crossing: if (t_min..=t_max).contains(&theta_k) { Crossing::Bracketed } else { Crossing::Extrapolated },
+        n_temperatures: line.n,
+        line,
+    })
+}
+
+/// The viscometric θ as computed, SI.
+pub(crate) struct ThetaFit {
+    theta_k: f64,
+    se_k: Option<f64>,
+    set: ThetaSet,
+    crossing: Crossing,
+    n_temperatures: usize,
+    line: InverseTemperatureLine,
+}
+
+/// Kθ = [η]/M^{1/2} directly at θ: each fraction's ln [η] interpolated linearly in T between
+/// the measured temperatures that bracket θ (or read at one within 0.01 K), then the weighted
+/// mean over fractions (weights 1/SE², scaled up when the fractions scatter more than their
+/// SEs; equal weights and the spread without SEs).
+pub(crate) struct DirectKTheta {
+    temperature_k: f64,
+    k_theta: f64,
+    se: Option<f64>,
+    n_fractions: usize,
+}
+
+fn k_theta_at(
+    theta: f64,
+    temperatures: &[f64],
+    dilutions: &[(usize, usize, Dilution)],
+    fractions: &[Fraction],
+) -> Option<DirectKTheta> {
+    let near = |t: f64| (t - theta).abs() <= TEMPERATURE_GROUPING_K;
+    let below = temperatures.iter().rposition(|&t| t <= theta || near(t))?;
+    let above = temperatures.iter().position(|&t| t >= theta || near(t))?;
+    let (t0, t1) = (temperatures[below], temperatures[above]);
+    let f = if below == above { 0.0 } else { (theta - t0) / (t1 - t0) };
+    let at = |fi: usize, ti: usize| dilutions.iter().find(|(f, t, _)| *f == fi && *t == ti).map(|(_, _, d)| d);
+    let values: Vec<(f64, Option<f64>)> = fractions
+        .iter()
+        .enumerate()
+        .filter_map(|(fi, fraction)| {
+            let m = fraction.molar_mass?;
+            let (d0, d1) = (at(fi, below)?, at(fi, above)?);
+            let ln_eta = (1.0 - f) * d0.intrinsic.ln() + f * d1.intrinsic.ln();
+            let se_ln = d0.se.zip(d1.se).map(|(s0, s1)| ((1.0 - f) * s0 / d0.intrinsic).hypot(f * s1 / d1.intrinsic));
+            let k = ln_eta.exp() / m.sqrt();
+            Some((k, se_ln.map(|s| s * k)))
+        })
+        .collect();
+    if values.len() < 2 {
+        return None;
+    }
+    let n = values.len() as f64;
+    let weights: Option<Vec<f64>> = values.iter().map(|v| v.1.filter(|s| *s > 0.0).map(|s| 1.0 / (s * s))).collect();
+    let (mean, se) = match weights {
+        Some(w) => {
+            let sum: f64 = w.iter().sum();
+            let mean = values.iter().zip(&w).map(|(v, w)| v.0 * w).sum::<f64>() / sum;
+            let chi2 = values.iter().zip(&w).map(|(v, w)| w * (v.0 - mean).powi(2)).sum::<f64>() / (n - 1.0);
+            (mean, (chi2.max(1.0) / sum).sqrt())
+        }
+        None => {
+            let mean = values.iter().map(|v| v.0).sum::<f64>() / n;
+            let var = values.iter().map(|v| (v.0 - mean).powi(2)).sum::<f64>() / (n - 1.0);
+            (mean, (var / n).sqrt())
+        }
+    };
+    Some(DirectKTheta { temperature_k: theta, k_theta: mean, se: Some(se), n_fractions: values.len() })
+}
+
+fn nearest_stockmayer_fixman(lines: &[TemperatureLines], target: Option<f64>) -> Option<&TemperatureLines> {
+    let with: Vec<&TemperatureLines> =
+        lines.iter().filter(|p| p.stockmayer_fixman.as_ref().is_some_and(|l| l.at(0.0).0 > 0.0)).collect();
+    let centre = target.unwrap_or_else(|| {
+        let t: Vec<f64> = with.iter().map(|p| p.temperature_k).collect();
+        t.get(t.len() / 2).copied().unwrap_or(f64::NAN)
+    });
+    with.into_iter().min_by(|a, b| (a.temperature_k - centre).abs().total_cmp(&(b.temperature_k - centre).abs()))
+}
+
+/// d ln⟨r²⟩0/dT = (2/3) d ln Kθ/dT over the temperatures with a Stockmayer–Fixman intercept
+/// (three or more), 1/K, with its SE and dof.
+fn temperature_coefficient(lines: &[TemperatureLines]) -> Option<(f64, f64, Option<usize>)> {
+    let points: Vec<(f64, f64, f64, Option<usize>)> = lines
+        .iter()
+        .filter_map(|p| {
+            let l = p.stockmayer_fixman.as_ref()?;
+            let (k, se) = l.at(0.0);
+            (k > 0.0 && p.stockmayer_fixman_se_known).then_some((p.temperature_k, k.ln(), se / k, l.dof()))
+        })
+        .collect();
+    if points.len() < 3 {
+        return None;
+    }
+    let x: Vec<f64> = points.iter().map(|p| p.0).collect();
+    let y: Vec<f64> = points.iter().map(|p| p.1).collect();
+    let se: Vec<Option<f64>> = points.iter().map(|p| Some(p.2)).collect();
+    let line = Line::fit(&x, &y, &se, basis_of(points.iter().map(|p| p.3))).ok()?;
+    Some((2.0 / 3.0 * line.beta, 2.0 / 3.0 * line.slope_se(), line.dof()))
+}
+
+/// What [`ViscometryResult::assemble`] turns into report units.
+pub(crate) struct Assembly<'a> {
+    fractions: &'a [Fraction],
+    temperatures: &'a [f64],
+    dilutions: &'a [(usize, usize, Dilution)],
+    per_temperature: &'a [TemperatureLines],
+    theta: Option<ThetaFit>,
+    direct: Option<DirectKTheta>,
+    k_theta: Option<f64>,
+    coefficient: Option<(f64, f64, Option<usize>)>,
+    settings: &'a ViscometrySettings,
+    warnings: Vec<String>,
+}
+
+/// [η] mL/g ↔ m³/kg and friends, at the edge.
+fn ml_per_g(x: f64) -> f64 {
+    x * ML_PER_G_PER_M3_PER_KG
+}
+
+fn r2_report(k_theta_si: f64, settings: &ViscometrySettings) -> f64 {
+    r2_over_m_from_k_theta(k_theta_si, None, settings.flory_fox_per_mol).0 * NM2_MOL_PER_G_PER_SI
+}
