@@ -106,7 +106,7 @@ mod tests {
     #[test]
     fn flory_fox_and_the_characteristic_ratio_invert_exactly() {
         let unit = RepeatUnit { molar_mass: 0.104, bonds: 2.0, bond_length_m: DEFAULT_BOND_LENGTH_M };
-        let r2m = 4.4e-20 * 1e3; // 0.44 Å² mol/g in m² mol/kg
+        let r2m: f64 = 4.4e-20 * 1e3; // 0.44 Å² mol/g in m² mol/kg
         let k = DEFAULT_FLORY_FOX_PER_MOL * r2m.powf(1.5);
         let (back, se) = r2_over_m_from_k_theta(k, Some(0.03 * k), DEFAULT_FLORY_FOX_PER_MOL);
         assert!((back / r2m - 1.0).abs() < 1e-12);
