@@ -8,9 +8,9 @@
 //! Viscometry (invented): four fractions of the same resin and the whole resin (whose molar
 //! mass the run takes from the osmotic Mn) in mirane at five temperatures, flow times in a
 //! capillary viscometer; truth [η] = Kθ M^½ α_η³, α_η³ = 1 + 3.0 (1 − θ_η/T) (M/150 kg/mol)^½
-//! (first order in the excluded volume, so the Stockmayer–Fixman lines are straight), θ_η =
-//! 33.5 °C (a viscometric θ a kelvin from the osmotic one, as it often is), Kθ = 0.075
-//! mL mol^½ g^-3/2, Huggins-exact dilution series, flow-time noise 0.05 s.
+//! (first order in the excluded volume, so the Stockmayer–Fixman lines are straight) with θ =
+//! 34.5 °C as in osmometry, Kθ = 0.075 mL mol^½ g^-3/2, Huggins-exact dilution series,
+//! flow-time noise 0.05 s.
 //!
 //! Run: `cargo run --example make-demo` (rewrites both files).
 
@@ -99,7 +99,7 @@ fn write_viscometry(whole_resin_g_per_mol: f64, rng: &mut ChaCha8Rng) {
         ("PX-40 F4", Some(610_000.0), 610_000.0),
     ];
     let truth = ViscometryTruth {
-        theta_k: 33.5 + CELSIUS_OFFSET_K,
+        theta_k: 34.5 + CELSIUS_OFFSET_K,
         // 0.075 mL mol^½ g^-3/2 → SI (÷ 10^1.5).
         k_theta: 0.075 / 10f64.powf(1.5),
         expansion: Expansion::FirstOrder { z: 3.0 },
@@ -113,7 +113,7 @@ fn write_viscometry(whole_resin_g_per_mol: f64, rng: &mut ChaCha8Rng) {
     let mut csv = String::from(
         "# INVENTED DEMO DATA: fractions of the fictional resin PX-40 in the fictional solvent mirane.\n\
          # Made by `cargo run --example make-demo`: [eta] = K_theta M^0.5 (1 + 3.0 (1 - theta/T) (M/150000)^0.5),\n\
-         # theta = 33.5 C, K_theta = 0.075 mL mol^0.5 g^-1.5, Huggins dilution series, flow-time noise 0.05 s.\n\
+         # theta = 34.5 C, K_theta = 0.075 mL mol^0.5 g^-1.5, Huggins dilution series, flow-time noise 0.05 s.\n\
          # The whole resin's row has no molar mass: the run takes the osmotic Mn of series 'PX-40 in mirane'.\n\
          series,solvent,fraction,molar mass (g/mol),temperature (C),concentration (g/dL),flow time (s)\n",
     );

@@ -18,7 +18,7 @@ use crate::virial::{
     choose_noise, choose_series_forms, fit_temperature, flag_outliers, pool_standard_errors, FormChoice, PressureNoise,
     SkippedTemperature, TemperatureFit, VirialForm,
 };
-use crate::viscometry::{analyze_viscometry, KnownMolarMass, ViscometryResult, ViscometrySettings};
+use crate::viscometry::{analyze_viscometry, RouteFinding, ViscometryResult, ViscometrySettings};
 use rayon::prelude::*;
 use serde::Serialize;
 
@@ -158,25 +158,31 @@ impl SeriesResult {
         }
     }
 
-    /// The molar mass this series measured, for viscometry fractions named like it: the
-    /// inverse-variance mean of the osmotic Mn, or of the light-scattering Mw, over temperatures.
-    pub fn known_molar_mass(&self) -> Option<KnownMolarMass> {
+    /// What this series measured that the viscometry route can use: the inverse-variance mean
+    /// of the osmotic Mn, or of the light-scattering Mw, over temperatures; its thermodynamic θ.
+    pub fn finding(&self) -> Option<RouteFinding> {
         let values: Vec<(f64, f64)> = match self.route {
             Route::Osmometry => self.fits.iter().map(|f| (f.fit.mn(), f.mn_se())).collect(),
             // Report units (g/mol) back to kg/mol.
             Route::LightScattering => {
                 self.scattering.iter().map(|f| (f.mw_g_per_mol * 1e-3, f.mw_se_g_per_mol * 1e-3)).collect()
             }
-            _ => return None,
+            Route::Viscometry => return None,
+            _ => Vec::new(),
         };
         let usable: Vec<(f64, f64)> =
             values.into_iter().filter(|(m, se)| m.is_finite() && *m > 0.0 && se.is_finite() && *se > 0.0).collect();
-        if usable.is_empty() {
-            return None;
-        }
-        let w_sum: f64 = usable.iter().map(|(_, se)| 1.0 / (se * se)).sum();
-        let mean = usable.iter().map(|(m, se)| m / (se * se)).sum::<f64>() / w_sum;
-        Some(KnownMolarMass { name: self.name.clone(), molar_mass: mean, route: self.route })
+        let molar_mass = (!usable.is_empty()).then(|| {
+            let w_sum: f64 = usable.iter().map(|(_, se)| 1.0 / (se * se)).sum();
+            usable.iter().map(|(m, se)| m / (se * se)).sum::<f64>() / w_sum
+        });
+        let theta_k = self.route_theta().map(|t| (t.theta_k, t.se_k));
+        (molar_mass.is_some() || theta_k.is_some()).then(|| RouteFinding {
+            name: self.name.clone(),
+            molar_mass,
+            theta_k,
+            route: self.route,
+        })
     }
 }
 
@@ -311,7 +317,7 @@ pub fn analyze_scattering(series: &ScatteringSeries, settings: &Settings) -> Ser
 /// `known` (other routes' series of the same name).
 pub fn analyze_viscometry_series(
     series: &ViscometrySeries,
-    known: &[KnownMolarMass],
+    known: &[RouteFinding],
     settings: &Settings,
 ) -> SeriesResult {
     let viscometry_settings = ViscometrySettings { confidence: settings.theta.confidence, ..settings.viscometry };
@@ -329,7 +335,7 @@ pub fn analyze_other_routes(
     dataset: &Dataset,
     settings: &Settings,
     progress: &dyn Progress,
-    known: &[KnownMolarMass],
+    known: &[RouteFinding],
 ) -> Vec<SeriesResult> {
     let done = |r: SeriesResult| {
         progress.advance(1);
@@ -340,7 +346,7 @@ pub fn analyze_other_routes(
     results.extend(dataset.critical.par_iter().map(|s| done(analyze_critical(s, settings))).collect::<Vec<_>>());
     results.extend(dataset.scattering.par_iter().map(|s| done(analyze_scattering(s, settings))).collect::<Vec<_>>());
     let mut known = known.to_vec();
-    known.extend(results.iter().filter_map(SeriesResult::known_molar_mass));
+    known.extend(results.iter().filter_map(SeriesResult::finding));
     results.extend(
         dataset.viscometry.par_iter().map(|s| done(analyze_viscometry_series(s, &known, settings))).collect::<Vec<_>>(),
     );
@@ -361,7 +367,7 @@ pub fn analyze_with_progress(dataset: &Dataset, settings: &Settings, progress: &
         .enumerate()
         .map(|(i, s)| analyze_series_with_progress(s, settings, i as u64, progress))
         .collect();
-    let known: Vec<KnownMolarMass> = results.iter().filter_map(SeriesResult::known_molar_mass).collect();
+    let known: Vec<RouteFinding> = results.iter().filter_map(SeriesResult::finding).collect();
     results.extend(analyze_other_routes(dataset, settings, progress, &known));
     results
 }

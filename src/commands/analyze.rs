@@ -277,7 +277,7 @@ fn analyse_loaded<'a>(
     outputs.analyse(&series, run.bar)?;
     // Freeing 10⁵ small vectors takes tens of milliseconds: done beside the rest of the run.
     let freeing = std::thread::spawn(move || drop(series));
-    let others = analysis::analyze_other_routes(&dataset, run.settings, run.bar, outputs.known_molar_masses());
+    let others = analysis::analyze_other_routes(&dataset, run.settings, run.bar, outputs.route_findings());
     outputs.add(&others, solvent_of)?;
     outputs.add_refused(&refused)?;
     warnings.extend(volumes.finish());

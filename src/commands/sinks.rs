@@ -17,7 +17,7 @@ use thetaseek::report::{
     self, Detail, InputFile, Report, ReportSettings, ReportStream, SeriesFilter, SeriesReport, Tally,
 };
 use thetaseek::theta::RouteTheta;
-use thetaseek::viscometry::KnownMolarMass;
+use thetaseek::viscometry::RouteFinding;
 
 /// Series analysed and written together (one chunk is written while the next is analysed):
 /// enough to keep both cores busy, few enough that the two chunks in flight stay a few
@@ -116,7 +116,7 @@ struct Analysed {
     route: Option<RouteTheta>,
     full: Option<SeriesReport>,
     /// The series' Mn (or Mw), for viscometry fractions named like it.
-    known: Option<KnownMolarMass>,
+    known: Option<RouteFinding>,
 }
 
 /// Every output of one `analyze` run, open and being written.
@@ -140,7 +140,7 @@ pub struct RunOutputs<'a> {
     /// Each series' θ, for the routes' comparison.
     route_thetas: Vec<(String, Option<RouteTheta>)>,
     /// The molar masses the series measured, for the viscometry route.
-    known: Vec<KnownMolarMass>,
+    known: Vec<RouteFinding>,
     /// Series analysed so far (each one's bootstrap seed follows its index).
     analysed: u64,
     /// The last chunk analysed, written while the next one is analysed.
@@ -197,7 +197,7 @@ impl<'a> RunOutputs<'a> {
     }
 
     /// The molar masses measured by the series written so far (osmometry Mn).
-    pub fn known_molar_masses(&self) -> &[KnownMolarMass] {
+    pub fn route_findings(&self) -> &[RouteFinding] {
         &self.known
     }
 
@@ -389,7 +389,7 @@ fn prepared(
     };
     report.solvent = solvent;
     let json = if want_json { report::series_json(&report, detail) } else { Vec::new() };
-    Analysed { report, json, route: result.route_theta(), full, known: result.known_molar_mass() }
+    Analysed { report, json, route: result.route_theta(), full, known: result.finding() }
 }
 
 /// What a finished run still has to write: files to commit, and what to draw and print.

@@ -6,6 +6,7 @@ pub mod plan;
 mod table;
 mod terminal;
 mod theta;
+mod viscometry;
 mod words;
 
 use crate::dataset::Route;
@@ -14,6 +15,7 @@ pub use json::{report_json, series_json, to_json, write_report_json, ReportStrea
 pub use table::{series_table_csv, series_table_rows_csv, table_csv, table_rows_csv, SeriesFilter};
 pub use terminal::{plus_minus, render_ending, render_series, render_summary, render_terminal, Tally};
 pub use theta::{ThetaPointReport, ThetaReport};
+pub use viscometry::{dimensions_line, render_viscometry, viscometry_in_words};
 pub use words::summary_line;
 
 use crate::analysis::{SeriesResult, Status};

@@ -134,6 +134,14 @@ pub fn render_series(s: &super::SeriesReport) -> String {
                 );
             }
         }
+        if let Some(v) = &s.viscometry {
+            out.push_str(&super::render_viscometry(v, s.unperturbed_dimensions.as_ref()));
+            if let Some(words) = super::viscometry_in_words(v, s.unperturbed_dimensions.as_ref()) {
+                let _ = writeln!(out, "  in words: {words}");
+            }
+        } else if let Some(d) = &s.unperturbed_dimensions {
+            let _ = writeln!(out, "  {}", super::dimensions_line(d));
+        }
         if let Some(c) = &s.critical {
             let _ = writeln!(
                 out,
@@ -183,15 +191,24 @@ pub fn render_ending(routes: &[super::RouteComparison], warnings: &[String]) -> 
         for d in &r.differences {
             let _ = writeln!(out, "  {} − {}: {:+.2} K ({:+.1} combined SE)", d.a, d.b, d.difference_k, d.z);
         }
+        let over = if r.combined_routes.len() < r.routes.len() {
+            let names: Vec<&str> = r.combined_routes.iter().map(|r| r.name()).collect();
+            format!(" over {}", names.join(" and "))
+        } else {
+            String::new()
+        };
         let _ = writeln!(
             out,
-            "  combined (inverse variance): {:.2} ± {:.2} K, χ² = {:.2}, p = {:.3}{}",
+            "  combined (inverse variance){over}: {:.2} ± {:.2} K, χ² = {:.2}, p = {:.3}{}",
             r.combined_theta_k,
             r.combined_se_k,
             r.chi2,
             r.p_value,
             if r.disagree { " — the routes DISAGREE: do not use the combined value as it is" } else { "" }
         );
+        for note in &r.notes {
+            let _ = writeln!(out, "  note: {note}");
+        }
         out.push('\n');
     }
     for w in warnings {

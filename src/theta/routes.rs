@@ -63,12 +63,28 @@ pub struct RouteComparison {
     pub p_value: f64,
     /// p < 0.01: the routes disagree; the combined value should not be used as it is.
     pub disagree: bool,
+    /// The routes the combined θ and the χ² test rest on (an approximate criterion, the
+    /// viscometric θ, is compared but not combined while a thermodynamic route is there).
+    #[serde(default)]
+    pub combined_routes: Vec<Route>,
+    /// What to keep in mind when reading the comparison, in words.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub notes: Vec<String>,
+}
+
+/// Why the viscometric θ stands apart, in words.
+pub const VISCOMETRIC_NOTE: &str = "the viscometric θ (where the Mark–Houwink exponent is ½) is an approximate criterion: it is known to sit up to a few kelvin from the thermodynamic θ (A2 = 0), and to move with the molar-mass range of the fractions; it is compared here, not combined";
+
+/// Whether a route's θ estimates the thermodynamic θ (A2 = 0) itself.
+fn thermodynamic(route: Route) -> bool {
+    route != Route::Viscometry
 }
 
 /// Compares the routes of every name that appears more than once among `entries` (one per
 /// series, in input order, with its θ where it has one with a finite positive SE), in order of
 /// first appearance. For routes i with θ_i and SE σ_i, w_i = 1/σ_i²:
-/// θ̄ = Σ w_i θ_i / Σ w_i, SE(θ̄) = (Σ w_i)^−½, χ² = Σ w_i (θ_i − θ̄)² on n − 1 dof.
+/// θ̄ = Σ w_i θ_i / Σ w_i, SE(θ̄) = (Σ w_i)^−½, χ² = Σ w_i (θ_i − θ̄)² on n − 1 dof, over the
+/// thermodynamic routes (the viscometric θ joins only when no other route is there).
 pub fn compare_routes(entries: &[(&str, Option<RouteTheta>)]) -> Vec<RouteComparison> {
     let mut count: std::collections::HashMap<&str, usize> = std::collections::HashMap::new();
     for (name, _) in entries {
@@ -99,14 +115,28 @@ pub fn compare_routes(entries: &[(&str, Option<RouteTheta>)]) -> Vec<RouteCompar
                 });
             }
         }
-        let w: Vec<f64> = routes.iter().map(|r| 1.0 / (r.se_k * r.se_k)).collect();
+        let mut pooled: Vec<&RouteTheta> = routes.iter().filter(|r| thermodynamic(r.route)).collect();
+        if pooled.is_empty() {
+            pooled = routes.iter().collect();
+        }
+        let w: Vec<f64> = pooled.iter().map(|r| 1.0 / (r.se_k * r.se_k)).collect();
         let w_sum: f64 = w.iter().sum();
-        let combined = routes.iter().zip(&w).map(|(r, w)| w * r.theta_k).sum::<f64>() / w_sum;
-        let chi2: f64 = routes.iter().zip(&w).map(|(r, w)| w * (r.theta_k - combined).powi(2)).sum();
-        let dof = routes.len() - 1;
-        let p_value = statrs::distribution::ChiSquared::new(dof as f64)
-            .map(|d| statrs::distribution::ContinuousCDF::sf(&d, chi2))
-            .unwrap_or(f64::NAN);
+        let combined = pooled.iter().zip(&w).map(|(r, w)| w * r.theta_k).sum::<f64>() / w_sum;
+        let chi2: f64 = pooled.iter().zip(&w).map(|(r, w)| w * (r.theta_k - combined).powi(2)).sum();
+        let dof = pooled.len() - 1;
+        // One route alone agrees with itself.
+        let p_value = match dof {
+            0 => 1.0,
+            _ => statrs::distribution::ChiSquared::new(dof as f64)
+                .map(|d| statrs::distribution::ContinuousCDF::sf(&d, chi2))
+                .unwrap_or(f64::NAN),
+        };
+        let combined_routes: Vec<Route> = pooled.iter().map(|r| r.route).collect();
+        let notes = if routes.iter().any(|r| !thermodynamic(r.route)) {
+            vec![VISCOMETRIC_NOTE.to_string()]
+        } else {
+            Vec::new()
+        };
         out.push(RouteComparison {
             series: name.to_string(),
             routes,
@@ -116,6 +146,8 @@ pub fn compare_routes(entries: &[(&str, Option<RouteTheta>)]) -> Vec<RouteCompar
             chi2,
             p_value,
             disagree: p_value < DISAGREE_P,
+            combined_routes,
+            notes,
         });
     }
     out

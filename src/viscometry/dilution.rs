@@ -70,6 +70,9 @@ pub struct Dilution {
     pub se: Option<f64>,
     /// Degrees of freedom behind the SE (None: known).
     pub se_dof: Option<usize>,
+    /// The part of the SE that is the lines' truncation, m³/kg (shared by fractions measured
+    /// over the same ηrel range, so it does not average out across them).
+    pub truncation: f64,
     /// Method.
     pub method: DilutionMethod,
     /// kH and its SE.
@@ -117,6 +120,7 @@ pub fn fit_dilution(readings: &[(f64, f64)]) -> Option<Dilution> {
             intrinsic: solomon_ciuta(c / n, r / n),
             se: None,
             se_dof: None,
+            truncation: 0.0,
             method: DilutionMethod::SolomonCiuta,
             huggins: None,
             kraemer: None,
@@ -205,6 +209,7 @@ pub fn fit_dilution(readings: &[(f64, f64)]) -> Option<Dilution> {
         intrinsic: eta,
         se: cov.map(|v| (v[0][0].max(0.0) + truncation * truncation).sqrt()),
         se_dof: sigma2.map(|_| huggins_line.dof),
+        truncation,
         method: DilutionMethod::HugginsKraemer,
         huggins: Some(huggins),
         kraemer: Some(kraemer),

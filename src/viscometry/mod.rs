@@ -43,14 +43,17 @@ impl Default for ViscometrySettings {
     }
 }
 
-/// A molar mass another route of the run measured for a series of this name (the osmotic Mn,
-/// the light-scattering Mw), for fractions given without one.
+/// What another route of the run measured for a series of this name: its molar mass (the
+/// osmotic Mn, the light-scattering Mw), for fractions given without one, and its θ, where Kθ
+/// is read (the thermodynamic θ is the right place; the viscometric one stands in without it).
 #[derive(Debug, Clone, PartialEq)]
-pub struct KnownMolarMass {
-    /// The series name (matched against a fraction's name).
+pub struct RouteFinding {
+    /// The series name (matched against a fraction's name, and the viscometry series' name).
     pub name: String,
     /// Molar mass, kg/mol.
-    pub molar_mass: f64,
+    pub molar_mass: Option<f64>,
+    /// θ and its SE, K.
+    pub theta_k: Option<(f64, f64)>,
     /// The route that measured it.
     pub route: Route,
 }
@@ -68,7 +71,7 @@ struct Fraction {
 /// Everything the route computes for one series, and the dimensions it measured.
 pub fn analyze_viscometry(
     series: &ViscometrySeries,
-    known: &[KnownMolarMass],
+    known: &[RouteFinding],
     settings: &ViscometrySettings,
 ) -> Result<(ViscometryResult, Option<UnperturbedDimensions>), String> {
     let mut warnings = Vec::new();
@@ -130,14 +133,33 @@ pub fn analyze_viscometry(
     // Kθ: directly at θ where a temperature lies there, else the Stockmayer–Fixman intercept
     // at the temperature nearest θ (or the middle one).
     let target = theta.as_ref().map(|t| t.theta_k);
-    let direct = target.and_then(|theta| k_theta_at(theta, &temperatures, &dilutions, &fractions));
+    // Kθ belongs at the thermodynamic θ: another route's θ of this pair when the run has one
+    // (inverse-variance mean), else the viscometric θ.
+    let thermodynamic: Vec<&RouteFinding> =
+        known.iter().filter(|k| k.name == series.name && k.route != Route::Viscometry && k.theta_k.is_some()).collect();
+    let at_theta = if thermodynamic.is_empty() {
+        theta.as_ref().map(|t| (t.theta_k, t.se_k.unwrap_or(0.0), "the viscometric θ".to_string()))
+    } else {
+        let w: Vec<(f64, f64)> =
+            thermodynamic.iter().filter_map(|k| k.theta_k).map(|(t, s)| (t, 1.0 / (s * s))).collect();
+        let sum: f64 = w.iter().map(|x| x.1).sum();
+        let names: Vec<&str> = thermodynamic.iter().map(|k| k.route.name()).collect();
+        Some((
+            w.iter().map(|x| x.0 * x.1).sum::<f64>() / sum,
+            sum.sqrt().recip(),
+            format!("the {} θ", names.join(" and ")),
+        ))
+    };
+    let direct = at_theta.and_then(|target| k_theta_at(target, &temperatures, &dilutions, &fractions));
+    let target = direct.as_ref().map(|d| d.temperature_k).or(target);
     let nearest_sf = nearest_stockmayer_fixman(&per_temperature, target);
     let (k_theta, k_theta_se, method, at_k) = match (&direct, nearest_sf) {
         (Some(d), _) => (
             d.k_theta,
             d.se,
             format!(
-                "Kθ = [η]/M^½ at the viscometric θ ({:.2} °C), interpolated between the measured temperatures (Flory–Fox)",
+                "Kθ = [η]/M^½ at {} ({:.2} °C), interpolated between the measured temperatures (Flory–Fox)",
+                d.source,
                 kelvin_to_celsius(d.temperature_k)
             ),
             d.temperature_k,
@@ -195,6 +217,7 @@ fn given_dilution(given: &[(f64, Option<f64>)]) -> Dilution {
         intrinsic: given.iter().map(|g| g.0).sum::<f64>() / n,
         se: sds.map(|s| s.iter().map(|x| x * x).sum::<f64>().sqrt() / n),
         se_dof: None,
+        truncation: 0.0,
         method: DilutionMethod::Given,
         huggins: None,
         kraemer: None,
@@ -204,7 +227,7 @@ fn given_dilution(given: &[(f64, Option<f64>)]) -> Dilution {
     }
 }
 
-fn fractions_of(series: &ViscometrySeries, known: &[KnownMolarMass], warnings: &mut Vec<String>) -> Vec<Fraction> {
+fn fractions_of(series: &ViscometrySeries, known: &[RouteFinding], warnings: &mut Vec<String>) -> Vec<Fraction> {
     let mut out: Vec<Fraction> = Vec::new();
     for row in &series.rows {
         let name = row.fraction_key();
@@ -234,14 +257,16 @@ fn fractions_of(series: &ViscometrySeries, known: &[KnownMolarMass], warnings: &
         }
         // Mn from osmometry before Mw from light scattering: [η] follows the viscosity average,
         // which lies between them, nearer Mw; say which one was used.
-        let found =
-            known
-                .iter()
-                .filter(|k| k.name == f.name)
-                .min_by_key(|k| if k.route == Route::LightScattering { 0 } else { 1 });
+        let found = known.iter().filter(|k| k.name == f.name && k.molar_mass.is_some()).min_by_key(|k| {
+            if k.route == Route::LightScattering {
+                0
+            } else {
+                1
+            }
+        });
         match found {
             Some(k) => {
-                f.molar_mass = Some(k.molar_mass);
+                f.molar_mass = k.molar_mass;
                 f.source = match k.route {
                     Route::LightScattering => format!("light-scattering Mw of series '{}'", k.name),
                     _ => format!("osmotic Mn of series '{}'", k.name),
@@ -356,16 +381,26 @@ pub(crate) struct ThetaFit {
 /// Kθ = [η]/M^{1/2} directly at θ: each fraction's ln [η] interpolated linearly in T between
 /// the measured temperatures that bracket θ (or read at one within 0.01 K), then the weighted
 /// mean over fractions (weights 1/SE², scaled up when the fractions scatter more than their
-/// SEs; equal weights and the spread without SEs).
+/// SEs; equal weights and the spread without SEs). Its SE adds, to the mean's, the lines'
+/// truncation (shared by the fractions, so not averaged down) and θ's own SE times dKθ/dT.
 pub(crate) struct DirectKTheta {
     temperature_k: f64,
     k_theta: f64,
     se: Option<f64>,
     n_fractions: usize,
+    source: String,
+}
+
+/// One fraction at θ: Kθ, its noise SE, its relative truncation, dKθ/dT (1/K).
+struct FractionAtTheta {
+    k: f64,
+    se: Option<f64>,
+    truncation: f64,
+    slope: f64,
 }
 
 fn k_theta_at(
-    theta: f64,
+    (theta, theta_se, source): (f64, f64, String),
     temperatures: &[f64],
     dilutions: &[(usize, usize, Dilution)],
     fractions: &[Fraction],
@@ -376,37 +411,45 @@ fn k_theta_at(
     let (t0, t1) = (temperatures[below], temperatures[above]);
     let f = if below == above { 0.0 } else { (theta - t0) / (t1 - t0) };
     let at = |fi: usize, ti: usize| dilutions.iter().find(|(f, t, _)| *f == fi && *t == ti).map(|(_, _, d)| d);
-    let values: Vec<(f64, Option<f64>)> = fractions
+    let values: Vec<FractionAtTheta> = fractions
         .iter()
         .enumerate()
         .filter_map(|(fi, fraction)| {
             let m = fraction.molar_mass?;
             let (d0, d1) = (at(fi, below)?, at(fi, above)?);
-            let ln_eta = (1.0 - f) * d0.intrinsic.ln() + f * d1.intrinsic.ln();
-            let se_ln = d0.se.zip(d1.se).map(|(s0, s1)| ((1.0 - f) * s0 / d0.intrinsic).hypot(f * s1 / d1.intrinsic));
-            let k = ln_eta.exp() / m.sqrt();
-            Some((k, se_ln.map(|s| s * k)))
+            let (l0, l1) = (d0.intrinsic.ln(), d1.intrinsic.ln());
+            let k = ((1.0 - f) * l0 + f * l1).exp() / m.sqrt();
+            let noise =
+                |d: &Dilution| d.se.map(|s| (s * s - d.truncation * d.truncation).max(0.0).sqrt() / d.intrinsic);
+            let se_ln = noise(d0).zip(noise(d1)).map(|(s0, s1)| ((1.0 - f) * s0).hypot(f * s1));
+            let truncation = (1.0 - f) * d0.truncation / d0.intrinsic + f * d1.truncation / d1.intrinsic;
+            let slope = if below == above { 0.0 } else { k * (l1 - l0) / (t1 - t0) };
+            Some(FractionAtTheta { k, se: se_ln.map(|s| s * k), truncation, slope })
         })
         .collect();
     if values.len() < 2 {
         return None;
     }
     let n = values.len() as f64;
-    let weights: Option<Vec<f64>> = values.iter().map(|v| v.1.filter(|s| *s > 0.0).map(|s| 1.0 / (s * s))).collect();
-    let (mean, se) = match weights {
-        Some(w) => {
-            let sum: f64 = w.iter().sum();
-            let mean = values.iter().zip(&w).map(|(v, w)| v.0 * w).sum::<f64>() / sum;
-            let chi2 = values.iter().zip(&w).map(|(v, w)| w * (v.0 - mean).powi(2)).sum::<f64>() / (n - 1.0);
-            (mean, (chi2.max(1.0) / sum).sqrt())
-        }
-        None => {
-            let mean = values.iter().map(|v| v.0).sum::<f64>() / n;
-            let var = values.iter().map(|v| (v.0 - mean).powi(2)).sum::<f64>() / (n - 1.0);
-            (mean, (var / n).sqrt())
-        }
+    let weights: Vec<f64> = match values.iter().map(|v| v.se.filter(|s| *s > 0.0).map(|s| 1.0 / (s * s))).collect() {
+        Some(w) => w,
+        None => vec![1.0; values.len()],
     };
-    Some(DirectKTheta { temperature_k: theta, k_theta: mean, se: Some(se), n_fractions: values.len() })
+    let sum: f64 = weights.iter().sum();
+    let mean_of =
+        |x: fn(&FractionAtTheta) -> f64| values.iter().zip(&weights).map(|(v, w)| w * x(v)).sum::<f64>() / sum;
+    let mean = mean_of(|v| v.k);
+    let spread = values.iter().zip(&weights).map(|(v, w)| w * (v.k - mean).powi(2)).sum::<f64>() / (n - 1.0);
+    let noise_var = if values.iter().all(|v| v.se.is_some_and(|s| s > 0.0)) {
+        // Scaled up when the fractions scatter more than their SEs, as the lines are.
+        spread.max(1.0) / sum
+    } else {
+        spread / n
+    };
+    let systematic = mean * mean_of(|v| v.truncation);
+    let through_theta = mean_of(|v| v.slope) * theta_se;
+    let se = (noise_var + systematic * systematic + through_theta * through_theta).sqrt();
+    Some(DirectKTheta { temperature_k: theta, k_theta: mean, se: Some(se), n_fractions: values.len(), source })
 }
 
 fn nearest_stockmayer_fixman(lines: &[TemperatureLines], target: Option<f64>) -> Option<&TemperatureLines> {

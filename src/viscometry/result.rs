@@ -16,7 +16,8 @@ pub struct ViscometryResult {
     pub temperatures: Vec<ViscometryTemperature>,
     /// Where the Mark–Houwink exponent is ½ (null with fewer than two temperatures).
     pub viscometric_theta: Option<ViscometricTheta>,
-    /// Kθ = [η]/M^{1/2} directly at the measured temperature at θ (null when none lies there).
+    /// Kθ = [η]/M^{1/2} directly at θ, interpolated between the temperatures that bracket it
+    /// (null when none do).
     pub k_theta_at_theta: Option<KThetaAtTheta>,
     /// d ln⟨r²⟩0/dT from the Stockmayer–Fixman Kθ(T), 1/K (three or more temperatures).
     pub r2_temperature_coefficient_per_k: Option<f64>,
@@ -153,8 +154,10 @@ pub struct ViscometricTheta {
 /// Kθ at θ, read directly.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct KThetaAtTheta {
-    /// The measured temperature used, K.
+    /// The θ it was read at, K.
     pub temperature_k: f64,
+    /// Which θ: another route's (the thermodynamic θ of the pair) or the viscometric one.
+    pub theta_from: String,
     /// Kθ = mean [η]/M^{1/2}, mL mol^{1/2} g^{-3/2}.
     pub k_theta_ml_mol_half_per_g_three_halves: f64,
     /// Its SE.
@@ -284,6 +287,7 @@ impl ViscometryResult {
             viscometric_theta,
             k_theta_at_theta: direct.map(|d| KThetaAtTheta {
                 temperature_k: d.temperature_k,
+                theta_from: d.source.clone(),
                 k_theta_ml_mol_half_per_g_three_halves: d.k_theta * K_THETA_REPORT_PER_SI,
                 k_theta_se_ml_mol_half_per_g_three_halves: d.se.map(|s| s * K_THETA_REPORT_PER_SI),
                 n_fractions: d.n_fractions,

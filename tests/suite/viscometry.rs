@@ -89,10 +89,8 @@ fn noise_free_intrinsic_viscosities_recover_every_parameter() {
 fn huggins_kraemer_on_exact_data_is_within_its_truncation() {
     for kh in [0.3, 0.35, 0.4, 0.5] {
         let eta = 0.05; // m³/kg = 50 mL/g
-        let readings: Vec<(f64, f64)> = [0.15, 0.25, 0.35, 0.45, 0.55]
-            .iter()
-            .map(|u| (u / eta, 1.0 + u + kh * u * u))
-            .collect();
+        let readings: Vec<(f64, f64)> =
+            [0.15, 0.25, 0.35, 0.45, 0.55].iter().map(|u| (u / eta, 1.0 + u + kh * u * u)).collect();
         let d = fit_dilution(&readings).unwrap();
         let bias = d.intrinsic / eta - 1.0;
         let (h, k, diff) = (d.huggins.unwrap().0, d.kraemer.unwrap().0, d.huggins_minus_kraemer.unwrap().0);
