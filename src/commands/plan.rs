@@ -4,6 +4,7 @@
 use super::{check_outputs, load, read_input, write_outputs, Loaded, PendingOutput};
 use crate::cli::{GoalArg, PlanArgs};
 use thetaseek::analysis::{self, Settings};
+use thetaseek::dataset::Route;
 use thetaseek::error::{Error, InputError};
 use thetaseek::input;
 use thetaseek::input::ReadOptions;
@@ -25,16 +26,20 @@ pub fn run(args: &PlanArgs) -> Result<(), Error> {
         args.inputs.iter().cloned().partition(|p| p.extension().is_some_and(|e| e.eq_ignore_ascii_case("json")));
     let mut inputs: Vec<InputFile> = Vec::new();
     let mut series: Vec<PlanSeries> = Vec::new();
+    // ⟨r²⟩0/M measured by the inputs (viscometry, light scattering at θ): used when the flag
+    // is not given.
+    let mut measured: Vec<(f64, String)> = Vec::new();
     for path in &reports {
         let (report, input) = super::read_report(path, args.read.max_input_mb)?;
-        series.extend(report.series.iter().map(thetaseek::report::plan::plan_series));
+        series.extend(report.series.iter().filter(|s| s.route != Route::Viscometry).map(report::plan::plan_series));
+        measured.extend(report::plan::measured_dimensions(&report.series));
         inputs.push(input);
     }
     if !data.is_empty() {
         let Loaded { inputs: data_inputs, mut dataset, .. } = load(&data, &options, args.read.max_input_mb)?;
-        // The plan reads θ of osmometry and tables.
+        // The plan reads θ of osmometry and tables; viscometry and light scattering give it the
+        // chain's dimensions.
         dataset.critical.clear();
-        dataset.scattering.clear();
         let analysis_settings = Settings {
             virial: super::analyze::virial_choice(args.read.virial),
             theta: ThetaSettings { confidence: args.confidence, bootstrap_replicates: 0, ..ThetaSettings::default() },
@@ -49,7 +54,14 @@ pub fn run(args: &PlanArgs) -> Result<(), Error> {
             &results,
             &dataset,
         );
-        series.extend(report.series.iter().map(thetaseek::report::plan::plan_series));
+        series.extend(
+            report
+                .series
+                .iter()
+                .filter(|s| !matches!(s.route, Route::Viscometry | Route::LightScattering))
+                .map(report::plan::plan_series),
+        );
+        measured.extend(report::plan::measured_dimensions(&report.series));
         inputs.extend(data_inputs);
     }
 
@@ -71,8 +83,17 @@ pub fn run(args: &PlanArgs) -> Result<(), Error> {
         }
     }
 
+    let mut settings = settings;
+    let dimensions_from = match (settings.unperturbed_r2_over_m, measured.first()) {
+        (Some(_), _) => Some("--unperturbed-dimension".to_string()),
+        (None, Some((value, from))) => {
+            settings.unperturbed_r2_over_m = Some(*value);
+            Some(from.clone())
+        }
+        (None, None) => None,
+    };
     let plan = plan::plan(&series, &solvents, &settings);
-    let plan_report = PlanReport::new(inputs, &settings, plan);
+    let plan_report = PlanReport::new(inputs, &settings, plan, dimensions_from.clone());
     let mut outputs = Vec::new();
     if let Some(path) = &args.report {
         outputs.push(PendingOutput::bytes(Destination::parse(path), report::to_json(&plan_report)));
@@ -97,7 +118,11 @@ pub fn run(args: &PlanArgs) -> Result<(), Error> {
     check_outputs(&outputs, &all_inputs)?;
     let stdout_taken = outputs.iter().any(|o| o.destination == Destination::Stdout);
     write_outputs(outputs)?;
-    let text = report::plan::render_terminal(&plan_report.plan);
+    let mut text = String::new();
+    if let (Some(d), Some(from)) = (plan_report.settings.unperturbed_r2_over_m_angstrom2_mol_per_g, &dimensions_from) {
+        text.push_str(&format!("Unperturbed dimensions: ⟨r²⟩0/M = {d:.4} Å² mol/g, from {from}\n\n"));
+    }
+    text.push_str(&report::plan::render_terminal(&plan_report.plan));
     if stdout_taken || args.quiet {
         // The cautions are shown even then, on stderr.
         eprint!("{}", if args.quiet { report::plan::render_cautions(&plan_report.plan.cautions) } else { text });

@@ -44,6 +44,9 @@ pub struct PlanReportSettings {
     pub a2_tolerance_mol_ml_per_g2: f64,
     /// ⟨r²⟩0/M, Å² mol/g (the key spells out ångström², not the virial coefficient A2).
     pub unperturbed_r2_over_m_angstrom2_mol_per_g: Option<f64>,
+    /// Where ⟨r²⟩0/M came from: `--unperturbed-dimension`, or the series and route that
+    /// measured it (viscometry, light scattering at θ).
+    pub unperturbed_r2_over_m_from: Option<String>,
     /// Margin kept below the boiling point, K.
     pub boiling_margin_k: f64,
     /// Margin to Tc below which a warning is given, K.
@@ -63,8 +66,8 @@ pub enum GoalName {
 }
 
 impl PlanReport {
-    /// Wraps a plan with its inputs and settings.
-    pub fn new(inputs: Vec<InputFile>, settings: &PlanSettings, plan: Plan) -> Self {
+    /// Wraps a plan with its inputs and settings; `dimensions_from` says where ⟨r²⟩0/M came from.
+    pub fn new(inputs: Vec<InputFile>, settings: &PlanSettings, plan: Plan, dimensions_from: Option<String>) -> Self {
         let (goal, target_a2, target_expansion) = match settings.goal {
             Goal::Unperturbed => (GoalName::Unperturbed, None, None),
             Goal::TargetA2(a) => (GoalName::TargetA2, Some(a), None),
@@ -83,12 +86,28 @@ impl PlanReport {
                 thermostat_c: settings.thermostat.map(|(lo, hi)| [kelvin_to_celsius(lo), kelvin_to_celsius(hi)]),
                 a2_tolerance_mol_ml_per_g2: settings.a2_tolerance,
                 unperturbed_r2_over_m_angstrom2_mol_per_g: settings.unperturbed_r2_over_m.map(|d| d * 1e17),
+                unperturbed_r2_over_m_from: dimensions_from,
                 boiling_margin_k: crate::plan::BOILING_MARGIN_K,
                 critical_margin_k: crate::plan::CRITICAL_MARGIN_K,
             },
             plan,
         }
     }
+}
+
+/// The measured unperturbed dimensions the plan can use, best first: viscometry (Flory–Fox
+/// at θ), then light scattering at θ; each with the text saying where it came from.
+pub fn measured_dimensions(series: &[SeriesReport]) -> Vec<(f64, String)> {
+    let mut found: Vec<(usize, f64, String)> = series
+        .iter()
+        .filter_map(|s| {
+            let d = s.unperturbed_dimensions.as_ref()?;
+            let rank = if d.route == crate::dataset::Route::Viscometry { 0 } else { 1 };
+            Some((rank, d.r2_over_m_si(), format!("{} of series '{}': {}", d.route.name(), s.name, d.method)))
+        })
+        .collect();
+    found.sort_by_key(|f| f.0);
+    found.into_iter().map(|(_, v, t)| (v, t)).collect()
 }
 
 /// The safety block, as printed at the end of every plan.
