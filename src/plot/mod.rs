@@ -10,6 +10,7 @@ mod mn;
 mod next;
 mod panels;
 mod plan;
+mod viscometry;
 mod zimm;
 
 pub use a2_temperature::{draw_a2_overlay, draw_a2_temperature};
@@ -18,6 +19,7 @@ pub use mn::draw_mn;
 pub use next::draw_next;
 pub use panels::{draw_reduced_pressure, draw_residuals};
 pub use plan::draw_plan;
+pub use viscometry::{draw_dilution, draw_mark_houwink, draw_stockmayer_fixman};
 pub use zimm::draw_zimm;
 
 use crate::report::{Report, SeriesReport};
@@ -307,12 +309,27 @@ pub struct Figure {
 }
 
 /// Every figure of a report: per series A2(T), reduced-pressure panels, Mn(T) and residuals
-/// (the last three for osmometry series), Zimm plots (light-scattering series), plus an overlay of all series when there are several.
+/// (the last three for osmometry series), Zimm plots (light-scattering series), Huggins and
+/// Kraemer panels, Mark–Houwink lines with a(T), and the Stockmayer–Fixman plot (viscometry),
+/// plus an overlay of all series when there are several.
 pub fn figures_for_report(report: &Report) -> Result<Vec<Figure>, FigureError> {
     let mut figures = Vec::new();
-    let bases = file_bases(report.series.iter().map(|s| s.name.as_str()));
-    let analysed: Vec<(usize, &SeriesReport)> =
-        report.series.iter().enumerate().filter(|(_, s)| s.theta.is_some() || !s.fits.is_empty()).collect();
+    // A viscometry series draws figures of its own kinds: it may share its pair's name (and
+    // file stem) with the osmometry series of the same pair.
+    let viscometric = |s: &&SeriesReport| s.viscometry.is_some();
+    let mut others = file_bases(report.series.iter().filter(|s| !viscometric(s)).map(|s| s.name.as_str())).into_iter();
+    let mut viscometry = file_bases(report.series.iter().filter(viscometric).map(|s| s.name.as_str())).into_iter();
+    let bases: Vec<String> = report
+        .series
+        .iter()
+        .map(|s| if viscometric(&s) { viscometry.next() } else { others.next() }.unwrap_or_default())
+        .collect();
+    let analysed: Vec<(usize, &SeriesReport)> = report
+        .series
+        .iter()
+        .enumerate()
+        .filter(|(_, s)| s.theta.is_some() || !s.fits.is_empty() || s.viscometry.is_some())
+        .collect();
     for (i, s) in &analysed {
         let base = &bases[*i];
         let mut push = |kind: &str, svg: String| figures.push(Figure { file_name: format!("{base}-{kind}.svg"), svg });
@@ -328,6 +345,12 @@ pub fn figures_for_report(report: &Report) -> Result<Vec<Figure>, FigureError> {
         if !s.light_scattering.is_empty() {
             let h = zimm::zimm_height(s.light_scattering.len());
             push("zimm", render_svg(900, h, |root| draw_zimm(root, s))?);
+        }
+        if let Some(v) = &s.viscometry {
+            let h = viscometry::dilution_height(v.temperatures.len());
+            push("huggins-kraemer", render_svg(900, h, |root| draw_dilution(root, s))?);
+            push("mark-houwink", render_svg(1100, 560, |root| draw_mark_houwink(root, s))?);
+            push("stockmayer-fixman", render_svg(900, 600, |root| draw_stockmayer_fixman(root, s))?);
         }
     }
     let overlay: Vec<(usize, &SeriesReport)> =

@@ -2,6 +2,8 @@
 //! tables, and the provenance. No scripts, fonts or requests; every text escaped. The markup is
 //! well-formed XML, so tests parse it strictly.
 
+mod viscometry;
+
 use crate::plot::Figure;
 use crate::report::plan::PlanReport;
 use crate::report::{plus_minus, InputFile, Report};
@@ -45,6 +47,7 @@ td.num { font-variant-numeric: tabular-nums; white-space: nowrap; }
 figure { margin: 1rem 0; }
 figure svg { max-width: 100%; height: auto; display: block; }
 figcaption { color: var(--muted); font-size: .85rem; }
+figcaption .file { font-family: monospace; font-size: .75rem; }
 .cautions { border: 2px solid var(--warn); padding: .6rem 1rem; }
 code, pre { font-family: ui-monospace, "SFMono-Regular", Menlo, monospace; font-size: .85rem; }
 pre { white-space: pre-wrap; word-break: break-all; background: var(--band); padding: .5rem; }
@@ -118,6 +121,22 @@ fn provenance(out: &mut String, tool_version: &str, inputs: &[InputFile], settin
     let _ = writeln!(out, "</table></div>\n<h3>Settings</h3>\n<pre>{}</pre>\n</section>", escape(settings_json));
 }
 
+/// What a figure shows and how to read it, from the kind its file name ends with.
+fn caption(file_name: &str) -> &'static str {
+    let kinds: [(&str, &str); 9] = [
+        ("a2-temperature.svg", "A2 at each temperature with its SE, the fitted Flory–Krigbaum line and θ where it crosses zero; the shaded band is θ's interval."),
+        ("reduced-pressure.svg", "Reduced osmotic pressure Π/(cRT) against concentration, one panel per temperature: the intercept is 1/Mn, the slope A2."),
+        ("mn-temperature.svg", "Mn at each temperature with its SE: one polymer, so the points should agree within their bars."),
+        ("residuals.svg", "Studentised residuals of the per-temperature fits: points beyond ±3 are suspect readings."),
+        ("zimm.svg", "Zimm plot per temperature: K c/R extrapolated to zero angle and zero concentration (1/Mw), the slopes giving A2 and Rg."),
+        ("huggins-kraemer.svg", "Huggins (ηsp/c, filled, solid) and Kraemer (ln ηrel/c, hollow, dashed) lines of each fraction, one panel per temperature; both meet at [η] (×)."),
+        ("mark-houwink.svg", "Left: [η] against M on log scales, one Mark–Houwink line per temperature (slope a). Right: a against T with its SE; where it crosses ½ is the viscometric θ (approximate), shaded its interval."),
+        ("stockmayer-fixman.svg", "[η]/M½ against M½ per temperature: the intercept is Kθ, which gives ⟨r²⟩0/M; a flat line means unperturbed chains."),
+        ("all-series-a2-temperature.svg", "A2 against temperature for every series together."),
+    ];
+    kinds.iter().rev().find(|(kind, _)| file_name.ends_with(kind)).map_or("", |(_, text)| text)
+}
+
 /// The HTML report of `thetaseek analyze`: `figures` are the SVGs `--figures` would write.
 pub fn analyze_html(report: &Report, figures: &[Figure], date: &str) -> String {
     let mut b = String::new();
@@ -157,13 +176,34 @@ pub fn analyze_html(report: &Report, figures: &[Figure], date: &str) -> String {
                     escape(t.reason.as_deref().unwrap_or(""))
                 );
             }
-            None => {
-                let _ = writeln!(
-                    b,
-                    "<div class=\"theta\">refused</div>\n<div>{}</div>",
-                    escape(s.reason.as_deref().unwrap_or(""))
-                );
-            }
+            None => match (&s.viscometry, s.viscometry.as_ref().and_then(|v| v.viscometric_theta.as_ref())) {
+                (Some(_), Some(t)) => {
+                    let _ = writeln!(
+                        b,
+                        "<div class=\"theta\">viscometric θ ≈ {}</div>\n<div>± {} K · approximate (where a = ½)</div>",
+                        k_and_c(Some(t.theta_k)),
+                        opt(t.se_k, 2)
+                    );
+                }
+                (Some(_), None) => {
+                    let _ = writeln!(b, "<div class=\"theta\">no viscometric θ</div>");
+                }
+                _ => {
+                    let _ = writeln!(
+                        b,
+                        "<div class=\"theta\">refused</div>\n<div>{}</div>",
+                        escape(s.reason.as_deref().unwrap_or(""))
+                    );
+                }
+            },
+        }
+        if let Some(d) = &s.unperturbed_dimensions {
+            let _ = writeln!(
+                b,
+                "<div>⟨r²⟩0/M = {:.4} Å² mol/g ({})</div>",
+                d.unperturbed_r2_over_m_nm2_mol_per_g * 100.0,
+                escape(d.route.name())
+            );
         }
         for w in &s.warnings {
             let _ = writeln!(b, "<div class=\"warn\">⚠ {}</div>", escape(w));
@@ -176,8 +216,9 @@ pub fn analyze_html(report: &Report, figures: &[Figure], date: &str) -> String {
     for f in figures {
         let _ = writeln!(
             b,
-            "<figure>\n{}\n<figcaption>{}</figcaption>\n</figure>",
+            "<figure>\n{}\n<figcaption>{} <span class=\"file\">({})</span></figcaption>\n</figure>",
             inline_svg(&f.svg),
+            escape(caption(&f.file_name)),
             escape(&f.file_name)
         );
     }
@@ -265,6 +306,7 @@ pub fn analyze_html(report: &Report, figures: &[Figure], date: &str) -> String {
         }
         let _ = writeln!(b, "</section>");
     }
+    b.push_str(&viscometry::viscometry_section(report));
     let critical: Vec<(&str, &crate::theta::CriticalRoute)> =
         report.series.iter().filter_map(|s| s.critical.as_ref().map(|c| (s.name.as_str(), c))).collect();
     if !critical.is_empty() {
