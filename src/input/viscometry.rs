@@ -193,7 +193,7 @@ pub(super) fn read_viscometry(table: &Table, options: &ReadOptions) -> Result<Fi
                 return Err(table.refuse(
                     col,
                     row,
-                    &format!("a solution flows slower than its solvent: this flow time must be longer than the solvent's ({t0} s)"),
+                    &format!("this solution flows faster than its solvent (t0 = {t0} s): a solution's flow time must be longer than the solvent's"),
                 ));
             }
             if let ViscosityValue::Relative { relative_viscosity, .. } = &mut r.value {

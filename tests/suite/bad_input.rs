@@ -58,6 +58,14 @@ const CATALOGUE: &[Case] = &[
     // A workbook whose header cells C5:D5 are merged: the merged-away cell is an empty name.
     ("merged_header_cells.xlsx", Some(5), Some("field 4"), None),
     ("concentration_above_two_g_per_ml.csv", Some(3), Some("concentration (g/L)"), Some("5000")),
+    // Viscometry: a solution cannot flow faster than its solvent, a solvent time is needed at
+    // each temperature, times are positive, and Mark–Houwink needs more than one fraction.
+    ("viscometry_flow_faster_than_solvent.csv", Some(3), Some("flow time (s)"), Some("119.2")),
+    ("viscometry_missing_solvent_time.csv", Some(3), Some("flow time (s)"), Some("130.2")),
+    ("viscometry_negative_time.csv", Some(3), Some("flow time (s)"), Some("-131.0")),
+    ("viscometry_one_fraction.csv", Some(2), Some("fraction"), Some("F1")),
+    ("viscometry_relative_below_one.csv", Some(3), Some("relative viscosity"), Some("0.98")),
+    ("viscometry_unknown_intrinsic_unit.csv", Some(1), Some("intrinsic viscosity (mL/mg)"), Some("mL/mg")),
 ];
 
 #[test]

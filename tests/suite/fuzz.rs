@@ -31,7 +31,12 @@ fn pipeline(bytes: &[u8]) {
         Some(Quantity::HalfMinusChi) => (Vec::new(), contents.tabulated.clone()),
         None => (Vec::new(), Vec::new()),
     };
-    let dataset = Dataset::new(contents.readings, &a2, &chi, Default::default(), &contents.volumes, &contents.solvents);
+    let routes = thetaseek::dataset::OtherRoutes {
+        critical: contents.critical.clone(),
+        scattering: contents.scattering.clone(),
+        viscometry: contents.viscometry.clone(),
+    };
+    let dataset = Dataset::new(contents.readings, &a2, &chi, routes, &contents.volumes, &contents.solvents);
     let settings = Settings {
         theta: ThetaSettings { bootstrap_replicates: 10, ..ThetaSettings::default() },
         ..Settings::default()
@@ -56,7 +61,10 @@ fn pipeline(bytes: &[u8]) {
     assert!(to_json(&again) == bytes, "the report read back is written differently");
     let mut json = String::from_utf8(bytes).unwrap();
     for s in &report.series {
-        json = json.replace(&s.name, "(name)"); // a series may be called "NaN"
+        json = json.replace(&s.name, "(name)"); // a series (or a fraction) may be called "NaN"
+        for f in s.viscometry.iter().flat_map(|v| &v.fractions) {
+            json = json.replace(&f.name, "(name)");
+        }
     }
     assert!(!json.contains("NaN") && !json.contains("inf"), "a non-finite number reached the report: {json}");
     let _ = table_csv(&report);
@@ -70,6 +78,30 @@ fn pipeline(bytes: &[u8]) {
     let html = thetaseek::html::analyze_html(&report, &figures, "2026-01-01");
     crate::common::parse_html(&html);
 }
+
+/// A small viscometry file (flow times, three fractions, two temperatures).
+const VALID_VISCOMETRY: &str =
+    "series,fraction,molar mass (g/mol),temperature (C),concentration (g/dL),flow time (s)\n\
+v,,,25.0,0,120.02\n\
+v,F1,52000,25.0,1.2392,146.57\n\
+v,F1,52000,25.0,1.8587,161.75\n\
+v,F1,52000,25.0,2.4783,178.36\n\
+v,F2,98000,25.0,0.9232,146.59\n\
+v,F2,98000,25.0,1.3847,161.83\n\
+v,F2,98000,25.0,1.8463,178.41\n\
+v,F3,320000,25.0,0.5479,146.64\n\
+v,F3,320000,25.0,0.8219,161.83\n\
+v,F3,320000,25.0,1.0958,178.44\n\
+v,,,40.0,0,98.92\n\
+v,F1,52000,40.0,1.1342,120.68\n\
+v,F1,52000,40.0,1.7013,132.89\n\
+v,F1,52000,40.0,2.2684,146.13\n\
+v,F2,98000,40.0,0.8170,120.74\n\
+v,F2,98000,40.0,1.2256,132.95\n\
+v,F2,98000,40.0,1.6341,146.06\n\
+v,F3,320000,40.0,0.4377,120.74\n\
+v,F3,320000,40.0,0.6566,132.95\n\
+v,F3,320000,40.0,0.8754,146.12\n";
 
 const VALID: &str = "# a comment\n\
 series,temperature (C),concentration (g/L),pressure (Pa),pressure sd (Pa)\n\
@@ -250,6 +282,15 @@ proptest! {
         if let Ok(contents) = thetaseek::input::read_workbook("fuzz.xlsx", 0, book, &options) {
             let _ = Dataset::new(contents.readings, &[], &[], Default::default(), &contents.volumes, &contents.solvents);
         }
+    }
+
+    #[test]
+    fn mutated_viscometry_files_never_panic(mutations in proptest::collection::vec(mutation(), 1..5)) {
+        let mut text = VALID_VISCOMETRY.as_bytes().to_vec();
+        for m in &mutations {
+            apply(&mut text, m);
+        }
+        pipeline(&text);
     }
 
     #[test]

@@ -181,3 +181,77 @@ fn huggins_constants_are_recovered_on_noise_free_series() {
     let theta = v.viscometric_theta.unwrap();
     assert!((theta.theta_k - truth.theta_k).abs() < 0.5, "θ {}", theta.theta_k);
 }
+
+fn demo_viscometry() -> std::path::PathBuf {
+    std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("data/px40-viscometry.csv")
+}
+
+/// The README's run: the demo's osmometry and viscometry together. The whole resin takes the
+/// osmotic Mn, Kθ is read at the osmotic θ, the viscometric θ joins the routes' comparison
+/// without entering the combined θ, and every output carries the route.
+#[test]
+fn the_demo_runs_from_flow_times_to_dimensions_and_into_the_plan() {
+    let dir = tempfile::tempdir().unwrap();
+    let (report, table, figures) = (dir.path().join("r.json"), dir.path().join("t.csv"), dir.path().join("fig"));
+    let out = crate::common::thetaseek()
+        .args(["analyze"])
+        .arg(crate::common::demo())
+        .arg(demo_viscometry())
+        .arg("--report")
+        .arg(&report)
+        .arg("--table")
+        .arg(&table)
+        .arg("--figures")
+        .arg(&figures)
+        .output()
+        .unwrap();
+    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+    let text = String::from_utf8_lossy(&out.stdout);
+    assert!(text.contains("viscometric θ (a = ½)") && text.contains("⟨r²⟩0/M ="), "{text}");
+    let r: serde_json::Value = serde_json::from_slice(&std::fs::read(&report).unwrap()).unwrap();
+    let v = r["series"].as_array().unwrap().iter().find(|s| s["route"] == "viscometry").unwrap();
+    let whole =
+        v["viscometry"]["fractions"].as_array().unwrap().iter().find(|f| f["name"] == "PX-40 in mirane").unwrap();
+    assert_eq!(whole["molar_mass_source"], "osmotic Mn of series 'PX-40 in mirane'");
+    assert!(v["viscometry"]["k_theta_at_theta"]["theta_from"].as_str().unwrap().contains("osmometry"));
+    // Truth of the invented demo (examples/make-demo.rs): Kθ = 0.075, ⟨r²⟩0/M from it by Flory–Fox.
+    let k = &v["viscometry"]["k_theta_at_theta"];
+    let (value, se) = (
+        k["k_theta_ml_mol_half_per_g_three_halves"].as_f64().unwrap(),
+        k["k_theta_se_ml_mol_half_per_g_three_halves"].as_f64().unwrap(),
+    );
+    assert!((value - 0.075).abs() < 3.0 * se, "Kθ {value} ± {se}");
+    let d = &v["unperturbed_dimensions"];
+    assert_eq!(d["route"], "viscometry");
+    assert!(d["unperturbed_r2_over_m_nm2_mol_per_g"].as_f64().unwrap() > 0.0);
+    let theta = &v["viscometry"]["viscometric_theta"];
+    assert_eq!(theta["crossing"], "bracketed");
+    let comparison = r["routes"].as_array().unwrap().iter().find(|c| c["series"] == "PX-40 in mirane").unwrap();
+    assert_eq!(comparison["combined_routes"], serde_json::json!(["osmometry"]));
+    assert!(comparison["notes"][0].as_str().unwrap().contains("approximate criterion"));
+    let table = std::fs::read_to_string(&table).unwrap();
+    assert!(table.lines().next().unwrap().contains("intrinsic viscosity (mL/g)"));
+    assert_eq!(table.lines().filter(|l| l.starts_with("PX-40 in mirane,ok,") && l.contains(",PX-40 F1,")).count(), 5);
+    for kind in ["huggins-kraemer", "mark-houwink", "stockmayer-fixman"] {
+        let svg = std::fs::read_to_string(figures.join(format!("px-40-in-mirane-{kind}.svg"))).unwrap();
+        roxmltree::Document::parse(&svg).unwrap();
+    }
+    // The plan takes ⟨r²⟩0/M from the viscometry and says so; the flag still wins.
+    let plan = |extra: &[&str]| {
+        let mut c = crate::common::thetaseek();
+        c.args(["plan", "--solvents"])
+            .arg(std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("data/px40-solvents.csv"))
+            .args(["--molar-mass", "185000", "--polymer-specific-volume", "0.92", "--report", "-"])
+            .args(extra)
+            .arg(&report);
+        crate::common::json_stdout(&mut c)
+    };
+    let measured = plan(&[]);
+    assert!(measured["settings"]["unperturbed_r2_over_m_from"].as_str().unwrap().starts_with("viscometry of series"));
+    let from_data = measured["settings"]["unperturbed_r2_over_m_angstrom2_mol_per_g"].as_f64().unwrap();
+    assert!((from_data - d["unperturbed_r2_over_m_nm2_mol_per_g"].as_f64().unwrap() * 100.0).abs() < 1e-9);
+    assert!(measured["candidates"].as_array().unwrap().iter().all(|c| c["overlap_concentration_g_per_ml"].is_number()));
+    let flagged = plan(&["--unperturbed-dimension", "0.6"]);
+    assert_eq!(flagged["settings"]["unperturbed_r2_over_m_from"], "--unperturbed-dimension");
+    assert!((flagged["settings"]["unperturbed_r2_over_m_angstrom2_mol_per_g"].as_f64().unwrap() - 0.6).abs() < 1e-12);
+}
