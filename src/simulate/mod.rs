@@ -68,3 +68,4 @@ pub fn simulate(truth: &VirialTruth, concentrations: &[f64], noise: Noise, rng: 
 
 pub mod study;
 pub mod viscometry;
+pub mod viscometry_study;

@@ -27,6 +27,16 @@ pub enum Expansion {
     },
 }
 
+/// The error of one ηrel: σ = absolute + relative × ηrel (a flow time read to a fixed
+/// precision, and a timing error proportional to the time).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct ViscosityNoise {
+    /// Floor.
+    pub absolute: f64,
+    /// Fraction of ηrel.
+    pub relative: f64,
+}
+
 /// The truth behind a simulated viscometry series.
 #[derive(Debug, Clone, PartialEq)]
 pub struct ViscometryTruth {
@@ -86,7 +96,12 @@ impl ViscometryTruth {
     /// Rows of one series named `series`, fractions named `F1`, `F2`, … with their molar
     /// mass; ηrel with a normal error of SD `sd` (none when 0).
     pub fn rows(&self, series: &str, sd: f64, rng: &mut impl Rng) -> Vec<ViscometryRow> {
-        let noise = Normal::new(0.0, sd.max(f64::MIN_POSITIVE)).expect("a finite SD");
+        self.rows_with(series, ViscosityNoise { absolute: sd, relative: 0.0 }, rng)
+    }
+
+    /// [`Self::rows`] with σ(ηrel) = absolute + relative × ηrel.
+    pub fn rows_with(&self, series: &str, noise_model: ViscosityNoise, rng: &mut impl Rng) -> Vec<ViscometryRow> {
+        let noise = Normal::new(0.0, 1.0).expect("a unit normal");
         let mut rows = Vec::new();
         for (j, &m) in self.molar_masses.iter().enumerate() {
             for &t in &self.temperatures_k {
@@ -95,7 +110,8 @@ impl ViscometryTruth {
                 for &u in &self.reduced_concentrations {
                     let c = u / eta;
                     let exact = 1.0 + eta * c + kh * (eta * c).powi(2);
-                    let e = if sd > 0.0 { noise.sample(rng) } else { 0.0 };
+                    let sd = noise_model.absolute + noise_model.relative * exact;
+                    let e = if sd > 0.0 { sd * noise.sample(rng) } else { 0.0 };
                     rows.push(ViscometryRow {
                         series: series.to_string(),
                         fraction: Some(format!("F{}", j + 1)),

@@ -4,7 +4,8 @@
 //! one intercept [η] (weights c² and (ηrel c)²: a constant error in ηrel, as from flow times read
 //! to a fixed precision). Both lines come from the same readings, so their errors are one error
 //! seen twice: the covariance is propagated from each reading's ηrel (first order), with the
-//! error variance from the Huggins line's residuals (n − 2 degrees of freedom, t quantile).
+//! error variance from the Huggins line's residuals (n − 2 degrees of freedom, t quantile;
+//! [`pool_noise`] pools it over the series' fractions and temperatures).
 //! The two lines cannot both be straight (ln(1 + x) is not x): the shared intercept's distance to
 //! the farther of the two lines' own intercepts (its truncation, were either line exact) is added
 //! to its variance, so that the SE also covers the model (measured in `tests/suite/viscometry.rs`).
@@ -85,6 +86,32 @@ pub struct Dilution {
     pub readings: Vec<(f64, f64)>,
     /// Why the result is weak.
     pub warnings: Vec<DilutionWarning>,
+    /// The Huggins–Kraemer fit behind the SEs (absent for one concentration or given [η]).
+    pub lines: Option<LinesFit>,
+}
+
+/// What the SEs of a Huggins–Kraemer fit are computed from.
+#[derive(Debug, Clone, PartialEq)]
+pub struct LinesFit {
+    /// ([η], kH [η]², kK [η]²), SI.
+    pub coefficients: [f64; 3],
+    /// Their covariance for a unit ηrel error variance.
+    pub unit_covariance: [[f64; 3]; 3],
+    /// Σ (c × Huggins residual)², the ηrel residual sum of squares of the Huggins line.
+    pub rss: f64,
+    /// Its degrees of freedom (n − 2).
+    pub dof: usize,
+    /// Warnings that do not depend on the SEs.
+    pub base_warnings: Vec<DilutionWarning>,
+}
+
+impl Dilution {
+    /// The SE without the truncation: the readings' noise alone, m³/kg. The lines across
+    /// fractions weigh by it, since the truncation moves every fraction's [η] alike (it then
+    /// enters their intercepts, not their slopes).
+    pub fn noise_se(&self) -> Option<f64> {
+        self.se.map(|s| (s * s - self.truncation * self.truncation).max(0.0).sqrt())
+    }
 }
 
 /// Solomon–Ciută: [η] = √(2 (ηsp − ln ηrel))/c, m³/kg from c in kg/m³.
@@ -127,6 +154,7 @@ pub fn fit_dilution(readings: &[(f64, f64)]) -> Option<Dilution> {
             huggins_minus_kraemer: None,
             readings: readings.to_vec(),
             warnings,
+            lines: None,
         });
     }
     let n = readings.len();
@@ -165,56 +193,87 @@ pub fn fit_dilution(readings: &[(f64, f64)]) -> Option<Dilution> {
             }
         }
     }
-    let cov = sigma2.map(|s2| cov.map(|row| row.map(|x| x * s2)));
-    // k = b/[η]²: gradient (−2b/[η]³, 1/[η]²) in ([η], b).
-    let constant = |b: f64, col: usize| {
-        let k = b / (eta * eta);
-        let se = cov.map(|v| {
-            let (de, db) = (-2.0 * b / eta.powi(3), 1.0 / (eta * eta));
-            (de * de * v[0][0] + 2.0 * de * db * v[0][col] + db * db * v[col][col]).max(0.0).sqrt()
-        });
-        (k, se)
-    };
-    let huggins = constant(b_h, 1);
-    let kraemer = constant(b_k, 2);
-    let difference = {
-        let d = (b_h - b_k) / (eta * eta);
-        let se = cov.map(|v| {
-            let (de, dh, dk) = (-2.0 * (b_h - b_k) / eta.powi(3), 1.0 / (eta * eta), -1.0 / (eta * eta));
-            let grad = [de, dh, dk];
-            let mut var = 0.0;
-            for i in 0..3 {
-                for j in 0..3 {
-                    var += grad[i] * grad[j] * v[i][j];
-                }
-            }
-            var.max(0.0).sqrt()
-        });
-        (d, se)
-    };
-    let departure = (difference.0 - 0.5).abs();
-    if departure > HUGGINS_KRAEMER_TOLERANCE && difference.1.is_none_or(|se| departure > 2.58 * se) {
-        warnings.push(warning("huggins_kraemer_departure", format!(
-            "kH − kK = {:.2}, not the ½ the two lines share in dilute solution: look for association, adsorption on the capillary wall, or a wrong solvent flow time",
-            difference.0
-        )));
-    }
-    if sigma2.is_none() {
-        warnings.push(warning(
-            "no_scatter",
-            "two concentrations: no scatter is left to estimate an SE from; measure a third".into(),
-        ));
-    }
-    Some(Dilution {
+    let mut fit = Dilution {
         intrinsic: eta,
-        se: cov.map(|v| (v[0][0].max(0.0) + truncation * truncation).sqrt()),
-        se_dof: sigma2.map(|_| huggins_line.dof),
+        se: None,
+        se_dof: None,
         truncation,
         method: DilutionMethod::HugginsKraemer,
-        huggins: Some(huggins),
-        kraemer: Some(kraemer),
-        huggins_minus_kraemer: Some(difference),
+        huggins: None,
+        kraemer: None,
+        huggins_minus_kraemer: None,
         readings: readings.to_vec(),
-        warnings,
-    })
+        warnings: Vec::new(),
+        lines: Some(LinesFit {
+            coefficients: [eta, b_h, b_k],
+            unit_covariance: cov,
+            rss: huggins_line.rss_weighted,
+            dof: huggins_line.dof,
+            base_warnings: warnings,
+        }),
+    };
+    fit.set_noise(sigma2, huggins_line.dof);
+    Some(fit)
+}
+
+/// Pools the ηrel error variance over every Huggins–Kraemer series of one viscometer
+/// (σ² = Σ RSS / Σ dof): one fraction's three or so residual degrees of freedom make a poor
+/// weight, the pooled estimate a good one (as osmometry pools over temperatures). Two-
+/// concentration series then get an SE too.
+pub fn pool_noise<'a>(dilutions: impl Iterator<Item = &'a mut Dilution>) {
+    let mut fits: Vec<&mut Dilution> = dilutions.filter(|d| d.lines.is_some()).collect();
+    let (rss, dof) =
+        fits.iter().filter_map(|d| d.lines.as_ref()).fold((0.0, 0usize), |(r, n), l| (r + l.rss, n + l.dof));
+    if dof == 0 {
+        return;
+    }
+    for d in &mut fits {
+        d.set_noise(Some(rss / dof as f64), dof);
+    }
+}
+
+impl Dilution {
+    /// The SEs of [η], kH, kK and kH − kK for an ηrel error variance `sigma2` on `dof` degrees
+    /// of freedom, and the warnings that depend on them.
+    fn set_noise(&mut self, sigma2: Option<f64>, dof: usize) {
+        let Some(lines) = &self.lines else { return };
+        let [eta, b_h, b_k] = lines.coefficients;
+        let cov = sigma2.map(|s2| lines.unit_covariance.map(|row| row.map(|x| x * s2)));
+        let gradient_se = |grad: [f64; 3]| {
+            cov.map(|v| {
+                let mut var = 0.0;
+                for i in 0..3 {
+                    for j in 0..3 {
+                        var += grad[i] * grad[j] * v[i][j];
+                    }
+                }
+                var.max(0.0).sqrt()
+            })
+        };
+        // k = b/[η]²: gradient (−2b/[η]³, 1/[η]²) in ([η], b).
+        let e2 = eta * eta;
+        let huggins = (b_h / e2, gradient_se([-2.0 * b_h / (e2 * eta), 1.0 / e2, 0.0]));
+        let kraemer = (b_k / e2, gradient_se([-2.0 * b_k / (e2 * eta), 0.0, 1.0 / e2]));
+        let difference = ((b_h - b_k) / e2, gradient_se([-2.0 * (b_h - b_k) / (e2 * eta), 1.0 / e2, -1.0 / e2]));
+        let mut warnings = lines.base_warnings.clone();
+        let departure = (difference.0 - 0.5).abs();
+        if departure > HUGGINS_KRAEMER_TOLERANCE && difference.1.is_none_or(|se| departure > 2.58 * se) {
+            warnings.push(warning("huggins_kraemer_departure", format!(
+                "kH − kK = {:.2}, not the ½ the two lines share in dilute solution: look for association, adsorption on the capillary wall, or a wrong solvent flow time",
+                difference.0
+            )));
+        }
+        if sigma2.is_none() {
+            warnings.push(warning(
+                "no_scatter",
+                "two concentrations: no scatter is left to estimate an SE from; measure a third".into(),
+            ));
+        }
+        self.se = cov.map(|v| (v[0][0].max(0.0) + self.truncation * self.truncation).sqrt());
+        self.se_dof = sigma2.map(|_| dof);
+        self.huggins = Some(huggins);
+        self.kraemer = Some(kraemer);
+        self.huggins_minus_kraemer = Some(difference);
+        self.warnings = warnings;
+    }
 }

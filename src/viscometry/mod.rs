@@ -13,7 +13,7 @@ pub mod dilution;
 pub mod line;
 mod result;
 
-pub use dilution::{fit_dilution, solomon_ciuta, Dilution, DilutionMethod, DilutionWarning};
+pub use dilution::{fit_dilution, pool_noise, solomon_ciuta, Dilution, DilutionMethod, DilutionWarning};
 pub use result::*;
 
 use crate::chain_dimensions::{r2_over_m_from_k_theta, RepeatUnit, UnperturbedDimensions, NM2_MOL_PER_G_PER_SI};
@@ -77,15 +77,24 @@ pub fn analyze_viscometry(
     let mut warnings = Vec::new();
     let fractions = fractions_of(series, known, &mut warnings);
     let temperatures = temperatures_of(series);
+    // Each row's fraction and temperature, once.
+    let cells: Vec<(Option<usize>, Option<usize>)> = series
+        .rows
+        .iter()
+        .map(|r| {
+            let key = r.fraction_key();
+            (
+                fractions.iter().position(|f| f.name == key),
+                temperatures.iter().position(|t| (r.temperature_k - t).abs() <= TEMPERATURE_GROUPING_K),
+            )
+        })
+        .collect();
     // [η] of each fraction at each temperature.
     let mut dilutions: Vec<(usize, usize, Dilution)> = Vec::new();
-    for (fi, fraction) in fractions.iter().enumerate() {
-        for (ti, &t) in temperatures.iter().enumerate() {
-            let rows: Vec<&crate::dataset::ViscometryRow> = series
-                .rows
-                .iter()
-                .filter(|r| r.fraction_key() == fraction.name && (r.temperature_k - t).abs() <= TEMPERATURE_GROUPING_K)
-                .collect();
+    for fi in 0..fractions.len() {
+        for ti in 0..temperatures.len() {
+            let rows: Vec<&crate::dataset::ViscometryRow> =
+                series.rows.iter().zip(&cells).filter(|(_, c)| **c == (Some(fi), Some(ti))).map(|(r, _)| r).collect();
             let relative: Vec<(f64, f64)> = rows
                 .iter()
                 .filter_map(|r| match r.value {
@@ -114,6 +123,8 @@ pub fn analyze_viscometry(
             }
         }
     }
+    // One viscometer: its ηrel error pooled over every dilution series.
+    pool_noise(dilutions.iter_mut().map(|(_, _, d)| d));
     // Per temperature, across fractions with a molar mass.
     let mut per_temperature = Vec::new();
     for (ti, &t) in temperatures.iter().enumerate() {
@@ -138,7 +149,7 @@ pub fn analyze_viscometry(
     let thermodynamic: Vec<&RouteFinding> =
         known.iter().filter(|k| k.name == series.name && k.route != Route::Viscometry && k.theta_k.is_some()).collect();
     let at_theta = if thermodynamic.is_empty() {
-        theta.as_ref().map(|t| (t.theta_k, t.se_k.unwrap_or(0.0), "the viscometric θ".to_string()))
+        theta.as_ref().map(|t| (t.theta_k, t.se_k.unwrap_or(0.0), "the viscometric θ".to_string(), false))
     } else {
         let w: Vec<(f64, f64)> =
             thermodynamic.iter().filter_map(|k| k.theta_k).map(|(t, s)| (t, 1.0 / (s * s))).collect();
@@ -148,13 +159,21 @@ pub fn analyze_viscometry(
             w.iter().map(|x| x.0 * x.1).sum::<f64>() / sum,
             sum.sqrt().recip(),
             format!("the {} θ", names.join(" and ")),
+            true,
         ))
     };
     let direct = at_theta.and_then(|target| k_theta_at(target, &temperatures, &dilutions, &fractions));
     let target = direct.as_ref().map(|d| d.temperature_k).or(target);
+    // Without another route's θ, the Stockmayer–Fixman intercepts (which need no θ) carried to
+    // the viscometric θ: far less sensitive to that θ's own bias than [η] read there directly.
+    let from_lines = if direct.as_ref().is_some_and(|d| d.from_other_route) {
+        None
+    } else {
+        theta.as_ref().and_then(|t| stockmayer_fixman_at(&per_temperature, t.theta_k, t.se_k.unwrap_or(0.0)))
+    };
     let nearest_sf = nearest_stockmayer_fixman(&per_temperature, target);
-    let (k_theta, k_theta_se, method, at_k) = match (&direct, nearest_sf) {
-        (Some(d), _) => (
+    let (k_theta, k_theta_se, method, at_k) = match (&direct, from_lines, nearest_sf) {
+        (Some(d), _, _) if d.from_other_route => (
             d.k_theta,
             d.se,
             format!(
@@ -164,8 +183,17 @@ pub fn analyze_viscometry(
             ),
             d.temperature_k,
         ),
-        (None, Some(p)) => {
-            let (k, se) = p.stockmayer_fixman.as_ref().map(|l| l.at(0.0)).expect("chosen for its line");
+        (_, Some((k, se, t)), _) => (
+            k,
+            Some(se),
+            format!(
+                "Stockmayer–Fixman intercepts carried to the viscometric θ ({:.2} °C) (Flory–Fox)",
+                kelvin_to_celsius(t)
+            ),
+            t,
+        ),
+        (_, None, Some(p)) => {
+            let (k, se) = p.k_theta().expect("chosen for its line");
             (
                 k,
                 (p.stockmayer_fixman_se_known).then_some(se),
@@ -173,7 +201,7 @@ pub fn analyze_viscometry(
                 p.temperature_k,
             )
         }
-        (None, None) => (f64::NAN, None, String::new(), f64::NAN),
+        (_, None, None) => (f64::NAN, None, String::new(), f64::NAN),
     };
     let dimensions = (k_theta.is_finite() && k_theta > 0.0).then(|| {
         UnperturbedDimensions::new(
@@ -224,6 +252,7 @@ fn given_dilution(given: &[(f64, Option<f64>)]) -> Dilution {
         huggins_minus_kraemer: None,
         readings: Vec::new(),
         warnings: Vec::new(),
+        lines: None,
     }
 }
 
@@ -304,6 +333,8 @@ struct TemperatureLines {
     stockmayer_fixman: Option<Line>,
     /// Whether the Stockmayer–Fixman SEs are meaningful (the [η] had SEs or the line had dof).
     stockmayer_fixman_se_known: bool,
+    /// Mean relative truncation of the fractions' [η] (a shared, systematic part of their SEs).
+    truncation: f64,
 }
 
 impl TemperatureLines {
@@ -311,12 +342,14 @@ impl TemperatureLines {
         let basis = basis_of(points.iter().map(|(_, d)| d.se_dof));
         let x: Vec<f64> = points.iter().map(|(m, _)| m.ln()).collect();
         let y: Vec<f64> = points.iter().map(|(_, d)| d.intrinsic.ln()).collect();
-        let se: Vec<Option<f64>> = points.iter().map(|(_, d)| d.se.map(|s| s / d.intrinsic)).collect();
+        let se: Vec<Option<f64>> = points.iter().map(|(_, d)| d.noise_se().map(|s| s / d.intrinsic)).collect();
         let mark_houwink = (points.len() >= 3).then(|| Line::fit(&x, &y, &se, basis).ok()).flatten();
         let x: Vec<f64> = points.iter().map(|(m, _)| m.sqrt()).collect();
         let y: Vec<f64> = points.iter().map(|(m, d)| d.intrinsic / m.sqrt()).collect();
-        let se: Vec<Option<f64>> = points.iter().map(|(m, d)| d.se.map(|s| s / m.sqrt())).collect();
+        let se: Vec<Option<f64>> = points.iter().map(|(m, d)| d.noise_se().map(|s| s / m.sqrt())).collect();
         let stockmayer_fixman = Line::fit(&x, &y, &se, basis).ok();
+        let truncation =
+            points.iter().map(|(_, d)| d.truncation / d.intrinsic).sum::<f64>() / points.len().max(1) as f64;
         let se_known = stockmayer_fixman
             .as_ref()
             .is_some_and(|l| l.variance() != crate::theta::LineVariance::Unweighted || l.n > 2);
@@ -326,7 +359,21 @@ impl TemperatureLines {
             mark_houwink,
             stockmayer_fixman,
             stockmayer_fixman_se_known: se_known,
+            truncation,
         }
+    }
+
+    /// The Stockmayer–Fixman intercept Kθ (SI) and its SE, the fractions' shared truncation
+    /// added (it moves every [η], so the intercept, alike).
+    fn k_theta(&self) -> Option<(f64, f64)> {
+        let (k, se) = self.stockmayer_fixman.as_ref()?.at(0.0);
+        Some((k, se.hypot(k * self.truncation)))
+    }
+
+    /// ln K of the Mark–Houwink line (SI) and its SE, the shared truncation added.
+    fn ln_k(&self) -> Option<(f64, f64)> {
+        let (ln_k, se) = self.mark_houwink.as_ref()?.at(0.0);
+        Some((ln_k, se.hypot(self.truncation)))
     }
 }
 
@@ -389,6 +436,8 @@ pub(crate) struct DirectKTheta {
     se: Option<f64>,
     n_fractions: usize,
     source: String,
+    /// θ came from a thermodynamic route of the run (not the viscometric θ).
+    from_other_route: bool,
 }
 
 /// One fraction at θ: Kθ, its noise SE, its relative truncation, dKθ/dT (1/K).
@@ -400,7 +449,7 @@ struct FractionAtTheta {
 }
 
 fn k_theta_at(
-    (theta, theta_se, source): (f64, f64, String),
+    (theta, theta_se, source, from_other_route): (f64, f64, String, bool),
     temperatures: &[f64],
     dilutions: &[(usize, usize, Dilution)],
     fractions: &[Fraction],
@@ -449,7 +498,40 @@ fn k_theta_at(
     let systematic = mean * mean_of(|v| v.truncation);
     let through_theta = mean_of(|v| v.slope) * theta_se;
     let se = (noise_var + systematic * systematic + through_theta * through_theta).sqrt();
-    Some(DirectKTheta { temperature_k: theta, k_theta: mean, se: Some(se), n_fractions: values.len(), source })
+    Some(DirectKTheta {
+        temperature_k: theta,
+        k_theta: mean,
+        se: Some(se),
+        n_fractions: values.len(),
+        source,
+        from_other_route,
+    })
+}
+
+/// The Stockmayer–Fixman Kθ(T) (SI) carried to θ: a weighted line in T through the
+/// temperatures' intercepts (two or more), its value at θ with the SE of the line there and of
+/// θ itself; returns (Kθ, SE, θ).
+fn stockmayer_fixman_at(lines: &[TemperatureLines], theta: f64, theta_se: f64) -> Option<(f64, f64, f64)> {
+    let points: Vec<(f64, f64, f64, Option<usize>, f64)> = lines
+        .iter()
+        .filter(|p| p.stockmayer_fixman_se_known)
+        .filter_map(|p| {
+            let line = p.stockmayer_fixman.as_ref()?;
+            let (k, se) = line.at(0.0);
+            Some((p.temperature_k, k, se, line.dof(), p.truncation))
+        })
+        .collect();
+    if points.len() < 2 {
+        return None;
+    }
+    // The truncation is shared by the temperatures too: added once, not averaged down.
+    let truncation = points.iter().map(|p| p.4).sum::<f64>() / points.len() as f64;
+    let x: Vec<f64> = points.iter().map(|p| p.0).collect();
+    let y: Vec<f64> = points.iter().map(|p| p.1).collect();
+    let se: Vec<Option<f64>> = points.iter().map(|p| Some(p.2)).collect();
+    let line = Line::fit(&x, &y, &se, basis_of(points.iter().map(|p| p.3))).ok()?;
+    let (k, se) = line.at(theta);
+    Some((k, se.hypot(line.beta * theta_se).hypot(k * truncation), theta))
 }
 
 fn nearest_stockmayer_fixman(lines: &[TemperatureLines], target: Option<f64>) -> Option<&TemperatureLines> {
@@ -469,7 +551,7 @@ fn temperature_coefficient(lines: &[TemperatureLines]) -> Option<(f64, f64, Opti
         .iter()
         .filter_map(|p| {
             let l = p.stockmayer_fixman.as_ref()?;
-            let (k, se) = l.at(0.0);
+            let (k, se) = p.k_theta()?;
             (k > 0.0 && p.stockmayer_fixman_se_known).then_some((p.temperature_k, k.ln(), se / k, l.dof()))
         })
         .collect();

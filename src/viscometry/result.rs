@@ -115,6 +115,8 @@ pub struct ViscometryTemperature {
     pub mark_houwink_dof: Option<usize>,
     /// How the Mark–Houwink covariance was obtained.
     pub mark_houwink_variance: Option<LineVariance>,
+    /// Σ w e²/(n − 2) of the Mark–Houwink line on the [η] SEs (≈ 1 when they are right).
+    pub mark_houwink_reduced_chi2: Option<f64>,
     /// Stockmayer–Fixman intercept Kθ, mL mol^{1/2} g^{-3/2}.
     pub k_theta_ml_mol_half_per_g_three_halves: Option<f64>,
     /// Its SE.
@@ -147,6 +149,8 @@ pub struct ViscometricTheta {
     pub exponent_line_a: f64,
     /// b', K.
     pub exponent_line_b_k: f64,
+    /// Σ w e²/(n − 2) of that line on the SEs of a (≈ 1 when they are right).
+    pub exponent_line_reduced_chi2: Option<f64>,
     /// In words: what this θ is and is not.
     pub note: String,
 }
@@ -233,12 +237,12 @@ impl ViscometryResult {
             .map(|p| {
                 let mh = p.mark_houwink.as_ref();
                 // ln K at x = 0 (SI); K for mL/g and g/mol: 10^{3(1 − a)} K_SI.
-                let ln_k = mh.map(|l| l.at(0.0));
+                let ln_k = p.ln_k();
                 let k_report = mh.zip(ln_k).map(|(l, (lnk, se))| {
                     let k = lnk.exp() * 10f64.powf(3.0 * (1.0 - l.beta));
                     (k, k * se)
                 });
-                let sf = p.stockmayer_fixman.as_ref().map(|l| l.at(0.0));
+                let sf = p.k_theta();
                 let sf_ok = sf.filter(|(k, _)| *k > 0.0);
                 ViscometryTemperature {
                     temperature_k: p.temperature_k,
@@ -250,6 +254,7 @@ impl ViscometryResult {
                     mark_houwink_k_se_ml_per_g: k_report.map(|k| k.1),
                     mark_houwink_dof: mh.and_then(|l| l.dof()),
                     mark_houwink_variance: mh.map(|l| l.variance()),
+                    mark_houwink_reduced_chi2: mh.and_then(|l| l.scatter.reduced_chi2),
                     k_theta_ml_mol_half_per_g_three_halves: sf.map(|s| s.0 * K_THETA_REPORT_PER_SI),
                     k_theta_se_ml_mol_half_per_g_three_halves: sf
                         .filter(|_| p.stockmayer_fixman_se_known)
@@ -270,12 +275,18 @@ impl ViscometryResult {
             n_temperatures: t.n_temperatures,
             exponent_line_a: t.line.a(),
             exponent_line_b_k: t.line.b(),
+            exponent_line_reduced_chi2: t.line.reduced_chi2,
             note: VISCOMETRIC_THETA_NOTE.into(),
         });
         if let Some(t) = &viscometric_theta {
             if t.crossing == Crossing::Extrapolated {
+                let limit = if t.n_temperatures <= 3 {
+                    " from three temperatures, its interval is at the design's limit (the coverage study holds it in 83–97 % of such series, less when a(T) scatters most); measure on both sides of θ"
+                } else {
+                    ""
+                };
                 warnings.push(format!(
-                    "the viscometric θ ({:.1} °C) lies outside the measured temperatures: extrapolated",
+                    "the viscometric θ ({:.1} °C) lies outside the measured temperatures: extrapolated{limit}",
                     t.theta_c
                 ));
             }

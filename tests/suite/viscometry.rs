@@ -255,3 +255,40 @@ fn the_demo_runs_from_flow_times_to_dimensions_and_into_the_plan() {
     assert_eq!(flagged["settings"]["unperturbed_r2_over_m_from"], "--unperturbed-dimension");
     assert!((flagged["settings"]["unperturbed_r2_over_m_angstrom2_mol_per_g"].as_f64().unwrap() - 0.6).abs() < 1e-12);
 }
+
+/// The coverage study, small: two designs of the full study (examples/viscometry-coverage.rs)
+/// at 600 series each. With 600 series a perfectly calibrated 95 % interval covers 95 ± 0.9 %
+/// (one SE); the bands are ±3.3 SE, so they fail when the calibration is lost, not by chance.
+#[test]
+fn viscometry_intervals_hold_their_level_on_simulated_series() {
+    use thetaseek::simulate::viscometry::ViscosityNoise;
+    use thetaseek::simulate::viscometry_study::{by_fifths, run, Design};
+    let power_law = Design {
+        fractions: 5,
+        temperatures: 5,
+        noise: ViscosityNoise { absolute: 0.002, relative: 0.0 },
+        expansion: Expansion::PowerLaw { slope: 2.0 },
+        inside: true,
+    };
+    let outcomes = run(&power_law, 0, 600, 7);
+    let share = |hits: usize, n: usize| hits as f64 / n as f64;
+    let (hit, total) = outcomes.iter().fold((0, 0), |(h, t), o| (h + o.intrinsic.0, t + o.intrinsic.1));
+    assert!((0.92..=0.98).contains(&share(hit, total)), "[η]: {}", share(hit, total));
+    let exponents: Vec<(Option<f64>, bool)> = outcomes.iter().flat_map(|o| o.exponents.iter().copied()).collect();
+    let (overall, fifths) = by_fifths(&exponents);
+    assert!((0.93..=0.98).contains(&overall), "a: {overall}");
+    // 600 points a fifth (five temperatures each): 95 ± 0.9 %; each fifth within 90–99 %.
+    assert!(fifths.iter().all(|f| (0.90..=0.99).contains(f)), "a by fifth: {fifths:?}");
+    let thetas: Vec<bool> = outcomes.iter().filter_map(|o| o.theta_covered).collect();
+    let theta = share(thetas.iter().filter(|c| **c).count(), thetas.len());
+    assert!(thetas.len() > 590 && (0.92..=0.99).contains(&theta), "viscometric θ: {theta} of {}", thetas.len());
+    let first_order = Design {
+        noise: ViscosityNoise { absolute: 0.0, relative: 0.002 },
+        expansion: Expansion::FirstOrder { z: 3.0 },
+        ..power_law
+    };
+    let outcomes = run(&first_order, 1, 600, 7);
+    let dims: Vec<bool> = outcomes.iter().filter_map(|o| o.dimensions_covered).collect();
+    let covered = share(dims.iter().filter(|c| **c).count(), dims.len());
+    assert!(dims.len() > 590 && (0.92..=1.0).contains(&covered), "⟨r²⟩0/M: {covered}");
+}
