@@ -77,6 +77,24 @@ fn noise_free_zimm_data_give_back_mw_rg_and_a2_with_the_factor_two() {
     let alphas: Vec<f64> =
         s["light_scattering"].as_array().unwrap().iter().map(|f| f["expansion_factor"].as_f64().unwrap()).collect();
     assert!((alphas[2] - 1.0).abs() < 1e-6 && alphas[4] > 1.0 && alphas[0] < 1.0, "{alphas:?}");
+    // ⟨r²⟩0/M = 6 Rg²(θ)/Mw: 6 (25 nm)² / 500 000 g/mol = 0.0075 nm² mol/g.
+    let d = &s["unperturbed_dimensions"];
+    assert_eq!(d["route"], "light_scattering");
+    let r2m = d["unperturbed_r2_over_m_nm2_mol_per_g"].as_f64().unwrap();
+    assert!((r2m - 0.0075).abs() < 1e-6 * 0.0075, "{r2m}");
+}
+
+/// With noise, 6 Rg²(θ)/Mw carries an SE that holds the truth (0.0075 nm² mol/g) within 3 SE.
+#[test]
+fn noisy_zimm_data_give_unperturbed_dimensions_with_an_se() {
+    let report = run(&zimm_csv(0.01, false), &[]);
+    let d = &report["series"][0]["unperturbed_dimensions"];
+    let (value, se) = (
+        d["unperturbed_r2_over_m_nm2_mol_per_g"].as_f64().unwrap(),
+        d["unperturbed_r2_over_m_se_nm2_mol_per_g"].as_f64().unwrap(),
+    );
+    assert!(se > 0.0 && (value - 0.0075).abs() < 3.0 * se, "{value} ± {se}");
+    assert!(d["method"].as_str().unwrap().contains("6 Rg²/Mw"));
 }
 
 #[test]
