@@ -244,6 +244,8 @@ pub struct Tally {
     refused: usize,
     /// θ bracketed, extrapolated, from critical temperatures (a limit, no crossing), none.
     crossings: [usize; 4],
+    /// Viscometric θ (an approximate criterion, counted apart).
+    viscometric: usize,
     /// Refusal reasons with their count and the first series refused for each.
     reasons: Vec<(String, usize, String)>,
     attention: usize,
@@ -256,6 +258,9 @@ impl Tally {
         use crate::analysis::Status;
         use crate::theta::Crossing;
         self.series += 1;
+        if s.viscometry.as_ref().is_some_and(|v| v.viscometric_theta.is_some()) {
+            self.viscometric += 1;
+        }
         let k = match (&s.theta, &s.critical) {
             (Some(t), _) => match t.crossing {
                 Crossing::Bracketed => Some(0),
@@ -314,8 +319,10 @@ impl Tally {
     pub fn summary(&self) -> String {
         let [bracketed, extrapolated, critical, none] = self.crossings;
         let critical = if critical > 0 { format!(", from critical temperatures {critical}") } else { String::new() };
+        let viscometric =
+            if self.viscometric > 0 { format!("; viscometric θ {}", self.viscometric) } else { String::new() };
         let mut out = format!(
-            "summary: {} series analysed, {} refused; θ bracketed {bracketed}, extrapolated {extrapolated}{critical}, none {none}\n",
+            "summary: {} series analysed, {} refused; θ bracketed {bracketed}, extrapolated {extrapolated}{critical}, none {none}{viscometric}\n",
             self.series - self.refused,
             self.refused,
         );

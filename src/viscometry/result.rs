@@ -281,9 +281,9 @@ impl ViscometryResult {
         if let Some(t) = &viscometric_theta {
             if t.crossing == Crossing::Extrapolated {
                 let limit = if t.n_temperatures <= 3 {
-                    " from three temperatures, its interval is at the design's limit (the coverage study holds it in 83–97 % of such series, less when a(T) scatters most); measure on both sides of θ"
+                    format!(" from only {} temperatures, its interval is at the design's limit (the coverage study holds it in 83–97 % of such series, less when a(T) scatters most); measure on both sides of θ", t.n_temperatures)
                 } else {
-                    ""
+                    String::new()
                 };
                 warnings.push(format!(
                     "the viscometric θ ({:.1} °C) lies outside the measured temperatures: extrapolated{limit}",
