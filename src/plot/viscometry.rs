@@ -46,6 +46,20 @@ fn legend_row(area: &DrawingArea<SVGBackend, Shift>, entries: &[Entry]) -> Resul
     Ok(())
 }
 
+/// One legend entry per temperature, in its colour and marker.
+fn temperature_entries(v: &ViscometryResult) -> Vec<Entry> {
+    v.temperatures
+        .iter()
+        .enumerate()
+        .map(|(i, t)| Entry {
+            label: format!("{:.1} °C", t.temperature_c),
+            colour: series_colour(i),
+            marker: Some(series_marker(i)),
+            hollow: false,
+        })
+        .collect()
+}
+
 /// Huggins (ηsp/c, filled) and Kraemer (ln ηrel/c, hollow) points and lines of every fraction,
 /// one panel per temperature, sharing the concentration axis (g/dL).
 pub fn draw_dilution(root: &DrawingArea<SVGBackend, Shift>, s: &SeriesReport) -> Result<(), FigureError> {
@@ -140,18 +154,7 @@ pub fn draw_mark_houwink(root: &DrawingArea<SVGBackend, Shift>, s: &SeriesReport
     let (left, right) = charts.split_horizontally(charts.dim_in_pixel().0 / 2);
     mark_houwink_lines(&left, v)?;
     exponent_against_temperature(&right, v)?;
-    let entries: Vec<Entry> = v
-        .temperatures
-        .iter()
-        .enumerate()
-        .map(|(i, t)| Entry {
-            label: format!("{:.1} °C", t.temperature_c),
-            colour: series_colour(i),
-            marker: Some(series_marker(i)),
-            hollow: false,
-        })
-        .collect();
-    legend_row(&legend, &entries)
+    legend_row(&legend, &temperature_entries(v))
 }
 
 fn mark_houwink_lines(area: &DrawingArea<SVGBackend, Shift>, v: &ViscometryResult) -> Result<(), FigureError> {
@@ -333,17 +336,7 @@ pub fn draw_stockmayer_fixman(root: &DrawingArea<SVGBackend, Shift>, s: &SeriesR
         let y = k.k_theta_ml_mol_half_per_g_three_halves;
         chart.draw_series(std::iter::once(EmptyElement::at((0.0, y)) + Cross::new((0, 0), 6, INK.stroke_width(2))))?;
     }
-    let mut entries: Vec<Entry> = v
-        .temperatures
-        .iter()
-        .enumerate()
-        .map(|(i, t)| Entry {
-            label: format!("{:.1} °C", t.temperature_c),
-            colour: series_colour(i),
-            marker: Some(series_marker(i)),
-            hollow: false,
-        })
-        .collect();
+    let mut entries = temperature_entries(v);
     if v.k_theta_at_theta.is_some() {
         entries.push(Entry { label: "× Kθ at θ".into(), colour: INK, marker: None, hollow: false });
     }

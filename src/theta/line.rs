@@ -22,6 +22,14 @@ pub enum SeBasis {
 }
 
 impl SeBasis {
+    /// The basis of SEs estimated on `dofs` (the fewest), or known when none is estimated.
+    pub fn fewest(dofs: impl Iterator<Item = Option<usize>>) -> SeBasis {
+        match dofs.flatten().min() {
+            Some(dof) => SeBasis::Estimated { dof },
+            None => SeBasis::Known,
+        }
+    }
+
     /// Degrees of freedom of the SEs (`None`: known).
     pub fn dof(self) -> Option<usize> {
         match self {
@@ -86,6 +94,93 @@ impl LineScatter {
     }
 }
 
+/// A weighted straight line y = α + β (x − x̄) in the centred variable, with the rule of
+/// [`LineScatter`] for how far its covariance rests on the points' SEs: the θ line (x = 1/T)
+/// and the viscometry route's lines (Mark–Houwink in ln M, Stockmayer–Fixman in M^{1/2}, Kθ(T)).
+#[derive(Debug, Clone, PartialEq)]
+pub struct WeightedLine {
+    /// x̄ (weighted mean of x).
+    pub x_centre: f64,
+    /// Value at x̄.
+    pub alpha: f64,
+    /// Slope.
+    pub beta: f64,
+    /// Var α.
+    pub var_alpha: f64,
+    /// Cov(α, β).
+    pub cov: f64,
+    /// Var β.
+    pub var_beta: f64,
+    /// How the covariance was obtained, and the quantile's dof.
+    pub scatter: LineScatter,
+    /// Points.
+    pub n: usize,
+}
+
+impl WeightedLine {
+    /// Fits y against x, weights 1/SE² when every point has a finite positive SE (`basis` says
+    /// where they came from), else the line's own scatter. Two points need SEs; fewer refuse.
+    pub fn fit(x: &[f64], y: &[f64], se: &[Option<f64>], basis: SeBasis) -> Result<Self, FitError> {
+        let n = x.len();
+        let weights: Option<Vec<f64>> =
+            se.iter().map(|s| s.filter(|s| s.is_finite() && *s > 0.0).map(|s| 1.0 / (s * s))).collect();
+        if n < 2 || (n == 2 && weights.is_none()) {
+            return Err(FitError::TooFewPoints { points: n, parameters: 2 });
+        }
+        let w = |i: usize| weights.as_ref().map_or(1.0, |w| w[i]);
+        let w_sum: f64 = (0..n).map(w).sum();
+        let x_centre = (0..n).map(|i| w(i) * x[i]).sum::<f64>() / w_sum;
+        let kind = if weights.is_some() { Weights::Absolute } else { Weights::Relative };
+        let fit = linear::fit_core(n, 2, |i| linear::polynomial_row(x[i] - x_centre, 2), |i| y[i], w, kind)?;
+        let scatter = LineScatter::judge(weights.is_some(), fit.rss_weighted, fit.dof, basis);
+        let s = scatter.scale;
+        Ok(WeightedLine {
+            x_centre,
+            alpha: fit.coefficients[0],
+            beta: fit.coefficients[1],
+            var_alpha: s * fit.covariance[0][0],
+            cov: s * fit.covariance[0][1],
+            var_beta: s * fit.covariance[1][1],
+            scatter,
+            n,
+        })
+    }
+
+    /// Value at x, and its SE.
+    pub fn at(&self, x: f64) -> (f64, f64) {
+        let u = x - self.x_centre;
+        (self.alpha + self.beta * u, (self.var_alpha + 2.0 * u * self.cov + u * u * self.var_beta).max(0.0).sqrt())
+    }
+
+    /// SE of the slope.
+    pub fn slope_se(&self) -> f64 {
+        self.var_beta.max(0.0).sqrt()
+    }
+
+    /// Degrees of freedom of the quantile (None: normal).
+    pub fn dof(&self) -> Option<usize> {
+        self.scatter.dof
+    }
+
+    /// The quantile at `confidence`.
+    pub fn critical(&self, confidence: f64) -> f64 {
+        critical_value(confidence, self.dof())
+    }
+
+    /// The SE basis a line fitted to this line's estimates should use.
+    pub fn basis(&self) -> SeBasis {
+        match self.dof() {
+            Some(dof) => SeBasis::Estimated { dof },
+            None => SeBasis::Known,
+        }
+    }
+
+    /// Whether the covariance came from the SEs, their scaling, or the scatter alone.
+    pub fn variance(&self) -> LineVariance {
+        self.scatter.variance
+    }
+}
+
 /// A weighted straight line of A2 (or 1/2 − χ) against 1/T.
 #[derive(Debug, Clone, PartialEq)]
 pub struct InverseTemperatureLine {
@@ -123,38 +218,23 @@ impl InverseTemperatureLine {
     /// readings (the coverage study in DEVELOPERS.md measured both). Without SEs the line's
     /// own scatter is all there is (relative weights, n − 2 dof; two points are then refused).
     pub fn fit(points: &[TemperaturePoint], basis: SeBasis) -> Result<Self, FitError> {
-        let n = points.len();
-        let weights = weights_of(points);
-        if n < 2 || (n == 2 && weights.is_none()) {
-            return Err(FitError::TooFewPoints { points: n, parameters: 2 });
-        }
-        let w_sum: f64 = weights.as_ref().map_or(n as f64, |w| w.iter().sum());
         let x: Vec<f64> = points.iter().map(|p| 1.0 / p.temperature_k).collect();
-        let x_centre = match &weights {
-            Some(w) => x.iter().zip(w).map(|(x, w)| x * w).sum::<f64>() / w_sum,
-            None => x.iter().sum::<f64>() / n as f64,
-        };
-        let u: Vec<f64> = x.iter().map(|x| x - x_centre).collect();
-        let kind = if weights.is_some() { Weights::Absolute } else { Weights::Relative };
-        // Estimates and covariance only: no per-point output (every bootstrap replicate
-        // fits this line too).
-        let weight = |i: usize| weights.as_ref().map_or(1.0, |w| w[i]);
-        let fit = linear::fit_core(n, 2, |i| linear::polynomial_row(u[i], 2), |i| points[i].value, weight, kind)?;
-        let line_dof = fit.dof;
-        let LineScatter { reduced_chi2, lack_of_fit_p, variance, scale, dof } =
-            LineScatter::judge(weights.is_some(), fit.rss_weighted, line_dof, basis);
+        let y: Vec<f64> = points.iter().map(|p| p.value).collect();
+        let se: Vec<Option<f64>> = points.iter().map(|p| p.se).collect();
+        let line = WeightedLine::fit(&x, &y, &se, basis)?;
+        let LineScatter { reduced_chi2, lack_of_fit_p, variance, dof, .. } = line.scatter;
         Ok(InverseTemperatureLine {
-            x_centre,
-            alpha: fit.coefficients[0],
-            beta: fit.coefficients[1],
-            var_alpha: scale * fit.covariance[0][0],
-            cov: scale * fit.covariance[0][1],
-            var_beta: scale * fit.covariance[1][1],
+            x_centre: line.x_centre,
+            alpha: line.alpha,
+            beta: line.beta,
+            var_alpha: line.var_alpha,
+            cov: line.cov,
+            var_beta: line.var_beta,
             dof,
             reduced_chi2,
             lack_of_fit_p,
             variance,
-            n,
+            n: line.n,
         })
     }
 

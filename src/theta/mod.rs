@@ -21,7 +21,8 @@ pub use curved::CurvedFit;
 use flory::*;
 pub use joint::{joint_fit, JointFit};
 pub use line::{
-    scatter_p_value, FittedLine, InverseTemperatureLine, LineScatter, LineVariance, SeBasis, ThetaSet, LACK_OF_FIT_P,
+    scatter_p_value, FittedLine, InverseTemperatureLine, LineScatter, LineVariance, SeBasis, ThetaSet, WeightedLine,
+    LACK_OF_FIT_P,
 };
 pub use mn_check::{mn_consistency, MnConsistency, MN_DRIFT_P};
 pub use result::*;

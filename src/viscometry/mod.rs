@@ -3,14 +3,13 @@
 //!
 //! Per fraction and temperature, [η] from the Huggins and Kraemer lines ([`dilution`]); per
 //! temperature, across fractions, the Mark–Houwink–Sakurada line ln [η] = ln K + a ln M and the
-//! Stockmayer–Fixman line [η]/M^{1/2} = Kθ + B' M^{1/2} ([`line`]); across temperatures, the
+//! Stockmayer–Fixman line [η]/M^{1/2} = Kθ + B' M^{1/2} (weighted lines on the θ line's rule); across temperatures, the
 //! viscometric θ where a(T) = ½ (fitted as a − ½ = a' + b'/T, like A2, with Fieller's interval:
 //! an approximate criterion, since a passes ½ only near θ and not exactly at it); then Kθ at θ,
 //! ⟨r²⟩0/M by Flory–Fox ([`crate::chain_dimensions`]), the viscosity expansion factor
 //! α_η³ = [η]/(Kθ M^{1/2}) and d ln⟨r²⟩0/dT. SI inside; [`ViscometryResult`] is in report units.
 
 pub mod dilution;
-pub mod line;
 mod result;
 
 pub use dilution::{fit_dilution, pool_noise, solomon_ciuta, Dilution, DilutionMethod, DilutionWarning};
@@ -18,9 +17,8 @@ pub use result::*;
 
 use crate::chain_dimensions::{r2_over_m_from_k_theta, RepeatUnit, UnperturbedDimensions, NM2_MOL_PER_G_PER_SI};
 use crate::dataset::{Route, ViscometrySeries, ViscosityValue, TEMPERATURE_GROUPING_K};
-use crate::theta::{Crossing, InverseTemperatureLine, ThetaSet};
+use crate::theta::{Crossing, InverseTemperatureLine, SeBasis, ThetaSet, WeightedLine as Line};
 use crate::units::{kelvin_to_celsius, ML_PER_G_PER_M3_PER_KG};
-use line::{basis_of, Line};
 
 /// Settings of the viscometry route.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -339,7 +337,7 @@ struct TemperatureLines {
 
 impl TemperatureLines {
     fn fit(temperature_k: f64, points: &[(f64, &Dilution)]) -> Self {
-        let basis = basis_of(points.iter().map(|(_, d)| d.se_dof));
+        let basis = SeBasis::fewest(points.iter().map(|(_, d)| d.se_dof));
         let x: Vec<f64> = points.iter().map(|(m, _)| m.ln()).collect();
         let y: Vec<f64> = points.iter().map(|(_, d)| d.intrinsic.ln()).collect();
         let se: Vec<Option<f64>> = points.iter().map(|(_, d)| d.noise_se().map(|s| s / d.intrinsic)).collect();
@@ -390,7 +388,7 @@ fn exponent_line(lines: &[&TemperatureLines]) -> Option<InverseTemperatureLine> 
             })
         })
         .collect();
-    let basis = basis_of(lines.iter().filter_map(|p| p.mark_houwink.as_ref()).map(|l| l.dof()));
+    let basis = SeBasis::fewest(lines.iter().filter_map(|p| p.mark_houwink.as_ref()).map(|l| l.dof()));
     InverseTemperatureLine::fit(&points, basis).ok()
 }
 
@@ -529,7 +527,7 @@ fn stockmayer_fixman_at(lines: &[TemperatureLines], theta: f64, theta_se: f64) -
     let x: Vec<f64> = points.iter().map(|p| p.0).collect();
     let y: Vec<f64> = points.iter().map(|p| p.1).collect();
     let se: Vec<Option<f64>> = points.iter().map(|p| Some(p.2)).collect();
-    let line = Line::fit(&x, &y, &se, basis_of(points.iter().map(|p| p.3))).ok()?;
+    let line = Line::fit(&x, &y, &se, SeBasis::fewest(points.iter().map(|p| p.3))).ok()?;
     let (k, se) = line.at(theta);
     Some((k, se.hypot(line.beta * theta_se).hypot(k * truncation), theta))
 }
@@ -561,7 +559,7 @@ fn temperature_coefficient(lines: &[TemperatureLines]) -> Option<(f64, f64, Opti
     let x: Vec<f64> = points.iter().map(|p| p.0).collect();
     let y: Vec<f64> = points.iter().map(|p| p.1).collect();
     let se: Vec<Option<f64>> = points.iter().map(|p| Some(p.2)).collect();
-    let line = Line::fit(&x, &y, &se, basis_of(points.iter().map(|p| p.3))).ok()?;
+    let line = Line::fit(&x, &y, &se, SeBasis::fewest(points.iter().map(|p| p.3))).ok()?;
     Some((2.0 / 3.0 * line.beta, 2.0 / 3.0 * line.slope_se(), line.dof()))
 }
 
