@@ -139,8 +139,9 @@ pub fn analyze_viscometry(
         warnings.push("no temperature has three fractions with a molar mass: no Mark–Houwink exponent".into());
     }
     let theta = viscometric_theta(&with_mark_houwink, settings.confidence, &mut warnings);
-    // Kθ: directly at θ where a temperature lies there, else the Stockmayer–Fixman intercept
-    // at the temperature nearest θ (or the middle one).
+    // Kθ, best first: [η]/M^½ read directly at another route's (thermodynamic) θ; the
+    // Stockmayer–Fixman intercepts carried to the viscometric θ; the Stockmayer–Fixman intercept
+    // of the temperature nearest θ (or the middle one).
     let target = theta.as_ref().map(|t| t.theta_k);
     // Kθ belongs at the thermodynamic θ: another route's θ of this pair when the run has one
     // (inverse-variance mean), else the viscometric θ.
@@ -169,7 +170,7 @@ pub fn analyze_viscometry(
     } else {
         theta.as_ref().and_then(|t| stockmayer_fixman_at(&per_temperature, t.theta_k, t.se_k.unwrap_or(0.0)))
     };
-    let nearest_sf = nearest_stockmayer_fixman(&per_temperature, target);
+    let nearest_sf = nearest_stockmayer_fixman(&per_temperature, target).and_then(|p| p.k_theta().map(|k| (p, k)));
     let (k_theta, k_theta_se, method, at_k) = match (&direct, from_lines, nearest_sf) {
         (Some(d), _, _) if d.from_other_route => (
             d.k_theta,
@@ -190,15 +191,12 @@ pub fn analyze_viscometry(
             ),
             t,
         ),
-        (_, None, Some(p)) => {
-            let (k, se) = p.k_theta().expect("chosen for its line");
-            (
-                k,
-                (p.stockmayer_fixman_se_known).then_some(se),
-                format!("Stockmayer–Fixman intercept at {:.2} °C (Flory–Fox)", kelvin_to_celsius(p.temperature_k)),
-                p.temperature_k,
-            )
-        }
+        (_, None, Some((p, (k, se)))) => (
+            k,
+            (p.stockmayer_fixman_se_known).then_some(se),
+            format!("Stockmayer–Fixman intercept at {:.2} °C (Flory–Fox)", kelvin_to_celsius(p.temperature_k)),
+            p.temperature_k,
+        ),
         (_, None, None) => (f64::NAN, None, String::new(), f64::NAN),
     };
     let dimensions = (k_theta.is_finite() && k_theta > 0.0).then(|| {
