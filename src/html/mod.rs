@@ -156,7 +156,7 @@ pub fn analyze_html(report: &Report, figures: &[Figure], date: &str) -> String {
             Some(t) if t.theta_k.is_some() => {
                 let _ = writeln!(b, "<div class=\"theta\">θ = {}</div>", k_and_c(t.theta_k));
                 let interval = match (t.ci_low_k, t.ci_high_k) {
-                    (Some(lo), Some(hi)) => format!("{lo:.2}–{hi:.2} K ({})", escape(t.ci_method.name())),
+                    (Some(lo), Some(hi)) => format!("{lo:.2}–{hi:.2} K ({})", escape(t.ci_method.label())),
                     (Some(lo), None) => format!("above {lo:.2} K, no upper bound"),
                     _ => t.ci_kind.name().to_string(),
                 };
@@ -166,7 +166,7 @@ pub fn analyze_html(report: &Report, figures: &[Figure], date: &str) -> String {
                     opt(t.se_k, 2),
                     t.crossing.name(),
                     t.extrapolated_by_k.map_or(String::new(), |e| format!(" by {e:.1} K")),
-                    escape(t.model.name())
+                    escape(t.model.label())
                 );
             }
             Some(t) => {
@@ -341,7 +341,7 @@ pub fn analyze_html(report: &Report, figures: &[Figure], date: &str) -> String {
             let _ = writeln!(
                 b,
                 "<tr><td>{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td>{}</td></tr>",
-                escape(m.name.name()),
+                escape(m.name.label()),
                 k_and_c(m.theta_k),
                 opt(m.se_k, 2),
                 escape(m.note.as_deref().unwrap_or(""))

@@ -100,7 +100,12 @@ pub fn draw_a2_temperature(
         if theta.ci_low_k.is_some() || theta.ci_high_k.is_some() {
             chart
                 .draw_series(std::iter::once(Rectangle::new([(lo, y_lo), (hi, y_hi)], GREY.mix(0.15).filled())))?
-                .label(format!("{:.0} % interval of θ ({})", theta.confidence * 100.0, theta.ci_method))
+                .label(match theta.ci_method {
+                    crate::theta::IntervalMethod::Fieller => {
+                        format!("{:.0} % Fieller interval of θ", theta.confidence * 100.0)
+                    }
+                    method => format!("{:.0} % interval of θ ({method})", theta.confidence * 100.0),
+                })
                 .legend(|(x, y)| Rectangle::new([(x, y - 5), (x + 18, y + 5)], GREY.mix(0.3).filled()));
         }
         chart

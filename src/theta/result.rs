@@ -160,9 +160,21 @@ impl Model {
     }
 }
 
+impl Model {
+    /// The model's name for people (terminal, figures, HTML).
+    pub fn label(self) -> &'static str {
+        match self {
+            Model::FloryKrigbaum => "Flory–Krigbaum line",
+            Model::Curved => "curved in 1/T",
+            Model::Local => "local (bracketing temperatures)",
+            Model::Joint => "joint fit of every reading",
+        }
+    }
+}
+
 impl std::fmt::Display for Model {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        f.pad(self.name())
+        f.pad(self.label())
     }
 }
 
@@ -189,9 +201,20 @@ impl IntervalMethod {
     }
 }
 
+impl IntervalMethod {
+    /// The method's name for people (terminal, figures, HTML).
+    pub fn label(self) -> &'static str {
+        match self {
+            IntervalMethod::Fieller => "Fieller interval",
+            IntervalMethod::DeltaCurved => "delta method, curved model",
+            IntervalMethod::None => "none",
+        }
+    }
+}
+
 impl std::fmt::Display for IntervalMethod {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        f.pad(self.name())
+        f.pad(self.label())
     }
 }
 
