@@ -36,27 +36,7 @@ pub fn axis(lo: f64, hi: f64) -> (f64, f64) {
     }
 }
 
-/// 10^e written with superscript digits, e.g. "10⁻⁴".
-pub fn superscript(e: i32) -> String {
-    let digits: String = e
-        .to_string()
-        .chars()
-        .map(|c| match c {
-            '-' => '⁻',
-            '0' => '⁰',
-            '1' => '¹',
-            '2' => '²',
-            '3' => '³',
-            '4' => '⁴',
-            '5' => '⁵',
-            '6' => '⁶',
-            '7' => '⁷',
-            '8' => '⁸',
-            _ => '⁹',
-        })
-        .collect();
-    format!("10{digits}")
-}
+pub use crate::report::superscript;
 
 /// A tick label for `value` on an axis spanning `span`: as many decimals as ~5 ticks need.
 pub fn tick(value: f64, span: f64) -> String {

@@ -2,6 +2,7 @@
 //! its name), built from the analysis results, plus the CSV table and the terminal table.
 
 mod json;
+mod numbers;
 pub mod plan;
 mod table;
 mod terminal;
@@ -12,8 +13,9 @@ mod words;
 use crate::dataset::Route;
 use crate::theta::RouteComparison;
 pub use json::{report_json, series_json, to_json, write_report_json, ReportStream};
+pub use numbers::{minus, plus_minus, superscript};
 pub use table::{series_table_csv, series_table_rows_csv, table_csv, table_rows_csv, SeriesFilter};
-pub use terminal::{plus_minus, render_ending, render_series, render_summary, render_terminal, Tally};
+pub use terminal::{render_ending, render_series, render_summary, render_terminal, Tally};
 pub use theta::{ThetaPointReport, ThetaReport};
 pub use viscometry::{dimensions_line, render_viscometry, viscometry_in_words};
 pub use words::summary_line;

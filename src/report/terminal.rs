@@ -1,28 +1,9 @@
 //! The terminal table: one block per series, one row per temperature.
 
+use super::numbers::plus_minus;
 use super::Report;
 use crate::units::kelvin_to_celsius;
 use std::fmt::Write;
-
-/// Formats `value ± se` with the SE to two significant figures and the value to match.
-pub fn plus_minus(value: f64, se: f64) -> String {
-    if !(se.is_finite() && se > 0.0 && value.is_finite()) {
-        return format!("{value:.4e} ± {se:.2e}");
-    }
-    // Both are finite and se > 0, so the exponents lie within ±324.
-    let exponent = value.abs().max(se).log10().floor() as i32;
-    let se_exponent = se.log10().floor() as i32;
-    // Two significant figures of the SE, but never more than 6 decimals of mantissa: an SE
-    // many orders below the value (noise-free data) would otherwise print 17 digits.
-    let decimals = (exponent - se_exponent + 1).clamp(0, 6) as usize;
-    if (-2..5).contains(&exponent) {
-        let places = (1 - se_exponent).clamp(0, 6 - exponent.min(0)) as usize;
-        format!("{value:.places$} ± {se:.places$}")
-    } else {
-        let scale = 10f64.powi(exponent);
-        format!("({:.decimals$} ± {:.decimals$})e{exponent}", value / scale, se / scale)
-    }
-}
 
 /// One line: θ in °C and K, ± SE, the interval, the crossing.
 pub fn theta_line(t: &super::ThetaReport) -> String {
@@ -385,26 +366,5 @@ impl Tally {
         }
         out.push_str(&self.summary());
         out
-    }
-}
-
-#[cfg(test)]
-mod tests {
-    use super::plus_minus;
-
-    #[test]
-    fn values_are_rounded_to_their_standard_error() {
-        assert_eq!(plus_minus(152345.6, 2345.0), "(1.523 ± 0.023)e5");
-        assert_eq!(plus_minus(1.234e-4, 5.6e-6), "(1.234 ± 0.056)e-4");
-        assert_eq!(plus_minus(12.346, 0.12), "12.35 ± 0.12");
-        assert_eq!(plus_minus(499_999.985, 1e-9), "(5.000000 ± 0.000000)e5");
-    }
-
-    #[test]
-    fn fuzz_found_plus_minus_overflowed_on_an_infinite_value() {
-        // tests/suite/fuzz.rs: an infinite A2 made `exponent − se_exponent` overflow i32.
-        assert_eq!(plus_minus(f64::INFINITY, 1e-3), "inf ± 1.00e-3");
-        assert_eq!(plus_minus(f64::NAN, 1.0), "NaN ± 1.00e0");
-        assert!(plus_minus(1e300, 1e-300).starts_with("(1.000000 ± 0.000000)e300"));
     }
 }

@@ -1,7 +1,7 @@
 //! The viscometry route in the terminal and in words: [η] of each fraction at each temperature,
 //! the lines across fractions, the viscometric θ and the unperturbed dimensions.
 
-use super::terminal::plus_minus;
+use super::numbers::plus_minus;
 use crate::chain_dimensions::UnperturbedDimensions;
 use crate::units::kelvin_to_celsius;
 use crate::viscometry::ViscometryResult;
