@@ -48,6 +48,7 @@ figure { margin: 1rem 0; }
 figure svg { max-width: 100%; height: auto; display: block; }
 figcaption { color: var(--muted); font-size: .85rem; }
 figcaption .file { font-family: monospace; font-size: .75rem; }
+.words { color: var(--muted); font-size: .85rem; margin-top: .4rem; }
 .cautions { border: 2px solid var(--warn); padding: .6rem 1rem; }
 code, pre { font-family: ui-monospace, "SFMono-Regular", Menlo, monospace; font-size: .85rem; }
 pre { white-space: pre-wrap; word-break: break-all; background: var(--band); padding: .5rem; }
@@ -111,14 +112,80 @@ pub fn report_date() -> String {
     utc_date(seconds)
 }
 
-fn provenance(out: &mut String, tool_version: &str, inputs: &[InputFile], settings_json: &str, date: &str) {
+/// A setting's key for people: words, and its unit suffix as a unit ("a2_tolerance_mol_ml_per_g2"
+/// → "a2 tolerance (mol mL/g²)").
+fn setting_name(key: &str) -> String {
+    const UNITS: [(&str, &str); 11] = [
+        ("_mol_ml_per_g2", "mol mL/g²"),
+        ("_angstrom2_mol_per_g", "Å² mol/g"),
+        ("_j_per_mol_k", "J/(mol K)"),
+        ("_ml_per_mol", "mL/mol"),
+        ("_g_per_mol", "g/mol"),
+        ("_ml_per_g", "mL/g"),
+        ("_g_per_ml", "g/mL"),
+        ("_per_mol", "mol⁻¹"),
+        ("_k", "K"),
+        ("_c", "°C"),
+        ("_nm", "nm"),
+    ];
+    match UNITS.iter().find(|(suffix, _)| key.ends_with(suffix)) {
+        Some((suffix, unit)) => format!("{} ({unit})", key[..key.len() - suffix.len()].replace('_', " ")),
+        None => key.replace('_', " "),
+    }
+}
+
+/// A setting's value for people: numbers to six significant figures (the JSON keeps them all).
+fn setting_value(value: &serde_json::Value) -> String {
+    match value {
+        serde_json::Value::Null => "—".into(),
+        serde_json::Value::String(s) => s.clone(),
+        serde_json::Value::Number(n) => match n.as_f64() {
+            Some(x) if n.is_f64() && x != 0.0 => {
+                let digits = 5 - x.abs().log10().floor() as i32;
+                let rounded = if (0..=15).contains(&digits) {
+                    let scale = 10f64.powi(digits);
+                    (x * scale).round() / scale
+                } else {
+                    x
+                };
+                if (1e-3..1e6).contains(&rounded.abs()) {
+                    format!("{rounded}")
+                } else {
+                    format!("{rounded:.5e}").replace(".00000e", "e")
+                }
+            }
+            _ => n.to_string(),
+        },
+        serde_json::Value::Array(items) => items.iter().map(setting_value).collect::<Vec<_>>().join(" – "),
+        other => other.to_string(),
+    }
+}
+
+/// The settings as a table of named, rounded values.
+fn settings_table<T: serde::Serialize>(settings: &T) -> String {
+    let mut out = String::from("<div class=\"scroll\"><table>\n<tr><th>setting</th><th>value</th></tr>\n");
+    if let Ok(serde_json::Value::Object(map)) = serde_json::to_value(settings) {
+        for (key, value) in &map {
+            let _ = writeln!(
+                out,
+                "<tr><td>{}</td><td class=\"num\">{}</td></tr>",
+                escape(&setting_name(key)),
+                escape(&setting_value(value))
+            );
+        }
+    }
+    out.push_str("</table></div>");
+    out
+}
+
+fn provenance(out: &mut String, tool_version: &str, inputs: &[InputFile], settings_table: &str, date: &str) {
     let _ = writeln!(out, "<section id=\"provenance\">\n<h2>Provenance</h2>");
     let _ = writeln!(out, "<p>thetaseek {} · report made {}</p>", escape(tool_version), escape(date));
     let _ = writeln!(out, "<div class=\"scroll\"><table>\n<tr><th>input file</th><th>SHA-256</th></tr>");
     for i in inputs {
         let _ = writeln!(out, "<tr><td>{}</td><td><code>{}</code></td></tr>", escape(&i.path), escape(&i.sha256));
     }
-    let _ = writeln!(out, "</table></div>\n<h3>Settings</h3>\n<pre>{}</pre>\n</section>", escape(settings_json));
+    let _ = writeln!(out, "</table></div>\n<h3>Settings</h3>\n{settings_table}\n</section>");
 }
 
 /// What a figure shows and how to read it, from the kind its file name ends with.
@@ -168,6 +235,16 @@ pub fn analyze_html(report: &Report, figures: &[Figure], date: &str) -> String {
                     t.extrapolated_by_k.map_or(String::new(), |e| format!(" by {e:.1} K")),
                     escape(t.model.label())
                 );
+                if let Some(m) = &t.mn_consistency {
+                    let _ = writeln!(
+                        b,
+                        "<div>Mn = {} g/mol</div>",
+                        escape(&plus_minus(m.mean_mn_g_per_mol, m.mean_mn_se_g_per_mol))
+                    );
+                }
+                if let Some(f) = &t.flory {
+                    let _ = writeln!(b, "<div>ψ1 = {}</div>", escape(&plus_minus(f.psi1, f.psi1_se)));
+                }
             }
             Some(t) => {
                 let _ = writeln!(
@@ -204,6 +281,9 @@ pub fn analyze_html(report: &Report, figures: &[Figure], date: &str) -> String {
                 d.unperturbed_r2_over_m_nm2_mol_per_g * 100.0,
                 escape(d.route.name())
             );
+        }
+        if let Some(words) = &s.summary {
+            let _ = writeln!(b, "<div class=\"words\">{}</div>", escape(words));
         }
         for w in &s.warnings {
             let _ = writeln!(b, "<div class=\"warn\">⚠ {}</div>", escape(w));
@@ -432,8 +512,7 @@ pub fn analyze_html(report: &Report, figures: &[Figure], date: &str) -> String {
         }
         let _ = writeln!(b, "</section>");
     }
-    let settings = serde_json::to_string_pretty(&report.settings).unwrap_or_default();
-    provenance(&mut b, &report.tool_version, &report.inputs, &settings, date);
+    provenance(&mut b, &report.tool_version, &report.inputs, &settings_table(&report.settings), date);
     page("θ temperature report", &b)
 }
 
@@ -494,8 +573,7 @@ pub fn plan_html(report: &PlanReport, figure: Option<&str>, date: &str) -> Strin
         );
     }
     let _ = writeln!(b, "</table></div>\n</section>");
-    let settings = serde_json::to_string_pretty(&report.settings).unwrap_or_default();
-    provenance(&mut b, &report.tool_version, &report.inputs, &settings, date);
+    provenance(&mut b, &report.tool_version, &report.inputs, &settings_table(&report.settings), date);
     page("Study plan", &b)
 }
 

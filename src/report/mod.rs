@@ -178,6 +178,10 @@ pub struct SeriesReport {
     /// Readings excluded in the `exclude` column, with their reasons (absent when none).
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub excluded_readings: Vec<ExcludedReport>,
+    /// The answer in words, one line (θ, Mn, ψ1 and χ, the solvent's quality, what to do next; or
+    /// the viscometric θ and the chain's dimensions).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub summary: Option<String>,
     /// The viscometry route's results: [η] per fraction and temperature, the Mark–Houwink
     /// and Stockmayer–Fixman lines, the viscometric θ (absent for other routes).
     #[serde(default, skip_serializing_if = "Option::is_none")]
@@ -412,6 +416,7 @@ impl SeriesReport {
             light_scattering: Vec::new(),
             fit_warnings: 0,
             excluded_readings: Vec::new(),
+            summary: None,
             viscometry: None,
             unperturbed_dimensions: None,
         }
@@ -459,7 +464,7 @@ impl SeriesReport {
             .filter(|_| result.route != Route::LightScattering || !result.scattering.is_empty())
             .map(|t| ThetaReport::new(t, result.quantity));
         let fit_warnings: usize = result.fits.iter().map(|f| f.warnings.len()).sum();
-        SeriesReport {
+        let mut report = SeriesReport {
             name: result.name.clone(),
             reading_noise: result.noise,
             solvent: None,
@@ -475,9 +480,15 @@ impl SeriesReport {
             fit_warnings: fit_warnings
                 + result.viscometry.as_ref().map_or(0, |v| v.dilutions.iter().map(|d| d.warnings.len()).sum()),
             excluded_readings,
+            summary: None,
             viscometry: result.viscometry.clone(),
             unperturbed_dimensions: result.dimensions.clone(),
-        }
+        };
+        report.summary = match &report.viscometry {
+            Some(v) => viscometry_in_words(v, report.unperturbed_dimensions.as_ref()),
+            None => summary_line(&report),
+        };
+        report
     }
 
     /// What a campaign keeps of a series once it is written: everything the summary, the

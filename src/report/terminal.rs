@@ -90,7 +90,7 @@ pub fn render_series(s: &super::SeriesReport) -> String {
         if let Some(t) = &s.theta {
             let _ = writeln!(out, "  {}", theta_line(t));
         }
-        if let Some(words) = super::summary_line(s) {
+        if let (Some(words), None) = (&s.summary, &s.viscometry) {
             let _ = writeln!(out, "  in words: {words}");
         }
         if !s.light_scattering.is_empty() {
@@ -117,7 +117,7 @@ pub fn render_series(s: &super::SeriesReport) -> String {
         }
         if let Some(v) = &s.viscometry {
             out.push_str(&super::render_viscometry(v, s.unperturbed_dimensions.as_ref()));
-            if let Some(words) = super::viscometry_in_words(v, s.unperturbed_dimensions.as_ref()) {
+            if let Some(words) = &s.summary {
                 let _ = writeln!(out, "  in words: {words}");
             }
         } else if let Some(d) = &s.unperturbed_dimensions {
