@@ -51,7 +51,9 @@ pub(super) fn read_viscometry(table: &Table, options: &ReadOptions) -> Result<Fi
                 "give one of 'flow time', 'relative viscosity' and 'intrinsic viscosity', not several",
             ))
         }
-        (None, None, None) => unreachable!("read_table sends only files with a viscosity column"),
+        (None, None, None) => {
+            return Err(header_error(0, "no 'flow time', 'relative viscosity' or 'intrinsic viscosity' column"))
+        }
     };
     let concentration = match response {
         Response::Intrinsic { .. } => None,

@@ -157,16 +157,20 @@ pub fn draw_mark_houwink(root: &DrawingArea<SVGBackend, Shift>, s: &SeriesReport
     legend_row(&legend, &temperature_entries(v))
 }
 
-fn mark_houwink_lines(area: &DrawingArea<SVGBackend, Shift>, v: &ViscometryResult) -> Result<(), FigureError> {
+/// Every [η] of a fraction with a molar mass: (temperature index, M g/mol, [η] mL/g).
+fn intrinsic_by_mass(v: &ViscometryResult) -> Vec<(usize, f64, f64)> {
     let mass = |name: &str| v.fractions.iter().find(|f| f.name == name).and_then(|f| f.molar_mass_g_per_mol);
-    let points: Vec<(usize, f64, f64)> = v
-        .dilutions
+    v.dilutions
         .iter()
         .filter_map(|d| {
             let i = v.temperatures.iter().position(|t| (t.temperature_k - d.temperature_k).abs() < 1e-9)?;
             Some((i, mass(&d.fraction)?, d.intrinsic_viscosity_ml_per_g))
         })
-        .collect();
+        .collect()
+}
+
+fn mark_houwink_lines(area: &DrawingArea<SVGBackend, Shift>, v: &ViscometryResult) -> Result<(), FigureError> {
+    let points = intrinsic_by_mass(v);
     if points.is_empty() {
         return Ok(());
     }
@@ -291,16 +295,8 @@ fn exponent_against_temperature(
 pub fn draw_stockmayer_fixman(root: &DrawingArea<SVGBackend, Shift>, s: &SeriesReport) -> Result<(), FigureError> {
     let Some(v) = &s.viscometry else { return Ok(()) };
     let (charts, legend) = root.split_vertically(root.dim_in_pixel().1 - LEGEND_ROW);
-    let mass = |name: &str| v.fractions.iter().find(|f| f.name == name).and_then(|f| f.molar_mass_g_per_mol);
-    let points: Vec<(usize, f64, f64)> = v
-        .dilutions
-        .iter()
-        .filter_map(|d| {
-            let i = v.temperatures.iter().position(|t| (t.temperature_k - d.temperature_k).abs() < 1e-9)?;
-            let m = mass(&d.fraction)?;
-            Some((i, m.sqrt(), d.intrinsic_viscosity_ml_per_g / m.sqrt()))
-        })
-        .collect();
+    let points: Vec<(usize, f64, f64)> =
+        intrinsic_by_mass(v).into_iter().map(|(i, m, eta)| (i, m.sqrt(), eta / m.sqrt())).collect();
     if points.is_empty() {
         return Ok(());
     }
