@@ -145,9 +145,9 @@ pub fn viscometry_in_words(v: &ViscometryResult, dimensions: Option<&Unperturbed
         v.temperatures.iter().filter_map(|t| Some((t.temperature_c, t.mark_houwink_exponent?))).collect();
     if let (Some(first), Some(last)) = (with_a.first(), with_a.last()) {
         if with_a.len() > 1 {
-            parts.push(format!("a goes from {:.3} at {:.0} °C to {:.3} at {:.0} °C", first.1, first.0, last.1, last.0));
+            parts.push(format!("a goes from {:.3} at {:.1} °C to {:.3} at {:.1} °C", first.1, first.0, last.1, last.0));
         } else {
-            parts.push(format!("a = {:.3} at {:.0} °C", first.1, first.0));
+            parts.push(format!("a = {:.3} at {:.1} °C", first.1, first.0));
         }
     }
     if let Some(d) = dimensions {
