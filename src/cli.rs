@@ -78,7 +78,8 @@ pub struct NextArgs {
     #[arg(long, value_name = "PATH")]
     pub report: Option<String>,
 
-    /// Write the figure (predicted interval width against candidate temperature) here, SVG.
+    /// Write the figure (predicted interval width against candidate temperature) here: SVG,
+    /// or PNG (300 dpi) or PDF when the path ends in .png or .pdf.
     #[arg(long, value_name = "PATH")]
     pub figure: Option<PathBuf>,
 
@@ -150,7 +151,8 @@ pub struct PlanArgs {
     #[arg(long, value_name = "PATH")]
     pub report: Option<String>,
 
-    /// Write the planning figure (SVG) here.
+    /// Write the planning figure here: SVG, or PNG (300 dpi) or PDF when the path ends in .png
+    /// or .pdf.
     #[arg(long, value_name = "PATH")]
     pub figure: Option<PathBuf>,
 
@@ -253,6 +255,17 @@ pub enum VirialArg {
     Sqrt,
 }
 
+/// `--figure-format` values.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum FigureFormatArg {
+    /// The drawing itself (scalable, editable).
+    Svg,
+    /// A raster image at 300 dpi (slides, word processors).
+    Png,
+    /// A vector page (LaTeX manuscripts).
+    Pdf,
+}
+
 /// `--report-detail` values.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
 pub enum DetailArg {
@@ -298,9 +311,14 @@ pub struct AnalyzeArgs {
     #[arg(long, value_name = "PATH")]
     pub html: Option<std::path::PathBuf>,
 
-    /// Write SVG figures into this folder (created if missing).
+    /// Write figures into this folder (created if missing).
     #[arg(long, value_name = "DIR")]
     pub figures: Option<std::path::PathBuf>,
+
+    /// Formats of the figures, any of svg, png (300 dpi) and pdf, comma separated; each from the
+    /// same drawing, with the fonts shipped in the tool.
+    #[arg(long, value_enum, value_delimiter = ',', default_values_t = [FigureFormatArg::Svg], value_name = "FORMATS")]
+    pub figure_format: Vec<FigureFormatArg>,
 
     #[command(flatten)]
     pub read: ReadArgs,

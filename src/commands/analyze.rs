@@ -2,7 +2,7 @@
 
 use super::sinks::{Finished, RunOutputs};
 use super::{check_outputs, hashing, load, open_input, unused_columns, Bar, Loaded, PendingOutput};
-use crate::cli::{AnalyzeArgs, DetailArg, ReadArgs, VirialArg};
+use crate::cli::{AnalyzeArgs, DetailArg, FigureFormatArg, ReadArgs, VirialArg};
 use thetaseek::analysis::{self, Settings};
 use thetaseek::chain_dimensions::RepeatUnit;
 use thetaseek::dataset::{Series, Volumes};
@@ -355,6 +355,29 @@ fn check_destinations(args: &AnalyzeArgs) -> Result<(), Error> {
     super::check_destinations(&destinations, &input_paths(args))
 }
 
+/// One figure in every format asked for: (file name, bytes).
+pub(crate) fn figure_files(
+    figure: &plot::Figure,
+    formats: &[FigureFormatArg],
+) -> Result<Vec<(String, Vec<u8>)>, Error> {
+    let stem = figure.file_name.strip_suffix(".svg").unwrap_or(&figure.file_name);
+    let mut seen = Vec::new();
+    let mut out = Vec::new();
+    for format in formats {
+        if seen.contains(format) {
+            continue;
+        }
+        seen.push(*format);
+        let (extension, bytes) = match format {
+            FigureFormatArg::Svg => ("svg", figure.svg.clone().into_bytes()),
+            FigureFormatArg::Png => ("png", plot::to_png(&figure.svg).map_err(|e| Error::Setting(e.to_string()))?),
+            FigureFormatArg::Pdf => ("pdf", plot::to_pdf(&figure.svg).map_err(|e| Error::Setting(e.to_string()))?),
+        };
+        out.push((format!("{stem}.{extension}"), bytes));
+    }
+    Ok(out)
+}
+
 /// Draws the figures and HTML (when asked for) and commits every output together, then
 /// prints the terminal text.
 fn commit(args: &AnalyzeArgs, finished: Finished) -> Result<(), Error> {
@@ -368,8 +391,9 @@ fn commit(args: &AnalyzeArgs, finished: Finished) -> Result<(), Error> {
         }
         if let Some(dir) = &args.figures {
             for figure in figures {
-                outputs
-                    .push(PendingOutput::bytes(Destination::File(dir.join(figure.file_name)), figure.svg.into_bytes()));
+                for (name, bytes) in figure_files(&figure, &args.figure_format)? {
+                    outputs.push(PendingOutput::bytes(Destination::File(dir.join(name)), bytes));
+                }
             }
         }
     }

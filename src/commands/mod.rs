@@ -368,3 +368,15 @@ impl Loading {
 pub(crate) fn unused_columns(name: &str, columns: &[String]) -> Vec<String> {
     columns.iter().map(|column| format!("{name}: column '{column}' is not used")).collect()
 }
+
+/// A figure's bytes in the format its path names: `.png` (300 dpi) and `.pdf` rendered from
+/// the SVG with the shipped fonts, any other extension the SVG itself.
+pub(crate) fn figure_bytes(path: &std::path::Path, svg: String) -> Result<Vec<u8>, Error> {
+    let extension = path.extension().and_then(|e| e.to_str()).map(str::to_ascii_lowercase);
+    let rendered = match extension.as_deref() {
+        Some("png") => thetaseek::plot::to_png(&svg),
+        Some("pdf") => thetaseek::plot::to_pdf(&svg),
+        _ => return Ok(svg.into_bytes()),
+    };
+    rendered.map_err(|e| Error::Setting(e.to_string()))
+}

@@ -141,7 +141,7 @@ pub fn run(args: &NextArgs) -> Result<(), Error> {
     if let Some(path) = &args.figure {
         let svg = thetaseek::plot::render_svg(900, 600, |root| thetaseek::plot::draw_next(root, &next.series))
             .map_err(|e| Error::Setting(e.to_string()))?;
-        outputs.push(PendingOutput::bytes(Destination::File(path.clone()), svg.into_bytes()));
+        outputs.push(PendingOutput::bytes(Destination::File(path.clone()), super::figure_bytes(path, svg)?));
     }
     let mut all_inputs = args.files.clone();
     all_inputs.extend(args.solvents.clone());

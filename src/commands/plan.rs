@@ -111,7 +111,7 @@ pub fn run(args: &PlanArgs) -> Result<(), Error> {
         outputs.push(PendingOutput::bytes(Destination::File(path.clone()), html.into_bytes()));
     }
     if let (Some(path), Some(svg)) = (&args.figure, svg) {
-        outputs.push(PendingOutput::bytes(Destination::File(path.clone()), svg.into_bytes()));
+        outputs.push(PendingOutput::bytes(Destination::File(path.clone()), super::figure_bytes(path, svg)?));
     }
     let mut all_inputs = args.inputs.clone();
     all_inputs.push(args.solvents.clone());

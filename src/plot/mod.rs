@@ -5,6 +5,7 @@
 //! Design"); series are also told apart by marker shape, and extrapolated lines are dashed.
 
 mod a2_temperature;
+mod export;
 mod format;
 mod mn;
 mod next;
@@ -14,6 +15,7 @@ mod viscometry;
 mod zimm;
 
 pub use a2_temperature::{draw_a2_overlay, draw_a2_temperature};
+pub use export::{to_pdf, to_png, FigureFormat, PNG_DPI};
 pub use format::{axis, power_of_ten, superscript, tick};
 pub use mn::draw_mn;
 pub use next::draw_next;

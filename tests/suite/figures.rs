@@ -131,3 +131,89 @@ fn a_series_without_theta_and_one_with_a_refused_temperature_still_draw() {
     assert!(flat.iter().any(|t| t.contains("flat <b>&</b>")), "{flat:?}");
     assert!(!flat.iter().any(|t| t.starts_with("θ = ")));
 }
+
+/// The PNG's width and height from its IHDR chunk, and its pHYs pixels per metre (x).
+fn png_facts(png: &[u8]) -> (u32, u32, Option<u32>) {
+    assert_eq!(&png[..8], b"\x89PNG\r\n\x1a\n", "a PNG signature");
+    let be = |at: usize| u32::from_be_bytes(png[at..at + 4].try_into().unwrap());
+    let phys = png.windows(4).position(|w| w == b"pHYs").map(|at| be(at + 4));
+    (be(16), be(20), phys)
+}
+
+/// `--figure-format svg,png,pdf` writes every figure three times from one drawing: the PNG at
+/// 300 dpi of the SVG's size (1 px = 1/96 in, the CSS pixel) with its resolution recorded, the
+/// PDF one page of the same size in points with the shipped font embedded (its text is
+/// extractable: checked with pypdf for the closing note; here the font's presence).
+#[test]
+fn figures_come_as_svg_png_and_pdf_from_one_drawing() {
+    let dir = tempfile::tempdir().unwrap();
+    let figures = dir.path().join("fig");
+    let out = crate::common::thetaseek()
+        .arg("analyze")
+        .arg(crate::common::demo())
+        .args(["--quiet", "--figure-format", "svg,png,pdf", "--figures"])
+        .arg(&figures)
+        .output()
+        .unwrap();
+    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+    let stem = figures.join("px-40-in-mirane-a2-temperature");
+    let svg = std::fs::read_to_string(stem.with_extension("svg")).unwrap();
+    let doc = roxmltree::Document::parse(&svg).unwrap();
+    let width: f64 = doc.root_element().attribute("width").unwrap().parse().unwrap();
+    let height: f64 = doc.root_element().attribute("height").unwrap().parse().unwrap();
+    let (w, h, phys) = png_facts(&std::fs::read(stem.with_extension("png")).unwrap());
+    assert_eq!((w, h), ((width * 300.0 / 96.0).round() as u32, (height * 300.0 / 96.0).round() as u32));
+    // 300 dpi = 11 811 pixels per metre (300 / 0.0254).
+    assert_eq!(phys, Some(11_811));
+    let pdf = std::fs::read(stem.with_extension("pdf")).unwrap();
+    assert!(pdf.starts_with(b"%PDF-"));
+    let text = String::from_utf8_lossy(&pdf);
+    assert!(text.contains("/Count 1") && text.matches("/Type /Pages").count() == 1, "one page");
+    let media = format!("{} {}", width * 72.0 / 96.0, height * 72.0 / 96.0);
+    assert!(text.contains(&format!("/MediaBox [0 0 {media}]")), "page of {media} pt");
+    assert!(text.contains("DejaVuSans"), "the shipped font is embedded (text drawn)");
+    let count = |ext: &str| {
+        std::fs::read_dir(&figures)
+            .unwrap()
+            .filter(|e| e.as_ref().unwrap().path().extension().is_some_and(|x| x == ext))
+            .count()
+    };
+    assert!(count("svg") > 4 && count("svg") == count("png") && count("png") == count("pdf"));
+}
+
+/// Text survives the conversions: a PNG of a figure with only a word in it is not blank (with no
+/// font loaded the renderer would drop the text silently).
+#[test]
+fn png_text_is_drawn_with_the_shipped_font() {
+    let svg = r#"<svg xmlns="http://www.w3.org/2000/svg" width="120" height="40"><text x="4" y="30" font-family="sans-serif" font-size="24">θ A2</text></svg>"#;
+    let png = thetaseek::plot::to_png(svg).unwrap();
+    let blank =
+        thetaseek::plot::to_png(r#"<svg xmlns="http://www.w3.org/2000/svg" width="120" height="40"></svg>"#).unwrap();
+    assert_ne!(png.len(), blank.len(), "the word was drawn");
+}
+
+/// `plan --figure` and `next --figure` take the format from the path: `.png`, `.pdf`, else SVG.
+#[test]
+fn plan_and_next_figures_follow_their_extension() {
+    let dir = tempfile::tempdir().unwrap();
+    let (png, pdf) = (dir.path().join("plan.png"), dir.path().join("next.pdf"));
+    let solvents = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("data/px40-solvents.csv");
+    let status = crate::common::thetaseek()
+        .args(["plan", "--quiet", "--molar-mass", "185000", "--solvents"])
+        .arg(&solvents)
+        .arg("--figure")
+        .arg(&png)
+        .arg(crate::common::demo())
+        .output()
+        .unwrap();
+    assert!(status.status.success(), "{}", String::from_utf8_lossy(&status.stderr));
+    assert_eq!(png_facts(&std::fs::read(&png).unwrap()).2, Some(11_811));
+    let status = crate::common::thetaseek()
+        .args(["next", "--quiet", "--figure"])
+        .arg(&pdf)
+        .arg(crate::common::demo())
+        .output()
+        .unwrap();
+    assert!(status.status.success(), "{}", String::from_utf8_lossy(&status.stderr));
+    assert!(std::fs::read(&pdf).unwrap().starts_with(b"%PDF-"));
+}
