@@ -44,6 +44,14 @@ fn x_range(theta: &ThetaReport) -> (f64, f64) {
     (lo - pad, hi + pad)
 }
 
+/// The legend's words for θ's interval.
+fn interval_label(theta: &ThetaReport) -> String {
+    match theta.ci_method {
+        crate::theta::IntervalMethod::Fieller => format!("{:.0} % Fieller interval of θ", theta.confidence * 100.0),
+        method => format!("{:.0} % interval of θ ({method})", theta.confidence * 100.0),
+    }
+}
+
 struct Curve {
     t: Vec<f64>,
     value: Vec<f64>,
@@ -100,12 +108,7 @@ pub fn draw_a2_temperature(
         if theta.ci_low_k.is_some() || theta.ci_high_k.is_some() {
             chart
                 .draw_series(std::iter::once(Rectangle::new([(lo, y_lo), (hi, y_hi)], GREY.mix(0.15).filled())))?
-                .label(match theta.ci_method {
-                    crate::theta::IntervalMethod::Fieller => {
-                        format!("{:.0} % Fieller interval of θ", theta.confidence * 100.0)
-                    }
-                    method => format!("{:.0} % interval of θ ({method})", theta.confidence * 100.0),
-                })
+                .label(interval_label(theta))
                 .legend(|(x, y)| Rectangle::new([(x, y - 5), (x + 18, y + 5)], GREY.mix(0.3).filled()));
         }
         chart
@@ -171,14 +174,46 @@ pub fn draw_a2_temperature(
         .label("measured, ± 1 SE")
         .legend(move |(x, y)| marker_element(marker, (x + 9, y), 5, colour));
 
-    draw_legend(
-        &mut chart,
-        if theta.sense == Some(crate::theta::Sense::Lcst) {
-            SeriesLabelPosition::UpperRight
-        } else {
-            SeriesLabelPosition::UpperLeft
-        },
-    )?;
+    // The legend goes where it covers no reading, no fitted line and neither θ nor its interval.
+    let px = |x: f64, y: f64| chart.backend_coord(&(x, y));
+    let mut occupied: Vec<(i32, i32)> = theta
+        .points
+        .iter()
+        .flat_map(|p| {
+            let se = p.se.unwrap_or(0.0);
+            [-1.0, 0.0, 1.0].map(|k| px(p.temperature_k, (p.value + k * se) * scale))
+        })
+        .collect();
+    if let Some(c) = &curve {
+        occupied.extend(c.t.iter().zip(&c.value).map(|(t, v)| px(*t, v * scale)));
+    }
+    let mut bands = Vec::new();
+    if let Some(th) = theta.theta_k {
+        let at = px(th, y_lo).0;
+        // The line and its "θ" label.
+        bands.push((at - 4, at + 14));
+        if theta.ci_low_k.is_some() || theta.ci_high_k.is_some() {
+            let lo = px(theta.ci_low_k.unwrap_or(x_lo).max(x_lo), y_lo).0;
+            let hi = px(theta.ci_high_k.unwrap_or(x_hi).min(x_hi), y_lo).0;
+            bands.push((lo, hi));
+        }
+    }
+    // Its longest labels: the interval's, θ's (as drawn above), the fit's.
+    let labels = [
+        interval_label(theta),
+        theta.theta_k.map_or(String::new(), |th| {
+            format!("θ = {th:.2} K ({:.2} °C), {}", kelvin_to_celsius(th), theta.crossing.name())
+        }),
+        "Flory–Krigbaum fit, A2 = a + b/T".to_string(),
+    ];
+    let chars = labels.iter().map(|l| l.chars().count()).max().unwrap_or(30);
+    let preferred = if theta.sense == Some(crate::theta::Sense::Lcst) {
+        SeriesLabelPosition::UpperRight
+    } else {
+        SeriesLabelPosition::UpperLeft
+    };
+    let area = chart.plotting_area().get_pixel_range();
+    draw_legend(&mut chart, super::free_corner(area, 5, chars, &occupied, &bands, preferred))?;
     Ok(())
 }
 

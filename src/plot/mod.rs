@@ -228,6 +228,47 @@ pub fn draw_legend<'a, 'b: 'a>(chart: &mut Chart<'a, 'b>, position: SeriesLabelP
     Ok(())
 }
 
+/// The corner for a legend of `entries` rows whose longest label has `chars` characters, that
+/// covers none of `occupied` (pixel points of the data and fitted lines) and no `bands` (pixel x
+/// ranges drawn the plot's full height: θ and its interval): `preferred` when it is free, else
+/// the first free corner, else the one covering least. `area` is the plotting area in pixels.
+pub fn free_corner(
+    area: (std::ops::Range<i32>, std::ops::Range<i32>),
+    entries: usize,
+    chars: usize,
+    occupied: &[(i32, i32)],
+    bands: &[(i32, i32)],
+    preferred: SeriesLabelPosition,
+) -> SeriesLabelPosition {
+    // The box plotters draws (measured on our figures: 19 px a row, 45 px + 6.6 px a
+    // character), 5 px from the corner, with 8 px to spare around it.
+    let (w, h) = (45 + (6.6 * chars as f64).ceil() as i32 + 16, 19 * entries as i32 + 18);
+    let (x, y) = area;
+    let corner_box = |c: &SeriesLabelPosition| {
+        let left = matches!(c, SeriesLabelPosition::UpperLeft | SeriesLabelPosition::LowerLeft);
+        let upper = matches!(c, SeriesLabelPosition::UpperLeft | SeriesLabelPosition::UpperRight);
+        let x0 = if left { x.start } else { x.end - w };
+        let y0 = if upper { y.start } else { y.end - h };
+        (x0, y0, x0 + w, y0 + h)
+    };
+    let covered = |c: &SeriesLabelPosition| {
+        let (x0, y0, x1, y1) = corner_box(c);
+        let points = occupied.iter().filter(|(px, py)| (x0..=x1).contains(px) && (y0..=y1).contains(py)).count();
+        let crossed = bands.iter().filter(|(a, b)| *a.min(b) <= x1 && *a.max(b) >= x0).count();
+        points + 1000 * crossed
+    };
+    let corners = [
+        SeriesLabelPosition::UpperLeft,
+        SeriesLabelPosition::UpperRight,
+        SeriesLabelPosition::LowerRight,
+        SeriesLabelPosition::LowerLeft,
+    ];
+    if covered(&preferred) == 0 {
+        return preferred;
+    }
+    corners.into_iter().min_by_key(|c| covered(c)).unwrap_or(preferred)
+}
+
 /// Renders `draw` into an SVG document of `width`×`height` px.
 pub fn render_svg(
     width: u32,

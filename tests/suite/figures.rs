@@ -217,3 +217,110 @@ fn plan_and_next_figures_follow_their_extension() {
     assert!(status.status.success(), "{}", String::from_utf8_lossy(&status.stderr));
     assert!(std::fs::read(&pdf).unwrap().starts_with(b"%PDF-"));
 }
+
+/// Every point of the elements drawn before an A2(T) figure's legend box (readings, error bars,
+/// the fitted line and its band, θ, its interval and its label), in pixels; grid lines (drawn
+/// faint) and the axes (on the plot's edge) left out. Returns the legend box and the points.
+/// A box in pixels: left, top, right, bottom.
+type PixelBox = (f64, f64, f64, f64);
+
+fn legend_and_drawn(svg: &str) -> (PixelBox, Vec<(f64, f64)>) {
+    let doc = roxmltree::Document::parse(svg).unwrap();
+    let nodes: Vec<roxmltree::Node> = doc.descendants().filter(|n| n.is_element()).collect();
+    let at = nodes
+        .iter()
+        .position(|n| n.has_tag_name("rect") && n.attribute("opacity") == Some("0.85"))
+        .expect("a legend box");
+    let num = |n: &roxmltree::Node, a: &str| n.attribute(a).unwrap().parse::<f64>().unwrap();
+    let legend = &nodes[at];
+    let (x, y) = (num(legend, "x"), num(legend, "y"));
+    let boxed = (x, y, x + num(legend, "width"), y + num(legend, "height"));
+    let mut points = Vec::new();
+    for n in &nodes[..at] {
+        let faint = n.attribute("opacity").and_then(|o| o.parse::<f64>().ok()).is_some_and(|o| o < 0.1);
+        let axis = n.attribute("stroke") == Some("#000000");
+        if faint || axis {
+            continue;
+        }
+        match n.tag_name().name() {
+            "polyline" | "polygon" => {
+                for pair in n.attribute("points").unwrap_or("").split_whitespace() {
+                    let (a, b) = pair.split_once(',').unwrap();
+                    points.push((a.parse().unwrap(), b.parse().unwrap()));
+                }
+            }
+            "circle" => points.push((num(n, "cx"), num(n, "cy"))),
+            "rect" => {
+                // The θ interval: its corners and the points along its left and right edges.
+                let (x0, y0) = (num(n, "x"), num(n, "y"));
+                let (x1, y1) = (x0 + num(n, "width"), y0 + num(n, "height"));
+                for k in 0..=40 {
+                    let yk = y0 + (y1 - y0) * k as f64 / 40.0;
+                    points.extend([(x0, yk), (x1, yk), ((x0 + x1) / 2.0, yk)]);
+                }
+            }
+            "text" if n.text().is_some_and(|t| t.trim() == "θ") => points.push((num(n, "x"), num(n, "y"))),
+            _ => {}
+        }
+    }
+    (boxed, points)
+}
+
+/// Issue #26: the legend never covers a reading, the fitted line, θ or its interval. Checked on
+/// the drawn SVG, against every element drawn before the legend, for the demo's two A2(T)
+/// figures (the ostrol one used to hide θ) and for θ at the edge of the range and LCST series.
+#[test]
+fn the_a2_legend_covers_no_drawn_element() {
+    let mut svgs: Vec<(String, String)> = Vec::new();
+    let dir = tempfile::tempdir().unwrap();
+    let out = crate::common::thetaseek()
+        .arg("analyze")
+        .arg(crate::common::demo())
+        .args(["--quiet", "--figures"])
+        .arg(dir.path())
+        .output()
+        .unwrap();
+    assert!(out.status.success());
+    for name in ["px-40-in-mirane-a2-temperature.svg", "px-40-in-ostrol-a2-temperature.svg"] {
+        svgs.push((name.into(), std::fs::read_to_string(dir.path().join(name)).unwrap()));
+    }
+    let mut rng = ChaCha8Rng::seed_from_u64(26);
+    // θ at the low edge, at the high edge, and LCST-type (A2 falls as T rises: ψ1 < 0 by θ above).
+    let cases: [(&str, f64, &[f64]); 3] = [
+        ("low edge", 291.0, &[290.0, 295.0, 300.0, 305.0, 310.0, 315.0]),
+        ("high edge", 314.0, &[290.0, 295.0, 300.0, 305.0, 310.0, 315.0]),
+        ("wide", 302.0, &[280.0, 300.0, 320.0]),
+    ];
+    for (name, theta, temps) in cases {
+        let report = report_of(&readings(name, temps, theta, &C, &mut rng));
+        for f in
+            figures_for_report(&report).unwrap().into_iter().filter(|f| f.file_name.ends_with("a2-temperature.svg"))
+        {
+            svgs.push((format!("{name}: {}", f.file_name), f.svg));
+        }
+    }
+    let lcst: Vec<Measurement> = [280.0, 290.0, 300.0, 310.0, 320.0]
+        .iter()
+        .flat_map(|&t| {
+            let a2 = -flory_krigbaum_a2(t, 300.0, 0.4, 0.9e-3, 100e-6);
+            let truth = VirialTruth::with_good_solvent_curvature(t, 150.0, a2);
+            simulate(&truth, &C, Noise { absolute_pa: 0.3, relative: 0.003 }, &mut rng)
+                .into_iter()
+                .map(move |(c, p, _)| Measurement::simulated("lcst", t, c, p))
+        })
+        .collect();
+    for f in figures_for_report(&report_of(&lcst))
+        .unwrap()
+        .into_iter()
+        .filter(|f| f.file_name.ends_with("a2-temperature.svg"))
+    {
+        svgs.push((format!("LCST: {}", f.file_name), f.svg));
+    }
+    assert!(svgs.len() >= 6);
+    for (name, svg) in &svgs {
+        let ((x0, y0, x1, y1), points) = legend_and_drawn(svg);
+        let inside: Vec<&(f64, f64)> =
+            points.iter().filter(|(x, y)| *x > x0 && *x < x1 && *y > y0 && *y < y1).collect();
+        assert!(inside.is_empty(), "{name}: the legend ({x0},{y0})–({x1},{y1}) covers {inside:?}");
+    }
+}
