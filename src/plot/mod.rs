@@ -240,6 +240,18 @@ pub fn free_corner(
     bands: &[(i32, i32)],
     preferred: SeriesLabelPosition,
 ) -> SeriesLabelPosition {
+    legend_corner(area, entries, chars, occupied, bands, preferred).0
+}
+
+/// [`free_corner`] with what the chosen corner still covers (0 when it is free).
+pub fn legend_corner(
+    area: (std::ops::Range<i32>, std::ops::Range<i32>),
+    entries: usize,
+    chars: usize,
+    occupied: &[(i32, i32)],
+    bands: &[(i32, i32)],
+    preferred: SeriesLabelPosition,
+) -> (SeriesLabelPosition, usize) {
     // The box plotters draws (measured on our figures: 19 px a row, 45 px + 6.6 px a
     // character), 5 px from the corner, with 8 px to spare around it.
     let (w, h) = (45 + (6.6 * chars as f64).ceil() as i32 + 16, 19 * entries as i32 + 18);
@@ -264,9 +276,11 @@ pub fn free_corner(
         SeriesLabelPosition::LowerLeft,
     ];
     if covered(&preferred) == 0 {
-        return preferred;
+        return (preferred, 0);
     }
-    corners.into_iter().min_by_key(|c| covered(c)).unwrap_or(preferred)
+    let best = corners.into_iter().min_by_key(|c| covered(c)).unwrap_or(preferred);
+    let left = covered(&best);
+    (best, left)
 }
 
 /// Renders `draw` into an SVG document of `width`×`height` px.

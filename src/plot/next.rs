@@ -32,7 +32,28 @@ pub fn draw_next(root: &DrawingArea<SVGBackend, Shift>, designs: &[SeriesDesign]
         temps.iter().copied().fold(f64::INFINITY, f64::min),
         temps.iter().copied().fold(f64::NEG_INFINITY, f64::max),
     );
-    let (y_lo, y_hi) = super::axis(0.0, widths.iter().copied().fold(0.0, f64::max) * 1.15);
+    let top = widths.iter().copied().fold(0.0, f64::max);
+    // Headroom grows until the legend has a corner where it covers no curve, no "today" line and
+    // no recommended run (the lines of today's widths cross the whole chart).
+    for headroom in [1.15, 1.5, 2.0, 2.6] {
+        root.fill(&WHITE)?;
+        if draw_chart(root, designs, (x_lo, x_hi), top * headroom, headroom == 2.6)? {
+            break;
+        }
+    }
+    Ok(())
+}
+
+/// Draws the chart with its y axis up to `y_max`; returns false without a legend when the legend
+/// would cover something (unless `last`, when it goes to the corner covering least).
+fn draw_chart(
+    root: &DrawingArea<SVGBackend, Shift>,
+    designs: &[SeriesDesign],
+    (x_lo, x_hi): (f64, f64),
+    y_max: f64,
+    last: bool,
+) -> Result<bool, FigureError> {
+    let (y_lo, y_hi) = super::axis(0.0, y_max);
     let mut chart = super::plain_chart(
         root,
         "Where to measure next",
@@ -63,5 +84,27 @@ pub fn draw_next(root: &DrawingArea<SVGBackend, Shift>, designs: &[SeriesDesign]
             }),
         )?;
     }
-    draw_legend(&mut chart, SeriesLabelPosition::UpperRight)
+    let mut occupied = Vec::new();
+    let mut labels = Vec::new();
+    for d in designs {
+        occupied.extend(
+            d.candidates
+                .iter()
+                .filter_map(|c| c.predicted_ci_width_k.map(|w| chart.backend_coord(&(c.temperature_c, w)))),
+        );
+        labels.push(format!("{}: after one more run", d.name));
+        if let Some(now) = d.current.ci_width_k {
+            occupied.extend((0..=100).map(|k| chart.backend_coord(&(x_lo + (x_hi - x_lo) * k as f64 / 100.0, now))));
+            labels.push(format!("{}: today ({now:.2} K)", d.name));
+        }
+    }
+    let chars = labels.iter().map(|l| l.chars().count()).max().unwrap_or(20);
+    let area = chart.plotting_area().get_pixel_range();
+    let (corner, covered) =
+        super::legend_corner(area, labels.len(), chars, &occupied, &[], SeriesLabelPosition::UpperRight);
+    if covered > 0 && !last {
+        return Ok(false);
+    }
+    draw_legend(&mut chart, corner)?;
+    Ok(true)
 }

@@ -268,9 +268,10 @@ fn legend_and_drawn(svg: &str) -> (PixelBox, Vec<(f64, f64)>) {
 
 /// Issue #26: the legend never covers a reading, the fitted line, θ or its interval. Checked on
 /// the drawn SVG, against every element drawn before the legend, for the demo's two A2(T)
-/// figures (the ostrol one used to hide θ) and for θ at the edge of the range and LCST series.
+/// figures (the ostrol one used to hide θ), for θ at the edge of the range and LCST series, and
+/// for the `next` figure (its "today" lines used to run through the legend).
 #[test]
-fn the_a2_legend_covers_no_drawn_element() {
+fn legends_cover_no_drawn_element() {
     let mut svgs: Vec<(String, String)> = Vec::new();
     let dir = tempfile::tempdir().unwrap();
     let out = crate::common::thetaseek()
@@ -316,7 +317,17 @@ fn the_a2_legend_covers_no_drawn_element() {
     {
         svgs.push((format!("LCST: {}", f.file_name), f.svg));
     }
-    assert!(svgs.len() >= 6);
+    // The `next` figure, whose lines of today's widths cross the whole chart.
+    let next = dir.path().join("next.svg");
+    let out = crate::common::thetaseek()
+        .args(["next", "--quiet", "--figure"])
+        .arg(&next)
+        .arg(crate::common::demo())
+        .output()
+        .unwrap();
+    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+    svgs.push(("next".into(), std::fs::read_to_string(&next).unwrap()));
+    assert!(svgs.len() >= 7);
     for (name, svg) in &svgs {
         let ((x0, y0, x1, y1), points) = legend_and_drawn(svg);
         let inside: Vec<&(f64, f64)> =
