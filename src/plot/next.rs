@@ -35,9 +35,10 @@ pub fn draw_next(root: &DrawingArea<SVGBackend, Shift>, designs: &[SeriesDesign]
     let top = widths.iter().copied().fold(0.0, f64::max);
     // Headroom grows until the legend has a corner where it covers no curve, no "today" line and
     // no recommended run (the lines of today's widths cross the whole chart).
-    for headroom in [1.15, 1.5, 2.0, 2.6] {
+    const HEADROOM: [f64; 4] = [1.15, 1.5, 2.0, 2.6];
+    for (i, headroom) in HEADROOM.iter().enumerate() {
         root.fill(&WHITE)?;
-        if draw_chart(root, designs, (x_lo, x_hi), top * headroom, headroom == 2.6)? {
+        if draw_chart(root, designs, (x_lo, x_hi), top * headroom, i + 1 == HEADROOM.len())? {
             break;
         }
     }
