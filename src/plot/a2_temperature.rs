@@ -213,7 +213,7 @@ pub fn draw_a2_temperature(
         SeriesLabelPosition::UpperLeft
     };
     let area = chart.plotting_area().get_pixel_range();
-    draw_legend(&mut chart, super::free_corner(area, 5, chars, &occupied, &bands, preferred))?;
+    draw_legend(&mut chart, super::legend_corner(area, 5, chars, &occupied, &bands, preferred).0)?;
     Ok(())
 }
 

@@ -231,19 +231,8 @@ pub fn draw_legend<'a, 'b: 'a>(chart: &mut Chart<'a, 'b>, position: SeriesLabelP
 /// The corner for a legend of `entries` rows whose longest label has `chars` characters, that
 /// covers none of `occupied` (pixel points of the data and fitted lines) and no `bands` (pixel x
 /// ranges drawn the plot's full height: θ and its interval): `preferred` when it is free, else
-/// the first free corner, else the one covering least. `area` is the plotting area in pixels.
-pub fn free_corner(
-    area: (std::ops::Range<i32>, std::ops::Range<i32>),
-    entries: usize,
-    chars: usize,
-    occupied: &[(i32, i32)],
-    bands: &[(i32, i32)],
-    preferred: SeriesLabelPosition,
-) -> SeriesLabelPosition {
-    legend_corner(area, entries, chars, occupied, bands, preferred).0
-}
-
-/// [`free_corner`] with what the chosen corner still covers (0 when it is free).
+/// the first free corner, else the one covering least; with what it still covers (0: free).
+/// `area` is the plotting area in pixels.
 pub fn legend_corner(
     area: (std::ops::Range<i32>, std::ops::Range<i32>),
     entries: usize,
